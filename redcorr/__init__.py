@@ -1,0 +1,11 @@
+"""redcorr: interstellar extinction through real filters, and reddening correction.
+
+The core (curves, and later grains, bands and correction) is pure array
+code; files are read and written only in :mod:`redcorr.io`; the command
+line (:mod:`redcorr.cli`) and the terminal UI are thin shells over both.
+"""
+
+from redcorr.curves import ExtinctionCurve, TabulatedCurve, get_curve, list_curves
+
+__all__ = ["ExtinctionCurve", "TabulatedCurve", "get_curve", "list_curves"]
+__version__ = "0.1.0"

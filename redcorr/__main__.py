@@ -1,0 +1,7 @@
+"""Allow ``python -m redcorr``."""
+
+import sys
+
+from redcorr.cli import main
+
+sys.exit(main())

@@ -1,0 +1,110 @@
+"""Shared input checks, so that every error message is worded the same way.
+
+Each check raises :class:`~redcorr.exceptions.InputError` with the name of
+the argument, the offending value and what is allowed.
+"""
+
+import difflib
+import math
+
+import numpy as np
+from astropy import units as u
+
+from redcorr.exceptions import InputError, UnknownNameError
+
+__all__ = [
+    "check_choice",
+    "check_finite",
+    "check_positive",
+    "check_range",
+    "inverse_micron",
+]
+
+
+def check_finite(name, value):
+    """Return ``float(value)`` or raise if it is not a finite number."""
+    try:
+        out = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}={value!r} is not a number") from None
+    if not math.isfinite(out):
+        raise InputError(f"{name}={value!r} must be a finite number")
+    return out
+
+
+def check_positive(name, value):
+    """Return ``float(value)`` or raise if it is not a finite number > 0."""
+    out = check_finite(name, value)
+    if out <= 0:
+        raise InputError(f"{name}={value!r} must be > 0")
+    return out
+
+
+def check_range(name, value, lo, hi):
+    """Return ``float(value)`` or raise if it is not finite within ``[lo, hi]``."""
+    out = check_finite(name, value)
+    if not lo <= out <= hi:
+        raise InputError(f"{name}={value!r} is outside the allowed range [{lo:g}, {hi:g}]")
+    return out
+
+
+def check_choice(name, value, choices):
+    """Return the canonical choice matching ``value`` case-insensitively.
+
+    Raises
+    ------
+    UnknownNameError
+        With up to three close matches, or the full list when few exist.
+    """
+    lookup = {str(c).lower(): c for c in choices}
+    key = str(value).strip().lower()
+    if key in lookup:
+        return lookup[key]
+    close = difflib.get_close_matches(key, list(lookup), n=3, cutoff=0.5)
+    if close:
+        hint = "did you mean " + ", ".join(repr(lookup[c]) for c in close) + "?"
+    elif len(lookup) <= 12:
+        hint = "choose from " + ", ".join(repr(c) for c in choices)
+    else:
+        hint = f"{len(lookup)} names are known; list them with --list"
+    raise UnknownNameError(f"{name}={value!r} is not known; {hint}")
+
+
+def inverse_micron(wave, name="wave"):
+    """Convert wavelengths to wavenumbers x = 1/λ in µm⁻¹ as a float64 array.
+
+    Parameters
+    ----------
+    wave : float, array_like or `~astropy.units.Quantity`
+        Plain numbers are wavelengths in µm. A Quantity may carry any unit
+        of length, frequency, energy or wavenumber (``u.spectral()``).
+    name : str
+        Argument name used in error messages.
+
+    Returns
+    -------
+    x : ndarray
+        Wavenumber in µm⁻¹, same shape as ``wave``. NaN stays NaN.
+    """
+    if isinstance(wave, u.Quantity):
+        try:
+            x = wave.to_value(u.um**-1, equivalencies=u.spectral())
+        except u.UnitConversionError:
+            raise InputError(
+                f"{name} has unit {wave.unit!s}; a length, frequency, energy "
+                "or wavenumber unit is needed"
+            ) from None
+        x = np.asarray(x, dtype=float)
+    else:
+        try:
+            lam = np.asarray(wave, dtype=float)
+        except (TypeError, ValueError):
+            raise InputError(f"{name}={wave!r} is not numeric") from None
+        with np.errstate(divide="ignore", invalid="ignore"):
+            x = 1.0 / lam
+    bad = np.isfinite(x) & (x <= 0)
+    bad |= np.isinf(x)
+    if np.any(bad):
+        first = np.asarray(wave)[bad].flat[0] if not isinstance(wave, u.Quantity) else wave[bad].flat[0]
+        raise InputError(f"{name}={first} is not a positive wavelength")
+    return x

@@ -1,0 +1,73 @@
+"""Helpers shared by the subcommands: argument types and output formatting."""
+
+import argparse
+import json
+import math
+import sys
+
+from astropy import units as u
+
+__all__ = ["WAVE_UNITS", "print_json", "print_table", "finite_float"]
+
+WAVE_UNITS = {"um": u.um, "nm": u.nm, "AA": u.AA, "invum": u.um**-1}
+"""Choices of ``--unit``: micron, nanometre, ångström, inverse micron."""
+
+
+def finite_float(text):
+    """argparse type: a finite float, with a message that quotes the value."""
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+    if not math.isfinite(value):
+        raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
+    return value
+
+
+def _clean(value):
+    """JSON has no NaN: write it as null."""
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, dict):
+        return {k: _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    return value
+
+
+def print_json(obj, file=None):
+    """Print ``obj`` as indented, standard JSON (NaN becomes null)."""
+    json.dump(_clean(obj), file or sys.stdout, indent=2, allow_nan=False)
+    print(file=file or sys.stdout)
+
+
+def print_table(rows, columns, formats=None, file=None):
+    """Print dict rows as an aligned text table.
+
+    Parameters
+    ----------
+    rows : list of dict
+    columns : list of str
+        Keys to show, in order; also the header.
+    formats : dict, optional
+        Key → format spec for values (default ``.4f`` for floats).
+    """
+    formats = formats or {}
+    cells = [list(columns)]
+    numeric = [all(isinstance(row[c], (int, float)) for row in rows) for c in columns]
+    for row in rows:
+        line = []
+        for col in columns:
+            value = row[col]
+            if isinstance(value, float):
+                line.append("nan" if math.isnan(value) else format(value, formats.get(col, ".4f")))
+            else:
+                line.append(str(value))
+        cells.append(line)
+    widths = [max(len(r[i]) for r in cells) for i in range(len(columns))]
+    out = file or sys.stdout
+    for i, line in enumerate(cells):
+        text = (c.rjust(w) if num else c.ljust(w) for c, w, num in zip(line, widths, numeric))
+        print("  ".join(text).rstrip(), file=out)
+        if i == 0:
+            print("  ".join("-" * w for w in widths), file=out)

@@ -1,0 +1,80 @@
+"""``redcorr curve``: evaluate an extinction law at given wavelengths."""
+
+import numpy as np
+from astropy import units as u
+
+from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table
+from redcorr.curves import list_curves
+from redcorr.exceptions import InputError
+from redcorr.io import load_curve
+
+__all__ = ["add_parser", "run"]
+
+
+def add_parser(sub):
+    p = sub.add_parser(
+        "curve",
+        help="evaluate an extinction law A(λ)/A(V) at wavelengths",
+        description=(
+            "Evaluate A(λ)/A(V) and A(λ)/E(B-V) of a law at the given wavelengths. "
+            "LAW is a name from --list or file:PATH for a table (ECSV, or CSV with "
+            "wavelength_um and A_over_AV columns)."
+        ),
+    )
+    p.add_argument("law", nargs="?", metavar="LAW", help="law name or file:PATH")
+    p.add_argument("--list", action="store_true", help="list every law with its ranges and citation")
+    p.add_argument("--rv", type=finite_float, metavar="R", help="R_V = A(V)/E(B-V) (law default if omitted)")
+    p.add_argument("--wave", nargs="+", type=finite_float, metavar="W", help="wavelengths, in --unit")
+    p.add_argument("--unit", choices=sorted(WAVE_UNITS), default="um", help="unit of --wave (default um)")
+    p.add_argument("--extrapolate", action="store_true", help="evaluate outside the law's range, with a warning")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.add_argument("--plot", metavar="FILE.png", help="also draw A(λ)/A(V) against 1/λ into a PNG")
+    p.set_defaults(func=run)
+
+
+def _list(as_json):
+    rows = []
+    for info in list_curves():
+        r_lo_hi = info["r_v_range"]
+        rows.append(
+            {
+                "name": info["name"],
+                "R_V": f"{info['default_r_v']:g}" + ("" if r_lo_hi else " (fixed)"),
+                "R_V_range": f"{r_lo_hi[0]:g}-{r_lo_hi[1]:g}" if r_lo_hi else "-",
+                "wave_um": "{:.3f}-{:.3f}".format(*info["wave_range_um"]),
+                "citation": info["citation"],
+            }
+        )
+    if as_json:
+        print_json(list_curves())
+    else:
+        print_table(rows, ["name", "R_V", "R_V_range", "wave_um", "citation"])
+        print("Also: file:PATH, a tabulated curve (ECSV or CSV: wavelength_um, A_over_AV).")
+    return 0
+
+
+def run(args):
+    if args.list:
+        return _list(args.json)
+    if not args.law:
+        raise InputError("LAW is missing; give a law name (see --list) or file:PATH")
+    if not args.wave:
+        raise InputError("--wave is missing; give one or more wavelengths")
+    curve = load_curve(args.law, r_v=args.rv)
+    wave = np.asarray(args.wave) * WAVE_UNITS[args.unit]
+    wave_um = wave.to_value(u.um, equivalencies=u.spectral())
+    ratio = np.atleast_1d(curve(wave, extrapolate=args.extrapolate))
+    rows = [
+        {"wavelength_um": float(w), "A_over_AV": float(r), "A_over_EBV": float(r * curve.r_v)}
+        for w, r in zip(np.atleast_1d(wave_um), ratio)
+    ]
+    if args.plot:
+        from redcorr.plotting import plot_curve  # noqa: PLC0415 - matplotlib only when asked
+
+        plot_curve(curve, args.plot, marks=wave_um, extrapolate=args.extrapolate)
+    if args.json:
+        print_json(rows)
+    else:
+        print(f"# {curve.name}, R_V = {curve.r_v:g}; {curve.citation}")
+        print_table(rows, ["wavelength_um", "A_over_AV", "A_over_EBV"])
+    return 0

@@ -1,0 +1,6 @@
+"""The edge of redcorr that touches files; the physics modules never do."""
+
+from redcorr.io._atomic import atomic_path, check_output_path
+from redcorr.io.curves import load_curve, read_curve_table
+
+__all__ = ["atomic_path", "check_output_path", "load_curve", "read_curve_table"]

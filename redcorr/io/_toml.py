@@ -1,0 +1,25 @@
+"""TOML reading for description files (instrument, map, grain model, demo)."""
+
+import sys
+from pathlib import Path
+
+from redcorr.exceptions import InputError
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover - exercised on Python 3.10 only
+    import tomli as tomllib
+
+__all__ = ["load_toml"]
+
+
+def load_toml(path, what="file"):
+    """Parse a TOML file into a dict, with a clear error for a missing or malformed file."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"{what} {str(path)!r} does not exist")
+    try:
+        with path.open("rb") as fh:
+            return tomllib.load(fh)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{what} {str(path)!r} is not valid TOML: {exc}") from None

@@ -1,0 +1,86 @@
+"""Read tabulated extinction curves from user files (ECSV or CSV)."""
+
+from pathlib import Path
+
+import numpy as np
+from astropy import units as u
+from astropy.table import Table
+
+from redcorr.curves import TabulatedCurve, get_curve
+from redcorr.exceptions import InputError
+
+__all__ = ["read_curve_table", "load_curve"]
+
+_FILE_PREFIX = "file:"
+
+
+def read_curve_table(path):
+    """Read a tabulated A(λ)/A(V) curve.
+
+    Parameters
+    ----------
+    path : path-like
+        ECSV (``.ecsv``) with a ``wavelength`` column carrying a unit of length,
+        frequency or wavenumber (or a unitless ``wavelength_um`` column) and an
+        ``A_over_AV`` column; or CSV with columns ``wavelength_um`` and
+        ``A_over_AV``. An ``R_V`` key in the ECSV meta sets R_V; a ``citation``
+        key names the source.
+
+    Returns
+    -------
+    TabulatedCurve
+    """
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"curve file {str(path)!r} does not exist")
+    fmt = "ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv"
+    try:
+        table = Table.read(path, format=fmt)
+    except Exception as exc:  # astropy raises many types for malformed text
+        raise InputError(f"curve file {str(path)!r} could not be read as {fmt[6:].upper()}: {exc}") from None
+    names = table.colnames
+    if "A_over_AV" not in names:
+        raise InputError(f"curve file {str(path)!r} has no 'A_over_AV' column; columns are {names}")
+    if "wavelength" in names and table["wavelength"].unit is not None:
+        wave = u.Quantity(table["wavelength"])
+    elif "wavelength_um" in names:
+        wave = np.asarray(table["wavelength_um"], dtype=float)
+    else:
+        raise InputError(
+            f"curve file {str(path)!r} needs a 'wavelength_um' column or a 'wavelength' column "
+            f"with a unit; columns are {names}"
+        )
+    try:
+        a_over_av = np.asarray(table["A_over_AV"], dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"curve file {str(path)!r}: column 'A_over_AV' is not numeric") from None
+    meta = table.meta or {}
+    try:
+        return TabulatedCurve(
+            wave,
+            a_over_av,
+            r_v=meta.get("R_V"),
+            name=f"file:{path.name}",
+            citation=str(meta.get("citation", f"user table {path.name}")),
+        )
+    except InputError as exc:
+        raise InputError(f"curve file {str(path)!r}: {exc}") from None
+
+
+def load_curve(spec, r_v=None):
+    """A curve from a law name or ``file:PATH``.
+
+    Parameters
+    ----------
+    spec : str
+        Registry name (see :func:`redcorr.curves.list_curves`) or
+        ``file:PATH`` for a table read by :func:`read_curve_table`.
+    r_v : float, optional
+        R_V for laws; for a file, overrides the file's own R_V.
+    """
+    if isinstance(spec, str) and spec.startswith(_FILE_PREFIX):
+        curve = read_curve_table(spec[len(_FILE_PREFIX):])
+        if r_v is not None:
+            curve = TabulatedCurve(*curve.table, r_v=r_v, name=curve.name, citation=curve.citation)
+        return curve
+    return get_curve(spec, r_v=r_v)
