@@ -1,9 +1,10 @@
 """The ``redcorr`` command line: a thin shell over the library.
 
-Each subcommand lives in its own module of this package with two functions,
-``add_parser(subparsers)`` (which registers the subcommand and sets
-``func=run`` as its default) and ``run(args) -> int``. Adding a command is
-adding a module and its name to ``COMMANDS``.
+Each subcommand lives in its own public module of this package with two
+functions, ``add_parser(subparsers)`` (which registers the subcommand and
+sets ``func=run`` as its default) and ``run(args) -> int``. Adding a command
+is adding such a module: they are discovered by name (modules whose names
+start with an underscore are helpers, not commands).
 
 Exit status: 0 on success, 2 for a user mistake (one line on stderr, no
 traceback), 1 for an unexpected failure, 130 on Ctrl-C.
@@ -12,6 +13,7 @@ traceback), 1 for an unexpected failure, 130 on Ctrl-C.
 import argparse
 import importlib
 import os
+import pkgutil
 import sys
 import traceback
 import warnings
@@ -20,7 +22,10 @@ from redcorr.exceptions import InputError
 
 __all__ = ["main", "build_parser", "COMMANDS"]
 
-COMMANDS = ("curve", "demo")
+COMMANDS = tuple(
+    sorted(m.name for m in pkgutil.iter_modules(__path__) if not m.name.startswith("_"))
+)
+"""Names of the subcommands, one module each."""
 
 
 def build_parser():
@@ -59,6 +64,9 @@ def main(argv=None):
         except (InputError, FileNotFoundError, IsADirectoryError, PermissionError) as exc:
             print(f"redcorr {args.command}: error: {exc}", file=sys.stderr)
             return 2
+        except BrokenPipeError:  # e.g. piped into head
+            sys.stderr.close()
+            return 0
         except KeyboardInterrupt:
             print("redcorr: interrupted", file=sys.stderr)
             return 130
