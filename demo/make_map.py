@@ -46,9 +46,9 @@ def brume_av(ra_deg, dec_deg):
     """Invented A_V (mag) of the Brume Cloud at ICRS positions."""
     dx = (np.asarray(ra_deg) - RA0) * np.cos(np.radians(DEC0))
     dy = np.asarray(dec_deg) - DEC0
-    background = 2.3 + 0.25 * dx + 0.1 * np.sin(9.0 * dx) * np.cos(7.0 * dy)
+    background = 2.45 + 0.25 * dx + 0.1 * np.sin(9.0 * dx) * np.cos(7.0 * dy)
     filament = 0.7 * np.exp(-0.5 * ((dy - 0.4 * dx + 0.05) / 0.07) ** 2)
-    core = 2.9 * np.exp(-0.5 * ((dx - 0.12) ** 2 + (dy + 0.02) ** 2) / 0.06**2)
+    core = 2.75 * np.exp(-0.5 * ((dx - 0.12) ** 2 + (dy + 0.02) ** 2) / 0.06**2)
     return background + filament + core
 
 

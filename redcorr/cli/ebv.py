@@ -21,7 +21,7 @@ def add_parser(sub):
             "Look up E(B-V) in a local dust map: a HEALPix FITS table, one or more FITS images "
             "with a celestial WCS, or a .toml map description. Positions are RA/Dec (ICRS unless "
             "--frame says otherwise) or galactic l/b, in degrees; give several as repeated values "
-            "or comma lists. Output ra_deg/dec_deg are ICRS, l_deg/b_deg galactic. Flag bits: "
+            "or comma lists (write a list starting with a minus sign as --dec=-27.4,-27.5). Output ra_deg/dec_deg are ICRS, l_deg/b_deg galactic. Flag bits: "
             + ", ".join(f"{bit} {name}" for bit, name in FLAG_NAMES.items())
             + " (0 = ok)."
         ),
@@ -67,7 +67,7 @@ def _positions(args):
         raise InputError(f"{missing} is missing; {lon_name} and {lat_name} go together")
     lon, lat = _numbers(lon_name, lon_text), _numbers(lat_name, lat_text)
     for value in lat:
-        check_range(lat_name, value, -90, 90)
+        check_range(lat_name, float(value), -90, 90)
     if lon.size != lat.size and 1 not in (lon.size, lat.size):
         raise InputError(f"{lon_name} has {lon.size} values and {lat_name} {lat.size}; give as many of each (or one)")
     lon, lat = np.broadcast_arrays(lon, lat)
