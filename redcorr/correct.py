@@ -815,9 +815,7 @@ class Correction:
                 values, mflags = self.map.lookup(lon[good], lat[good], frame=self.frame)
                 red[good] = np.asarray(values, float) * self.map_scale
                 map_flags[good] = np.asarray(mflags, np.uint8)
-            uncovered = good & ((map_flags != 0) | ~np.isfinite(red))
-            flags[uncovered] |= FLAG_BITS["map_coverage"]
-            red[uncovered] = np.nan
+            flags[good & ((map_flags != 0) | ~np.isfinite(red))] |= FLAG_BITS["map_coverage"]
         if self.red_err_col is not None:
             err = self._numeric(frame, self.red_err_col, flags)
         else:
@@ -1030,9 +1028,21 @@ def correct_dask(ddf, correction):
     return ddf.map_partitions(correction._correct, meta=meta)
 
 
-def summarise_dask(result, correction):
-    """A :class:`RunSummary` of a corrected Dask DataFrame (one pass over the flag and E(B-V) columns)."""
-    import dask  # noqa: PLC0415
+def summarise_dask(result, correction, also=(), **compute_options):
+    """A :class:`RunSummary` of a corrected Dask DataFrame.
+
+    Parameters
+    ----------
+    result : dask.dataframe.DataFrame
+        From :func:`correct_dask`.
+    correction : Correction
+    also : list of dask collections
+        Computed in the same pass (e.g. the delayed write of ``result``), so
+        the partitions are corrected only once.
+    **compute_options
+        Passed to :func:`dask.compute` (e.g. ``scheduler=client``).
+    """
+    import dask  # noqa: PLC0415 - optional dependency
 
     flags = result[FLAG_COLUMN]
     ebv = result["ebv_used"]
@@ -1042,7 +1052,7 @@ def summarise_dask(result, correction):
     if "teff_iterations" in result.columns:
         extra["it_max"] = result["teff_iterations"].max()
         extra["it_sum"] = result["teff_iterations"].sum()
-    counts, extra = dask.compute(counts, extra)
+    counts, extra, *_ = dask.compute(counts, extra, *also, **compute_options)
     summary = RunSummary(correction.setup())
     summary.rows = int(extra["rows"])
     summary.flagged = {k: int(v) for k, v in counts.items()}
