@@ -100,6 +100,8 @@ import pandas as pd
 
 from redcorr._validate import check_choice, check_finite, check_positive
 from redcorr.exceptions import InputError, OutOfRangeWarning
+from redcorr.extinction import band_extinction, band_ratio, coefficient_grid
+from redcorr.sed import blackbody
 
 __all__ = [
     "FLAG_BITS",
@@ -195,12 +197,6 @@ def _err_candidates(mag, label):
     return [p.format(s) for s in stems for p in pats]
 
 
-def _sed_blackbody(temperature):
-    from redcorr.sed import blackbody  # noqa: PLC0415 - keeps import of the module cheap
-
-    return blackbody(temperature)
-
-
 def _synthetic_ab(band, sed):
     """AB magnitude (up to a constant shared by all bands) of ``sed`` through ``band``.
 
@@ -211,7 +207,7 @@ def _synthetic_ab(band, sed):
     wave = np.asarray(band.wave_um, dtype=float)
     resp = np.asarray(band.response, dtype=float)
     flam = np.asarray(sed.flam(wave), dtype=float)
-    weight = wave if band.convention == "photon" else np.ones_like(wave)
+    weight = np.asarray(band.weight(wave), dtype=float)
     num = np.trapezoid(flam * resp * weight, wave)
     den = np.trapezoid(resp * weight / wave**2, wave)
     return -2.5 * np.log10(num / den)
@@ -223,7 +219,7 @@ class _ColourTable:
     def __init__(self, band1, band2, temperatures):
         self.log_t = np.log10(temperatures)
         self.colour = np.array(
-            [_synthetic_ab(band1, _sed_blackbody(t)) - _synthetic_ab(band2, _sed_blackbody(t)) for t in temperatures]
+            [_synthetic_ab(band1, blackbody(t)) - _synthetic_ab(band2, blackbody(t)) for t in temperatures]
         )
         order = np.argsort(self.colour)
         if np.any(np.diff(self.colour[order]) <= 0):
@@ -274,10 +270,8 @@ class _FixedTemperature:
     """Nonlinear A_b(A_V) at one source temperature, tabulated in A_V."""
 
     def __init__(self, curve, bands, temperature, extrapolate):
-        from redcorr.extinction import band_extinction  # noqa: PLC0415
-
         self.a_v = np.arange(0.0, _AV_MAX + _AV_STEP / 2, _AV_STEP)
-        sed = _sed_blackbody(temperature)
+        sed = blackbody(temperature)
         self.table = np.stack(
             [np.asarray(band_extinction(curve, b, sed, self.a_v, extrapolate=extrapolate), float) for b in bands]
         )
@@ -293,13 +287,11 @@ class _FixedTemperature:
 class _LinearCoefficients:
     """A_b = (A_b/A_V)·A_V with A_b/A_V at A_V → 0, fixed T or tabulated in log T."""
 
-    def __init__(self, curve, bands, temperatures):
-        from redcorr.extinction import band_ratio  # noqa: PLC0415
-
+    def __init__(self, curve, bands, temperatures, extrapolate):
         temperatures = np.atleast_1d(np.asarray(temperatures, float))
         self.log_t = np.log10(temperatures)
         self.ratio = np.array(
-            [[float(band_ratio(curve, b, _sed_blackbody(t))) for t in temperatures] for b in bands]
+            [[band_ratio(curve, b, blackbody(t), extrapolate=extrapolate) for t in temperatures] for b in bands]
         )
 
     def a_band(self, a_v, temperature):
@@ -315,10 +307,8 @@ class _LinearCoefficients:
 class _GridCoefficients:
     """Nonlinear A_b(A_V, T) from a :class:`redcorr.extinction.CoefficientGrid`."""
 
-    def __init__(self, curve, bands, temperatures):
-        from redcorr.extinction import coefficient_grid  # noqa: PLC0415
-
-        self.grid = coefficient_grid(curve, bands, temperatures=temperatures)
+    def __init__(self, curve, bands, extrapolate):
+        self.grid = coefficient_grid(curve, bands, extrapolate=extrapolate)
         self.t_lo, self.t_hi = float(np.min(self.grid.temperatures)), float(np.max(self.grid.temperatures))
         self.av_hi = float(np.max(self.grid.a_v))
 
@@ -734,11 +724,12 @@ class Correction:
             temps = np.geomspace(*_T_TABLE[:2], 25)
             if not self.nonlinear:
                 self._coeff_cache[key] = _LinearCoefficients(
-                    curve, self.bands, [self.temperature] if self.spectrum == "fixed" else temps)
+                    curve, self.bands, [self.temperature] if self.spectrum == "fixed" else temps,
+                    self.extrapolate)
             elif self.spectrum == "fixed":
                 self._coeff_cache[key] = _FixedTemperature(curve, self.bands, self.temperature, self.extrapolate)
             else:
-                self._coeff_cache[key] = _GridCoefficients(curve, self.bands, None)
+                self._coeff_cache[key] = _GridCoefficients(curve, self.bands, self.extrapolate)
         return self._coeff_cache[key]
 
     def _a_fixed_input(self, rv_node, red, quantity, temperature):
