@@ -1,5 +1,7 @@
 """Tests of redcorr.correct: DataFrames in, DataFrames out."""
 
+import functools
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -178,13 +180,18 @@ _STARS.loc[5, "kw_v"] = np.nan
 _STARS.loc[7, "ebv"] = -0.05
 
 
-@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@functools.cache
+def _chunk_correction():
+    corr = Correction(KW, columns=list(_STARS.columns), spectrum="colour", solve_colour=("kw-b", "kw-v"),
+                      colours=[("kw-v", "kw-r")])
+    return corr, corr.correct(_STARS)
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.lists(st.integers(min_value=1, max_value=60), min_size=1, max_size=12))
 def test_any_chunking_gives_identical_output(sizes):
     # Row-wise correction: the output cannot depend on how the table is split (issue 5).
-    corr = Correction(KW, columns=list(_STARS.columns), spectrum="colour", solve_colour=("kw-b", "kw-v"),
-                      colours=[("kw-v", "kw-r")])
-    whole = corr.correct(_STARS)
+    corr, whole = _chunk_correction()
     bounds = np.cumsum([0] + sizes)
     bounds = [b for b in bounds if b < len(_STARS)] + [len(_STARS)]
     parts = [corr.correct(_STARS.iloc[a:b]) for a, b in zip(bounds[:-1], bounds[1:])]

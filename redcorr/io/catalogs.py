@@ -239,10 +239,12 @@ class _CsvReader(CatalogReader):
         pa = _pyarrow()
         self._delimiter = delimiter
         self._comment = comment
+        self._column_names = column_names
         self._size = self.path.stat().st_size
         compressed = _is_gzip(self.path)
         if skip_lines == 0 and comment:
             skip_lines = self._leading_comment_lines(compressed)
+        self._skip_lines = skip_lines
         self._raw = pa.OSFile(str(self.path), "rb")
         stream = pa.CompressedInputStream(self._raw, "gzip") if compressed else self._raw
         numeric_columns, text_columns = set(numeric_columns), set(text_columns)
@@ -258,8 +260,8 @@ class _CsvReader(CatalogReader):
                                            convert_options=convert)
         except (pa.ArrowInvalid, OSError, EOFError) as exc:
             self._raw.close()
-            raise self._input_error(exc) from None
-        self.columns = list(self._reader.schema.names)
+            raise self._read_error(exc) from None
+        self.columns = self._column_names = list(self._reader.schema.names)
         _check_unique(self.columns, self.path)
 
     def _leading_comment_lines(self, compressed):
@@ -281,8 +283,27 @@ class _CsvReader(CatalogReader):
             return "skip"
         return "error"
 
-    def _input_error(self, exc):
+    def _header_names(self):
+        """Column names from the header line alone (when the first block failed to convert)."""
+        pa = _pyarrow()
+        opener = gzip.open if _is_gzip(self.path) else open
+        with opener(self.path, "rb") as fh:
+            for _ in range(self._skip_lines):
+                fh.readline()
+            line = fh.readline()
+        try:
+            return pa.csv.read_csv(io.BytesIO(line), parse_options=pa.csv.ParseOptions(delimiter=self._delimiter)
+                                   ).schema.names
+        except pa.ArrowInvalid:
+            return []
+
+    def _read_error(self, exc):
         text = str(exc)
+        match = re.search(r"In CSV column #(\d+): .*conversion error", text)
+        if match:
+            names = self._column_names or self._header_names()
+            index = int(match.group(1))
+            return ColumnTypeError(names[index] if index < len(names) else f"#{index}")
         if "Empty CSV file" in text:
             return InputError(f"input {str(self.path)!r} is empty: no header line with column names")
         match = re.search(r"Expected (\d+) columns, got (\d+): (.*)", text)
@@ -307,10 +328,7 @@ class _CsvReader(CatalogReader):
             except StopIteration:
                 return
             except (pa.ArrowInvalid, OSError, EOFError) as exc:
-                match = re.search(r"In CSV column #(\d+): .*conversion error", str(exc))
-                if match:
-                    raise ColumnTypeError(self.columns[int(match.group(1))]) from None
-                raise self._input_error(exc) from None
+                raise self._read_error(exc) from None
             yield batch
 
     def _tables(self):
