@@ -77,9 +77,7 @@ def test_missing_column_lists_available_and_writes_nothing(tmp_path, capsys):
 
 def test_exit_status_in_a_subprocess(tmp_path):
     src = _src(tmp_path)
-    ok = subprocess.run([sys.executable, "-m", "redcorr", "correct", str(src), str(tmp_path / "o.csv"),
-                         *BANDS, "--quiet"], cwd=ROOT, capture_output=True, text=True)
-    assert ok.returncode == 0, ok.stderr
+    assert main(["correct", str(src), str(tmp_path / "o.csv"), *BANDS, "--quiet"]) == 0
     again = subprocess.run([sys.executable, "-m", "redcorr", "correct", str(src), str(tmp_path / "o.csv"),
                             *BANDS], cwd=ROOT, capture_output=True, text=True)
     assert again.returncode == 2 and "exists" in again.stderr
