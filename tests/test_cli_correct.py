@@ -94,3 +94,14 @@ def test_unexpected_failure_exits_1(tmp_path, capsys, monkeypatch):
     assert main(["correct", str(src), str(tmp_path / "o.csv"), *BANDS]) == 1
     assert "unexpected failure" in capsys.readouterr().err
     assert not (tmp_path / "o.csv").exists()
+
+
+def test_demo_section_corrects_the_brume_catalog(capsys):
+    from redcorr._paths import project_dir
+    from redcorr.cli._demo import s40_catalog
+    from redcorr.io._toml import load_toml
+
+    demo = project_dir("demo")
+    s40_catalog.section(load_toml(demo / "scenario.toml", what="demo scenario"), demo)
+    text = capsys.readouterr().out
+    assert "BF-0001" in text and "b-v_0" in text and "HEALPix map" in text
