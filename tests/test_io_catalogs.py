@@ -2,6 +2,8 @@
 
 import gzip
 import json
+import tempfile
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -9,6 +11,8 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 from catalog_helpers import KW, intrinsic
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from redcorr.correct import Correction
 from redcorr.exceptions import InputError
@@ -200,3 +204,18 @@ def test_unknown_format_and_missing_input(tmp_path):
         open_catalog(_csv(tmp_path), fmt="xlsx")
     with pytest.raises(InputError, match="does not exist"):
         open_catalog(tmp_path / "nope.csv")
+
+
+_CHUNK_SRC = intrinsic(37, seed=12)
+
+
+@settings(max_examples=8, deadline=None)
+@given(st.integers(min_value=1, max_value=40))
+def test_file_output_does_not_depend_on_chunk_rows(chunk_rows):
+    # Chunk-size invariance through the whole file path (reader re-batching + writer).
+    with tempfile.TemporaryDirectory() as tmp:
+        tmp = Path(tmp)
+        src = write_catalog(_CHUNK_SRC, tmp / "in.csv")
+        correct_file(src, tmp / "one.csv", _make, chunk_rows=1000)
+        correct_file(src, tmp / "many.csv", _make, chunk_rows=chunk_rows)
+        assert (tmp / "many.csv").read_bytes() == (tmp / "one.csv").read_bytes()
