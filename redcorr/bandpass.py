@@ -22,6 +22,8 @@ Curves shipped by ``speclite`` are treated as photon-counting responses, as
 that package itself does.
 """
 
+import functools
+
 import numpy as np
 from astropy import units as u
 
@@ -162,17 +164,17 @@ class Band:
             f = f * self.weight(lam)
         return float(np.sum(0.5 * (b - a)[:, None] * weights * f))
 
-    @property
+    @functools.cached_property
     def pivot_um(self):
         """float: pivot wavelength λ_p in µm (depends on the convention; see Notes)."""
         return float(np.sqrt(self._moment(0, True) / self._moment(-2, True)))
 
-    @property
+    @functools.cached_property
     def mean_um(self):
         """float: mean wavelength ∫λT dλ / ∫T dλ in µm."""
         return self._moment(1, False) / self._moment(0, False)
 
-    @property
+    @functools.cached_property
     def width_um(self):
         """float: width ∫T dλ / max T in µm."""
         return self._moment(0, False) / float(np.max(self.response))
