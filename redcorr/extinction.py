@@ -44,7 +44,7 @@ from numpy.polynomial import polynomial as P
 
 from redcorr._validate import check_finite
 from redcorr.bandpass import Band
-from redcorr.exceptions import InputError, OutOfRangeWarning, TruncatedBandWarning
+from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.sed import SED, planck_log_flam
 
 __all__ = [
@@ -155,14 +155,7 @@ def _curve_at(curve, band, nodes, extrapolate):
 def _check_band(band):
     if not isinstance(band, Band):
         raise InputError(f"band must be a Band; got {type(band).__name__} (load names with redcorr.io.filters.load_band)")
-    if band.truncated:
-        blue, red = band.edge_fraction
-        warnings.warn(
-            f"band {band.name!r} is cut off: its response is {100 * blue:.3g}% (blue end) and "
-            f"{100 * red:.3g}% (red end) of its peak; redcorr takes it as zero beyond the last samples",
-            TruncatedBandWarning,
-            stacklevel=3,
-        )
+    band.warn_if_truncated()
 
 
 def _as_av(a_v):
