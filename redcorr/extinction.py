@@ -32,6 +32,7 @@ integrated exactly. The result converges to better than 10⁻⁴ mag for A_V
 up to 20 (tested).
 """
 
+import functools
 import math
 import warnings
 
@@ -43,7 +44,7 @@ from numpy.polynomial import polynomial as P
 
 from redcorr._validate import check_finite
 from redcorr.bandpass import Band
-from redcorr.exceptions import InputError, OutOfRangeWarning, TruncatedBandWarning
+from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.sed import SED, planck_log_flam
 
 __all__ = [
@@ -72,6 +73,14 @@ _LN10_04 = 0.4 * math.log(10.0)
 
 
 # --------------------------------------------------------------------------- quadrature
+@functools.lru_cache(maxsize=16)
+def _leggauss(n):
+    nodes, weights = L.leggauss(n)
+    nodes.setflags(write=False)
+    weights.setflags(write=False)
+    return nodes, weights
+
+
 def band_quadrature(band, *, order=_ORDER, max_dx=_MAX_DX, min_intervals=_MIN_INTERVALS):
     """Nodes and weights with ∫ T(λ) w(λ) g(λ) dλ ≈ Σ_j q_j g(λ_j) for smooth g.
 
@@ -110,7 +119,7 @@ def band_quadrature(band, *, order=_ORDER, max_dx=_MAX_DX, min_intervals=_MIN_IN
     k_int = max(int(min_intervals), int(math.ceil((x_hi - x_lo) / max_dx)))
     bounds = np.sort(1.0 / np.linspace(x_lo, x_hi, k_int + 1))
     bounds[0], bounds[-1] = lo, hi
-    xi, _ = L.leggauss(order)
+    xi, _ = _leggauss(order)
     mid = 0.5 * (bounds[1:] + bounds[:-1])
     half = 0.5 * (bounds[1:] - bounds[:-1])
     nodes = mid[:, None] + half[:, None] * xi
@@ -118,7 +127,7 @@ def band_quadrature(band, *, order=_ORDER, max_dx=_MAX_DX, min_intervals=_MIN_IN
     knots = band.wave_um[(band.wave_um > lo) & (band.wave_um < hi)]
     edges = np.unique(np.concatenate([bounds, knots]))
     a, b = edges[:-1], edges[1:]
-    t_ref, t_w = L.leggauss((order + 3) // 2)
+    t_ref, t_w = _leggauss((order + 3) // 2)
     pts = 0.5 * (a + b)[:, None] + 0.5 * (b - a)[:, None] * t_ref
     k = np.clip(np.searchsorted(bounds, 0.5 * (a + b)) - 1, 0, k_int - 1)
     ref = (pts - mid[k][:, None]) / half[k][:, None]
@@ -146,14 +155,7 @@ def _curve_at(curve, band, nodes, extrapolate):
 def _check_band(band):
     if not isinstance(band, Band):
         raise InputError(f"band must be a Band; got {type(band).__name__} (load names with redcorr.io.filters.load_band)")
-    if band.truncated:
-        blue, red = band.edge_fraction
-        warnings.warn(
-            f"band {band.name!r} is cut off: its response is {100 * blue:.3g}% (blue end) and "
-            f"{100 * red:.3g}% (red end) of its peak; redcorr takes it as zero beyond the last samples",
-            TruncatedBandWarning,
-            stacklevel=3,
-        )
+    band.warn_if_truncated()
 
 
 def _as_av(a_v):
@@ -405,7 +407,8 @@ class CoefficientGrid:
             raise InputError(f"grid shapes do not match: ratio {self.ratio.shape}, expected {expect}")
         self.meta = dict(meta or {})
         self._log_t = np.log(self.temperatures)
-        self._ratio_last = np.ascontiguousarray(np.moveaxis(self.ratio, 0, -1))  # (T, A, B)
+        # (T·A, B): one contiguous row of band ratios per grid node, for fast gathers.
+        self._ratio_flat = np.ascontiguousarray(np.moveaxis(self.ratio, 0, -1)).reshape(-1, len(self.bands))
 
     def inside(self, a_v, temperature):
         """bool ndarray: whether (a_v, temperature) lies inside the grid (NaN → False)."""
@@ -443,14 +446,13 @@ class CoefficientGrid:
         lt = np.log(np.where(nan, self.temperatures[0], t))
         i, fi = self._locate(self._log_t, lt)
         j, fj = self._locate(self.a_v, a0)
-        g = self._ratio_last
-        fi, fj = fi[..., None], fj[..., None]
-        out = (
-            g[i, j] * (1 - fi) * (1 - fj)
-            + g[i + 1, j] * fi * (1 - fj)
-            + g[i, j + 1] * (1 - fi) * fj
-            + g[i + 1, j + 1] * fi * fj
-        )
+        g = self._ratio_flat
+        n_a = self.a_v.size
+        k = i * n_a + j
+        out = g.take(k, axis=0)
+        out *= ((1 - fi) * (1 - fj))[..., None]
+        for step, weight in ((n_a, fi * (1 - fj)), (1, (1 - fi) * fj), (n_a + 1, fi * fj)):
+            out += g.take(k + step, axis=0) * weight[..., None]
         out[nan] = np.nan
         return out
 
