@@ -244,7 +244,7 @@ class DustMap:
         finite = np.isfinite(lon) & np.isfinite(lat)
         beyond = finite & (np.abs(lat) > 90.0)
         if np.any(beyond):
-            first = lat[beyond][0]
+            first = float(lat[beyond][0])
             raise InputError(f"lat_deg={first!r} is outside the allowed range [-90, 90] (latitude in {frame!s})")
         values = np.full(lon.size, np.nan)
         flags = np.zeros(lon.size, dtype=np.uint8)
@@ -443,7 +443,7 @@ def _finish_bilinear(values, good, covered, weights, flags):
     out = _combine(values, good, weights)
     flags[~main_covered] = FLAG_OUTSIDE
     flags[main_covered & ~main_good] = FLAG_BLANK
-    flags[main_good & ~good.all(axis=0)] = FLAG_PARTIAL
+    flags[main_good & np.any(~good & (weights > 0), axis=0)] = FLAG_PARTIAL
     out[~main_good] = np.nan
     return out, flags
 
