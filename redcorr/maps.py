@@ -262,7 +262,8 @@ class DustMap:
                 values[part], flags[part] = self._sample(lon[part], lat[part], in_frame, method)
             else:
                 where = np.nonzero(finite[part])[0] + start
-                values[where], flags[where] = self._sample(lon[where], lat[where], in_frame, method)
+                if where.size:
+                    values[where], flags[where] = self._sample(lon[where], lat[where], in_frame, method)
         if self.scale != 1.0:
             values *= self.scale
         return values.reshape(shape)[()], flags.reshape(shape)[()]
@@ -509,7 +510,10 @@ class ImageTile:
     def sample(self, lon_deg, lat_deg, method):
         """Values and flags at positions given in this tile's frame (degrees)."""
         world = (lon_deg, lat_deg) if self.wcs.wcs.lng == 0 else (lat_deg, lon_deg)
-        x, y = self.wcs.world_to_pixel_values(*world)
+        if self.wcs.has_distortion:  # iterative inverse; positions far off the image give NaN
+            x, y = self.wcs.all_world2pix(*world, 0, quiet=True)
+        else:  # NaN where the projection has no image of the position
+            x, y = self.wcs.wcs_world2pix(*world, 0)
         x, y = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
         ny, nx = self.data.shape
         flags = np.zeros(x.shape, dtype=np.uint8)

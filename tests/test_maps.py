@@ -340,3 +340,18 @@ def test_unit_and_scale_are_checked():
         HealpixMap(np.ones(12), 1, scale=-1)
     with pytest.raises(InputError, match="give r_v"):
         HealpixMap(np.ones(12), 1, unit="A_V").ebv(0.0, 0.0)
+
+
+def test_gnomonic_image_far_side_and_all_nan_chunk():
+    # A gnomonic (TAN) projection has no image of the far hemisphere (Calabretta & Greisen
+    # 2002, A&A 395, 1077, Sect. 5.1.3): such positions are outside, not errors.
+    wcs = WCS(naxis=2)
+    wcs.wcs.ctype = ["RA---TAN", "DEC--TAN"]
+    wcs.wcs.crval = [101.25, -27.4]
+    wcs.wcs.crpix = [5.5, 5.5]
+    wcs.wcs.cdelt = [-0.1, 0.1]
+    image = ImageMap([ImageTile(np.ones((10, 10)), wcs)])
+    values, flags = image.lookup([281.25, 101.25], [27.4, -27.4])
+    assert np.isnan(values[0]) and flags[0] == FLAG_OUTSIDE and flags[1] == 0
+    values, flags = image.lookup([np.nan, np.nan], [0.0, 0.0])
+    assert list(flags) == [FLAG_NO_POSITION, FLAG_NO_POSITION]
