@@ -149,10 +149,13 @@ def _angle_array(value, name):
 
 
 def _blank_mask(values, blank_value):
-    """True where ``values`` is NaN/inf or equals ``blank_value`` (relative 1e-6)."""
+    """True where ``values`` is NaN/inf or equals ``blank_value`` (as float64 or rounded to float32)."""
     bad = ~np.isfinite(values)
     if blank_value is not None:
-        bad |= np.abs(values - blank_value) <= 1e-6 * abs(blank_value)
+        bad |= values == blank_value
+        as_float32 = float(np.float32(blank_value))
+        if as_float32 != blank_value:  # a float32 file stores the rounded value
+            bad |= values == as_float32
     return bad
 
 
