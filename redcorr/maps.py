@@ -160,7 +160,7 @@ def _blank_mask(values, blank_value):
 
 
 def _combine(values, good, weights):
-    """Weighted mean over axis 0 of the good neighbours, with flags.
+    """Weighted mean over axis 0 of the good neighbours.
 
     ``values``, ``good`` and ``weights`` have shape (k, n): k interpolation
     neighbours for n positions. ``good`` is False for a neighbour that is
