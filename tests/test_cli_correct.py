@@ -105,3 +105,23 @@ def test_demo_section_corrects_the_brume_catalog(capsys):
     s40_catalog.section(load_toml(demo / "scenario.toml", what="demo scenario"), demo)
     text = capsys.readouterr().out
     assert "BF-0001" in text and "b-v_0" in text and "HEALPix map" in text
+
+
+def test_progress_bar_on_a_terminal_only(tmp_path, monkeypatch, capsys):
+    import io
+
+    from redcorr.cli.correct import _Progress
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    assert not _Progress(True).enabled  # pytest's captured stderr is not a terminal
+    fake = Terminal()
+    monkeypatch.setattr(sys, "stderr", fake)
+    with _Progress(True) as bar:
+        assert bar.enabled
+        bar(500, 0.5)
+        assert bar._bar.tasks[0].completed == 500.0 and bar._bar.tasks[0].fields["rows"] == 500
+    with _Progress(False) as quiet:
+        assert not quiet.enabled
