@@ -597,7 +597,9 @@ class CatalogWriter:
         if self.format == "parquet":
             schema = self._schema.with_metadata({"redcorr": json.dumps(self._meta, default=str)})
             self._schema = schema
-            self._writer = pa.parquet.ParquetWriter(str(self._tmp), schema)
+            # Dictionary encoding only pays for text; on measured floats it costs ~10x in time.
+            text = [f.name for f in schema if pa.types.is_string(f.type) or pa.types.is_large_string(f.type)]
+            self._writer = pa.parquet.ParquetWriter(str(self._tmp), schema, use_dictionary=text or False)
         elif self.format in ("csv", "ecsv"):
             self._sink = pa.OSFile(str(self._tmp), "wb")
             if self.path.suffix.lower() == ".gz":
