@@ -24,7 +24,7 @@ For each band with magnitude column ``MAG`` (``SUFFIX`` defaults to
 
 For each requested colour pair (MAG1, MAG2): ``MAG1-MAG2_dered`` and
 ``MAG1-MAG2_dered_err``. Per row: ``ebv_used`` and ``av_used`` (the
-reddening applied), ``rv_used``, ``teff_used`` (source temperature, K, when
+reddening applied), ``rv_used`` (with a per-row R_V), ``teff_used`` (source temperature, K, when
 it varies per row), ``teff_iterations`` (when solved from a colour) and the
 flag column ``dered_flags``, whose bits are :data:`FLAG_BITS`.
 
@@ -679,7 +679,9 @@ class Correction:
             names.append(base)
             if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
                 names.append(base + "_err")
-        names += ["ebv_used", "av_used", "rv_used"]
+        names += ["ebv_used", "av_used"]
+        if self.rv_col is not None:
+            names.append("rv_used")
         if self.spectrum != "fixed":
             names.append("teff_used")
         if self.spectrum == "colour":
@@ -906,7 +908,8 @@ class Correction:
         valid = np.isfinite(red) & rv_ok
         result["ebv_used"] = np.where(valid, ebv, np.nan)
         result["av_used"] = np.where(valid, red * rv if self.red_quantity == "ebv" else red, np.nan)
-        result["rv_used"] = np.where(rv_ok, rv, np.nan)
+        if self.rv_col is not None:
+            result["rv_used"] = np.where(rv_ok, rv, np.nan)
         if self.spectrum != "fixed":
             result["teff_used"] = temperature
         if self.spectrum == "colour":

@@ -1,10 +1,8 @@
 """Tests of ``redcorr correct`` (in-process, and one subprocess for the exit status)."""
 
 import json
-import subprocess
 import sys
 import warnings
-from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -14,7 +12,6 @@ from redcorr.cli import main
 from redcorr.exceptions import OutOfRangeWarning
 from redcorr.io.catalogs import write_catalog
 
-ROOT = Path(__file__).resolve().parent.parent
 BANDS = ["--band", "kw-b", "--band", "kw-v"]
 
 
@@ -73,14 +70,6 @@ def test_missing_column_lists_available_and_writes_nothing(tmp_path, capsys):
     assert main(["correct", str(src), str(tmp_path / "o.csv"), "--band", "kw-v"]) == 2
     assert "['id', 'x', 'ebv']" in capsys.readouterr().err
     assert sorted(p.name for p in tmp_path.iterdir()) == ["in.csv"]
-
-
-def test_exit_status_in_a_subprocess(tmp_path):
-    src = _src(tmp_path)
-    assert main(["correct", str(src), str(tmp_path / "o.csv"), *BANDS, "--quiet"]) == 0
-    again = subprocess.run([sys.executable, "-m", "redcorr", "correct", str(src), str(tmp_path / "o.csv"),
-                            *BANDS], cwd=ROOT, capture_output=True, text=True)
-    assert again.returncode == 2 and "exists" in again.stderr
 
 
 def test_unexpected_failure_exits_1(tmp_path, capsys, monkeypatch):
