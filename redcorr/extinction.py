@@ -399,8 +399,11 @@ class CoefficientGrid:
     Notes
     -----
     :meth:`a_band` interpolates ``ratio`` bilinearly in (ln T, A_V) and
-    multiplies by A_V. Points outside the grid take the value at the nearest
-    edge, with an `OutOfRangeWarning`; :meth:`inside` flags them.
+    multiplies by A_V. With the default axes this stays within 2e-3 mag of
+    direct integration between the nodes (tested on the KW-CAM bands; the
+    largest errors are for cool stars at large A_V). Points outside the grid
+    take the value at the nearest edge, with an `OutOfRangeWarning`;
+    :meth:`inside` flags them.
     """
 
     def __init__(self, bands, temperatures, a_v, ratio, mag0, *, meta=None):
