@@ -37,9 +37,9 @@ Conventions
 * Accuracy (measured by the tests on smooth synthetic maps): nearest-pixel
   errors scale with the pixel size h, bilinear errors with h²; on HEALPix
   within ~10° of the poles the four-neighbour scheme is first order only.
-  Images are interpolated in pixel coordinates and do not wrap around the
-  longitude seam of an all-sky projection (the last half pixel is flagged
-  `FLAG_PARTIAL`).
+  Images are interpolated in pixel coordinates; an unrotated cylindrical
+  image spanning 360° of longitude (plate carrée all-sky) wraps across its
+  seam, other images flag their last half pixel `FLAG_PARTIAL`.
 """
 
 import numpy as np
@@ -509,6 +509,21 @@ class ImageTile:
             lat_range = (lo, hi)
         self.lat_range = lat_range
         self.blank_value = blank_value
+        self.wraps = self._spans_all_longitudes()
+
+    def _spans_all_longitudes(self):
+        """True for an unrotated cylindrical image whose x axis covers exactly 360° of longitude.
+
+        Bilinear interpolation then takes neighbours across the seam (x wraps
+        modulo the image width) instead of flagging the last half pixel.
+        """
+        cel = self.wcs.wcs
+        if cel.lng != 0 or cel.ctype[0][5:8] not in ("CAR", "CEA", "MER", "CYP"):
+            return False
+        matrix = cel.get_pc() * cel.get_cdelt()[:, None]
+        if abs(matrix[0, 1]) > 0 or abs(matrix[1, 0]) > 0:
+            return False
+        return bool(abs(abs(matrix[0, 0]) * self.data.shape[1] - 360.0) < 1e-6)
 
     def sample(self, lon_deg, lat_deg, method):
         """Values and flags at positions given in this tile's frame (degrees)."""
@@ -519,13 +534,15 @@ class ImageTile:
             x, y = self.wcs.wcs_world2pix(*world, 0)
         x, y = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
         ny, nx = self.data.shape
+        if self.wraps:
+            x = np.mod(x + 0.5, nx) - 0.5
         flags = np.zeros(x.shape, dtype=np.uint8)
         inside = (x >= -0.5) & (x < nx - 0.5) & (y >= -0.5) & (y < ny - 0.5)
         if self.lat_range is not None:
             inside &= (lat_deg >= self.lat_range[0]) & (lat_deg <= self.lat_range[1])
         if method == "nearest":
             values = np.full(x.shape, np.nan)
-            ix = np.floor(x[inside] + 0.5).astype(np.intp)
+            ix = np.floor(x[inside] + 0.5).astype(np.intp) % nx
             iy = np.floor(y[inside] + 0.5).astype(np.intp)
             values[inside] = self.data[iy, ix]
             blank = inside & _blank_mask(values, self.blank_value)
@@ -539,6 +556,8 @@ class ImageTile:
         fx, fy = x - x0, y - y0
         x0, y0 = x0.astype(np.intp), y0.astype(np.intp)
         xs = np.stack([x0, x0 + 1, x0, x0 + 1])
+        if self.wraps:
+            xs %= nx
         ys = np.stack([y0, y0, y0 + 1, y0 + 1])
         weights = np.stack([(1 - fx) * (1 - fy), fx * (1 - fy), (1 - fx) * fy, fx * fy])
         covered = (xs >= 0) & (xs < nx) & (ys >= 0) & (ys < ny) & inside[None, :]
