@@ -5,7 +5,7 @@ from astropy import units as u
 
 from redcorr.io._atomic import atomic_path
 
-__all__ = ["plot_curve"]
+__all__ = ["plot_curve", "plot_snr_vs_time", "plot_time_vs_av"]
 
 
 def _figure():
@@ -42,6 +42,62 @@ def plot_curve(curve, path, *, marks=None, extrapolate=False):
     ax.set_xlabel(r"$1/\lambda$ [$\mu$m$^{-1}$]")
     ax.set_ylabel(r"$A(\lambda)/A(V)$")
     ax.set_title(curve.citation, fontsize=8)
+    ax.legend(frameon=False)
+    with atomic_path(path, suffix=".png") as tmp:
+        fig.savefig(tmp, format="png", dpi=110)
+    plt.close(fig)
+
+
+def plot_snr_vs_time(t, snr_by_band, path, *, title=""):
+    """Draw S/N against exposure time, without (dashed) and with (solid) the dust.
+
+    Parameters
+    ----------
+    t : array_like
+        Exposure times, s.
+    snr_by_band : dict
+        Band name → ``(snr_clear, snr_dust)``, as from
+        :func:`redcorr.exposure.snr_vs_time`.
+    path : path-like
+        PNG file to write (atomically).
+    title : str
+    """
+    plt = _figure()
+    t = np.asarray(t, dtype=float)
+    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    for name, (clear, dust) in snr_by_band.items():
+        (line,) = ax.loglog(t, dust, lw=1.6, label=f"{name} behind the dust")
+        ax.loglog(t, clear, lw=1.0, ls="--", color=line.get_color(), label=f"{name} without dust")
+    ax.set_xlabel("exposure time [s]")
+    ax.set_ylabel("S/N")
+    ax.set_title(title, fontsize=8)
+    ax.legend(frameon=False, fontsize=7)
+    with atomic_path(path, suffix=".png") as tmp:
+        fig.savefig(tmp, format="png", dpi=110)
+    plt.close(fig)
+
+
+def plot_time_vs_av(a_v, times_by_band, path, *, title=""):
+    """Draw the exposure time needed against A_V, one line per band.
+
+    Parameters
+    ----------
+    a_v : array_like
+        A_V grid, mag.
+    times_by_band : dict
+        Band name → times in s on the grid, as from
+        :func:`redcorr.exposure.time_vs_av`.
+    path : path-like
+        PNG file to write (atomically).
+    title : str
+    """
+    plt = _figure()
+    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    for name, times in times_by_band.items():
+        ax.semilogy(a_v, times, lw=1.6, label=name)
+    ax.set_xlabel(r"$A_V$ [mag]")
+    ax.set_ylabel("exposure time needed [s]")
+    ax.set_title(title, fontsize=8)
     ax.legend(frameon=False)
     with atomic_path(path, suffix=".png") as tmp:
         fig.savefig(tmp, format="png", dpi=110)
