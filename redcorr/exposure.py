@@ -46,7 +46,7 @@ from astropy import units as u
 from scipy.integrate import trapezoid
 
 from redcorr._validate import check_choice, check_finite, check_positive, check_range
-from redcorr.exceptions import InputError
+from redcorr.exceptions import InputError, UnknownNameError
 
 __all__ = [
     "AB_ZERO_JY",
@@ -536,7 +536,13 @@ class Instrument:
 
     def channel(self, band):
         """The channel named ``band``; `UnknownNameError` naming the instrument's bands otherwise."""
-        key = check_choice(f"band (instrument {self.name!r})", band, list(self.channels))
+        try:
+            key = check_choice("band", band, list(self.channels))
+        except UnknownNameError:
+            known = ", ".join(repr(n) for n in self.channels)
+            raise UnknownNameError(
+                f"band={band!r} is not a band of instrument {self.name!r}; choose from {known}"
+            ) from None
         return self.channels[key]
 
 

@@ -2,5 +2,6 @@
 
 from redcorr.io._atomic import atomic_path, check_output_path
 from redcorr.io.curves import load_curve, read_curve_table
+from redcorr.io.instrument import load_instrument
 
-__all__ = ["atomic_path", "check_output_path", "load_curve", "read_curve_table"]
+__all__ = ["atomic_path", "check_output_path", "load_curve", "load_instrument", "read_curve_table"]
