@@ -680,8 +680,7 @@ def plan_exposure(
             t_dust = time
             reached = float(ch.snr(m, time, a_band))
             t_clear = float(ch.time_for_snr(m, reached)) if reached > 0 else 0.0
-        with np.errstate(divide="ignore", invalid="ignore"):
-            factor = t_dust / t_clear if t_clear > 0 else math.nan
+        factor = t_dust / t_clear if 0 < t_clear < math.inf else math.nan
         plans.append(
             BandPlan(
                 band=name,

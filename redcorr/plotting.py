@@ -48,7 +48,7 @@ def plot_curve(curve, path, *, marks=None, extrapolate=False):
     plt.close(fig)
 
 
-def plot_snr_vs_time(t, snr_by_band, path, *, title=""):
+def plot_snr_vs_time(t, snr_by_band, path, *, title="", target=None):
     """Draw S/N against exposure time, without (dashed) and with (solid) the dust.
 
     Parameters
@@ -61,6 +61,8 @@ def plot_snr_vs_time(t, snr_by_band, path, *, title=""):
     path : path-like
         PNG file to write (atomically).
     title : str
+    target : float, optional
+        S/N to mark with a horizontal line.
     """
     plt = _figure()
     t = np.asarray(t, dtype=float)
@@ -68,6 +70,8 @@ def plot_snr_vs_time(t, snr_by_band, path, *, title=""):
     for name, (clear, dust) in snr_by_band.items():
         (line,) = ax.loglog(t, dust, lw=1.6, label=f"{name} behind the dust")
         ax.loglog(t, clear, lw=1.0, ls="--", color=line.get_color(), label=f"{name} without dust")
+    if target is not None:
+        ax.axhline(target, color="0.5", lw=0.8, ls=":")
     ax.set_xlabel("exposure time [s]")
     ax.set_ylabel("S/N")
     ax.set_title(title, fontsize=8)
@@ -77,7 +81,7 @@ def plot_snr_vs_time(t, snr_by_band, path, *, title=""):
     plt.close(fig)
 
 
-def plot_time_vs_av(a_v, times_by_band, path, *, title=""):
+def plot_time_vs_av(a_v, times_by_band, path, *, title="", mark=None):
     """Draw the exposure time needed against A_V, one line per band.
 
     Parameters
@@ -90,9 +94,13 @@ def plot_time_vs_av(a_v, times_by_band, path, *, title=""):
     path : path-like
         PNG file to write (atomically).
     title : str
+    mark : float, optional
+        A_V to mark with a vertical line.
     """
     plt = _figure()
     fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    if mark is not None:
+        ax.axvline(mark, color="0.5", lw=0.8, ls=":")
     for name, times in times_by_band.items():
         ax.semilogy(a_v, times, lw=1.6, label=name)
     ax.set_xlabel(r"$A_V$ [mag]")

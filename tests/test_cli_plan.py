@@ -102,6 +102,7 @@ def test_plots_are_png(tmp_path, capsys):
         (["--snr", "-2"], "snr=-2 is not allowed"),
         (["--snr", "5", "--band", "kw-q"], "band='kw-q' is not a band of instrument"),
         (["--snr", "5", "--ebv", "0.1"], None),  # --av and --ebv together: argparse usage error
+        (["--snr", "5", "--limit-snr", "0"], "limit_snr=0 is not allowed"),
     ],
 )
 def test_bad_input_exits_2_with_one_line(capsys, extra, message):
@@ -129,3 +130,9 @@ def test_demo_plans_the_brume_field_target(capsys):
     assert main(["demo"]) == 0
     out = capsys.readouterr().out
     assert "Exposure planning" in out and CAUTION in out
+
+
+def test_grain_model_fixes_its_own_rv(capsys):
+    argv = ["plan", "--instrument", "demo", "--mag", "19", "--av", "1", "--grain", "x", "--rv", "3.1", "--snr", "5"]
+    assert main(argv) == 2
+    assert "--rv=3.1 applies to a law" in capsys.readouterr().err

@@ -103,3 +103,61 @@ def test_input_file_is_not_modified(tmp_path):
     before = path.read_bytes()
     load_instrument(path)
     assert path.read_bytes() == before
+
+
+def test_peak_throughput_and_relative_file_product(tmp_path):
+    # A window curve beside the description, multiplied into the filter with load_band's '*'.
+    (tmp_path / "win.csv").write_text("wavelength_nm,response\n400,0.5\n700,0.5\n1000,0.5\n")
+    text = GOOD.replace('filter = "tophat:0.55:0.09"', 'filter = "tophat:0.55:0.09*file:win.csv"')
+    inst = load_instrument(_write(tmp_path, text))
+    assert_allclose(inst.channel("v").band.response.max(), 0.5 * 0.9 * 0.8, rtol=1e-9)
+    text = GOOD.replace('filter = "tophat:0.80:0.15"', 'filter = "tophat:0.80:0.15"\npeak_throughput = 0.4')
+    inst = load_instrument(_write(tmp_path, text))
+    assert_allclose(inst.channel("i").band.response.max(), 0.4, rtol=1e-12)
+    with pytest.raises(InputError, match=r"peak_throughput=1.5 is not allowed"):
+        load_instrument(_write(tmp_path, text.replace("peak_throughput = 0.4", "peak_throughput = 1.5")))
+
+
+REGIME = """
+[telescope]
+aperture_m = 1.0
+[camera]
+pixel_scale_arcsec = 0.5
+read_noise_e = {read}
+dark_e_per_s = 0.0
+gain_e_per_adu = 1e-6
+[site]
+seeing_fwhm_arcsec = 1.0
+[photometry]
+aperture_radius_arcsec = 1.5
+[bands.b]
+filter = "tophat:0.44:0.09"
+sky_mag_arcsec2 = {sky}
+extinction_mag_per_airmass = 0.0
+"""
+
+
+@pytest.mark.parametrize(
+    ("read", "sky", "mag", "slope", "regime"),
+    [
+        # Facts of the trade (common practice, no source), which follow from the CCD equation
+        # (Howell 2006 Sect. 4.4): source-limited time grows as 10^(0.4 A_b), sky-limited as
+        # 10^(0.8 A_b), read-noise-limited as 10^(0.4 A_b).
+        (0.0, 35.0, 8.0, 0.4, "source"),
+        (0.0, 6.0, 24.0, 0.8, "sky"),
+        (1e5, 35.0, 8.0, 0.4, "read"),
+    ],
+)
+def test_regimes_through_the_planner(tmp_path, read, sky, mag, slope, regime):
+    # An instrument forced into one regime, planned end to end with the band extinction.
+    from redcorr.exposure import plan_exposure
+    from redcorr.io import load_curve
+    from redcorr.io.spectra import load_sed
+
+    inst = load_instrument(_write(tmp_path, REGIME.format(read=read, sky=sky)))
+    for a_v in (1.0, 3.0):
+        (p,) = plan_exposure(inst, ["b"], mag, curve=load_curve("ccm89", r_v=3.1), sed=load_sed("flat"),
+                             a_v=a_v, snr=20.0)
+        assert p.noise == regime
+        assert p.A_band > 1.0 * a_v  # B is more extinguished than V (any R_V law)
+        assert_allclose(p.time_factor, 10 ** (slope * p.A_band), rtol=2e-3)

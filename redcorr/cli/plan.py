@@ -98,6 +98,7 @@ def run(args):
     plans = plan_exposure(instrument, bands, args.mag, a_v=a_v, snr=args.snr, time=args.time,
                           limit_snr=args.limit_snr, **common)
 
+    where = f" in {args.mag_band}" if args.mag_band else ""
     grid_snr = args.snr if args.snr is not None else args.limit_snr
     table = None
     if args.av_grid or args.av_plot:
@@ -109,21 +110,21 @@ def run(args):
 
         t_hi = max(p.t_dust_s for p in plans if np.isfinite(p.t_dust_s)) * 4.0
         t = np.geomspace(max(t_hi, 1.0) * 1e-4, max(t_hi, 1.0), 200)
-        plot_snr_vs_time(t, snr_vs_time(instrument, plans, t), args.plot,
-                         title=f"{instrument.name}: AB {args.mag:g}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})")
+        plot_snr_vs_time(t, snr_vs_time(instrument, plans, t), args.plot, target=args.snr,
+                         title=f"{instrument.name}: AB {args.mag:g}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})")
     if args.av_plot:
         from redcorr.plotting import plot_time_vs_av  # noqa: PLC0415
 
-        plot_time_vs_av(table[0], table[1], args.av_plot,
-                        title=f"{instrument.name}: AB {args.mag:g} to S/N {grid_snr:g} ({curve.name}, R_V {curve.r_v:g})")
+        plot_time_vs_av(table[0], table[1], args.av_plot, mark=a_v,
+                        title=f"{instrument.name}: AB {args.mag:g}{where} to S/N {grid_snr:g} "
+                              f"({curve.name}, R_V {curve.r_v:g})")
 
     if args.json:
         print_json([p.as_dict(JSON_KEYS) for p in plans])
         print(CAUTION, file=sys.stderr)
         return 0
 
-    where = f"in {args.mag_band}" if args.mag_band else "in each band"
-    print(f"# {instrument.name}; source AB {args.mag:g} {where} (dust-free), SED {sed.name}")
+    print(f"# {instrument.name}; source AB {args.mag:g}{where or ' in each band'} (dust-free), SED {sed.name}")
     print(f"# dust: A_V = {a_v:g} mag, {curve.name} R_V = {curve.r_v:g}; {curve.citation}")
     goal = f"S/N {args.snr:g}" if args.snr is not None else f"{args.time:g} s exposures"
     print(f"# goal: {goal}; limiting_mag = apparent AB mag at S/N {args.limit_snr:g} in t_dust_s")
