@@ -33,7 +33,7 @@ from redcorr._validate import check_choice, check_finite
 from redcorr.bandpass import CONVENTIONS, Band, gaussian, product, tophat
 from redcorr.exceptions import InputError
 
-__all__ = ["load_band", "list_bands", "read_band_file", "write_band_file"]
+__all__ = ["load_band", "list_bands", "project_bands", "read_band_file", "write_band_file"]
 
 _UNIT_SUFFIX = re.compile(r"^(?P<path>.+)\[(?P<unit>[^\[\]]+)\]$")
 _MIN_ROWS = 3
@@ -50,7 +50,7 @@ def _speclite_names():
     return tuple(sorted(p.stem for p in _speclite_dir().glob("*.ecsv")))
 
 
-def _project_filters():
+def project_bands():
     """{name: path} of the ECSV files in the project's ``filters/`` folder (empty if absent)."""
     try:
         folder = project_dir("filters")
@@ -66,7 +66,7 @@ def list_bands():
     -------
     list of str
     """
-    own = list(_project_filters())
+    own = list(project_bands())
     return own + [n for n in _speclite_names() if n not in own]
 
 
@@ -221,7 +221,7 @@ def _load_one(spec):
     for kind in ("tophat", "gauss"):
         if spec.startswith(kind + ":"):
             return _synthetic(kind, spec[len(kind) + 1:], spec)
-    own = _project_filters()
+    own = project_bands()
     known = list(own) + [n for n in _speclite_names() if n not in own]
     name = check_choice("band", spec, known)
     if name in own:
