@@ -136,3 +136,22 @@ def test_grain_model_fixes_its_own_rv(capsys):
     argv = ["plan", "--instrument", "demo", "--mag", "19", "--av", "1", "--grain", "x", "--rv", "3.1", "--snr", "5"]
     assert main(argv) == 2
     assert "--rv=3.1 applies to a law" in capsys.readouterr().err
+
+
+def test_flux_calibrated_spectrum_gives_the_ab_magnitude(tmp_path, capsys):
+    # AB definition (Oke & Gunn 1983): a flat F_nu = 3631 Jy 10^(-0.4 m) has AB magnitude m in every
+    # band, so --calibrated with such a spectrum must plan exactly like --mag m.
+    from astropy import units as u
+    from astropy.table import Table
+
+    lam = np.linspace(0.3, 1.2, 901) * u.um
+    path = tmp_path / "flat18.ecsv"
+    Table({"wavelength": lam, "flux": np.full(lam.size, 3631 * 10 ** (-0.4 * 18.0)) * u.Jy}).write(path)
+    common = ["plan", "--instrument", "demo", "--av", "1", "--snr", "20", "--json", "--sed", f"file:{path}"]
+    calibrated, _ = _json(capsys, [*common, "--calibrated"])
+    given, _ = _json(capsys, [*common, "--mag", "18"])
+    for a, b in zip(calibrated, given):
+        assert a["band"] == b["band"]
+        assert_allclose(a["t_dust_s"], b["t_dust_s"], rtol=1e-4)  # linear interpolation of the table
+    assert main([*common[:-2], "--sed", "flat", "--calibrated"]) == 2
+    assert "--calibrated needs file:PATH" in capsys.readouterr().err
