@@ -95,7 +95,7 @@ class Band:
     >>> from redcorr.bandpass import tophat
     >>> band = tophat(0.55, 0.1)
     >>> round(band.pivot_um, 4)
-    0.5485
+    0.5492
     """
 
     def __init__(self, wave, response, *, name, convention="photon", provenance=""):
