@@ -47,6 +47,7 @@ from scipy.integrate import trapezoid
 
 from redcorr._validate import check_choice, check_finite, check_positive, check_range
 from redcorr.exceptions import InputError, UnknownNameError
+from redcorr.extinction import band_extinction
 
 __all__ = [
     "AB_ZERO_JY",
@@ -621,13 +622,13 @@ class BandPlan:
 
 
 def _band_extinction(curve, band, sed, a_v, extrapolate):
-    from redcorr.extinction import band_extinction  # noqa: PLC0415 - one owner of band extinction
-
     return np.asarray(band_extinction(curve, band, sed, a_v, extrapolate=extrapolate), dtype=float)
 
 
 def _band_mags(instrument, bands, mag, sed, mag_band):
     if isinstance(mag, dict):
+        if mag_band is not None:
+            raise InputError("mag_band applies to a single magnitude; mag already gives one per band")
         missing = [b for b in bands if b not in mag]
         if missing:
             raise InputError(f"mag has no value for band {missing[0]!r}; it gives {', '.join(map(repr, mag))}")
@@ -687,7 +688,8 @@ def plan_exposure(
     Returns
     -------
     list of BandPlan
-        Ordered by ``t_dust_s`` (shortest first).
+        Ranked: by ``t_dust_s`` (shortest first) for a target ``snr``, by the
+        S/N reached (highest first) for a given ``time``.
 
     Notes
     -----

@@ -155,3 +155,20 @@ def test_flux_calibrated_spectrum_gives_the_ab_magnitude(tmp_path, capsys):
         assert_allclose(a["t_dust_s"], b["t_dust_s"], rtol=1e-4)  # linear interpolation of the table
     assert main([*common[:-2], "--sed", "flat", "--calibrated"]) == 2
     assert "--calibrated needs file:PATH" in capsys.readouterr().err
+
+
+def test_time_vs_av_table_starts_at_the_clear_time_and_grows(capsys):
+    from redcorr.exposure import plan_exposure, time_vs_av
+
+    inst = load_instrument("demo")
+    curve, sed = load_curve("f99", r_v=4.3), load_sed("blackbody:5800")
+    grid, times, a_band = time_vs_av(inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed,
+                                     a_v=[0.0, 1.0, 2.5, 6.0], snr=50.0)
+    plans = {p.band: p for p in plan_exposure(inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed, a_v=2.5, snr=50.0)}
+    for band in ("kw-v", "kw-i"):
+        assert_allclose(times[band][0], plans[band].t_clear_s, rtol=1e-12)
+        assert_allclose(times[band][2], plans[band].t_dust_s, rtol=1e-9)
+        assert np.all(np.diff(times[band]) > 0) and a_band[band][0] == 0
+    # In time mode the bands are ranked by the S/N they reach.
+    rows, _ = _json(capsys, [*BASE, "--time", "300", "--json"])
+    assert [r["snr"] for r in rows] == sorted((r["snr"] for r in rows), reverse=True)
