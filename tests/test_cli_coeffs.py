@@ -152,3 +152,11 @@ def test_subprocess_entry_point(tmp_path):
     proc = subprocess.run([sys.executable, "-m", "redcorr", "bands", "kw-b", "--json"], cwd=root,
                           capture_output=True, text=True, check=True)
     assert json.loads(proc.stdout)[0]["band"] == "kw-b"
+
+
+def test_bands_warns_about_a_cut_off_curve(tmp_path, capsys):
+    path = tmp_path / "cut.csv"
+    path.write_text("wavelength_nm,response\n400,0.5\n500,1\n600,0\n")
+    assert main(["bands", f"file:{path}", "--json"]) == 0
+    captured = capsys.readouterr()
+    assert "is cut off" in captured.err and json.loads(captured.out)[0]["band"].startswith("file:")

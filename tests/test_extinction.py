@@ -325,3 +325,11 @@ def test_grid_accepts_quantity_free_tabulated_curve(kw_bands):
         warnings.simplefilter("error")
         assert np.all(np.isfinite(g.ratio))
     assert math.isclose(g.ratio[1, 0, 0], band_ratio(table, kw_bands[1], blackbody(4000)), rel_tol=1e-10)
+
+
+def test_grid_accepts_quantities(kw_bands):
+    from astropy import units as u
+
+    g = coefficient_grid(F99, kw_bands[:2], temperatures=[4000, 8000] * u.K, a_v=[0, 2] * u.mag)
+    assert_allclose(g.a_band(1 * u.mag, 6000 * u.K), g.a_band(1.0, 6000.0))
+    assert_allclose(g.temperatures, [4000, 8000])
