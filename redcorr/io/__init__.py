@@ -4,6 +4,7 @@ from redcorr.io._atomic import atomic_path, check_output_path
 from redcorr.io.curves import load_curve, read_curve_table
 from redcorr.io.filters import list_bands, load_band
 from redcorr.io.grids import read_coefficient_grid, write_coefficient_grid
+from redcorr.io.instrument import load_instrument
 from redcorr.io.maps import open_map
 from redcorr.io.spectra import load_sed
 
@@ -17,5 +18,6 @@ __all__ = [
     "load_sed",
     "read_coefficient_grid",
     "write_coefficient_grid",
+    "load_instrument",
     "open_map",
 ]
