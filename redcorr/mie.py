@@ -44,16 +44,8 @@ __all__ = ["MieResult", "mie", "amplitudes", "phase_function", "mie_coefficients
 X_MAX = 1.0e6
 """Largest size parameter accepted (the cost grows as x · max(1, |m|))."""
 
-_WANT_NUMPY = os.environ.get("REDCORR_MIE_NUMPY", "").strip() not in ("", "0")
-try:  # the compiled kernel is optional: numpy gives the same numbers
-    if _WANT_NUMPY:
-        raise ImportError("numpy path requested by REDCORR_MIE_NUMPY")
-    from redcorr import _mie_kernels
-except ImportError:
-    _mie_kernels = None
-
-USE_NUMBA = _mie_kernels is not None
-"""Whether :func:`mie` uses the numba kernel; set to False to force numpy."""
+USE_NUMBA = os.environ.get("REDCORR_MIE_NUMPY", "").strip() in ("", "0")
+"""Whether the numba kernel is used (when numba imports); False forces numpy."""
 
 
 @dataclass(frozen=True)
@@ -180,74 +172,117 @@ def _start_index(m, x, nstop):
 _CHUNK_CELLS = 2_000_000  # elements × terms held at once by the numpy path
 
 
-def _log_derivative(z, nstart, nstop):
-    """D_n(z) for n = 0..nstop (rows) by downward recurrence from nstart."""
-    d = np.zeros(z.shape, dtype=z.dtype)
+def _ratio_s(z, nstart, nstop):
+    """s_n(z) = z D_n(z) - (n + 1) for n = 0..nstop (rows), downward from nstart.
+
+    s_(n-1) = -z² / (2n + 1 + s_n), started at s = 0; unlike D_n itself it
+    carries no 1/z term, so differences like m D_n(mx) - D_n(x) keep full
+    precision when x ≪ 1.
+    """
+    z2 = z * z
+    s = np.zeros(z.shape, dtype=z.dtype)
     for n in range(nstart, nstop, -1):
-        d = n / z - 1.0 / (d + n / z)
+        s = -z2 / (2 * n + 1 + s)
     out = np.empty((nstop + 1,) + z.shape, dtype=z.dtype)
-    out[nstop] = d
+    out[nstop] = s
     for n in range(nstop, 0, -1):
-        out[n - 1] = n / z - 1.0 / (out[n] + n / z)
+        out[n - 1] = -z2 / (2 * n + 1 + out[n])
     return out
 
 
 def _coefficients_block(m, x, nstop, nstart):
-    """a_n, b_n for n = 1..nstop (rows) of 1-d m, x; zero beyond each n_stop."""
-    dz = _log_derivative(m * x, nstart, nstop)
-    dx = _log_derivative(x, nstart, nstop)
+    """a_n, b_n for n = 1..nstop (rows) of 1-d arrays m, x."""
+    sz = _ratio_s(m * x, nstart, nstop)
+    sx = _ratio_s(x, nstart, nstop)
+    m2 = m * m
     psi = np.sin(x)
     chi_prev, chi = -np.sin(x), np.cos(x)
     a = np.empty((nstop,) + x.shape, dtype=complex)
     b = np.empty((nstop,) + x.shape, dtype=complex)
     for n in range(1, nstop + 1):
         psi_prev = psi
-        psi = psi_prev / (dx[n] + n / x)
+        psi = psi_prev * x / (sx[n] + 2 * n + 1)
         chi_prev, chi = chi, (2 * n - 1) / x * chi - chi_prev
         xi, xi_prev = psi - 1j * chi, psi_prev - 1j * chi_prev
-        da = dz[n] / m + n / x
-        db = m * dz[n] + n / x
-        a[n - 1] = psi * (dz[n] / m - dx[n]) / (da * xi - xi_prev)
-        b[n - 1] = psi * (m * dz[n] - dx[n]) / (db * xi - xi_prev)
+        a[n - 1] = (psi * (sz[n] - m2 * sx[n] + (n + 1) * (1 - m2))
+                    / ((sz[n] + n + 1 + n * m2) * xi - m2 * x * xi_prev))
+        b[n - 1] = psi * (sz[n] - sx[n]) / ((sz[n] + 2 * n + 1) * xi - x * xi_prev)
     return a, b
 
 
-def _efficiencies_block(m, x, nstop_each, nstart):
-    nstop = int(nstop_each.max())
-    with np.errstate(all="ignore"):  # terms beyond an element's n_stop may overflow; masked
-        a, b = _coefficients_block(m, x, nstop, nstart)
-    n = np.arange(1, nstop + 1)[:, None]
-    keep = n <= nstop_each
-    a = np.where(keep, a, 0)
-    b = np.where(keep, b, 0)
-    f = 2 * n + 1
-    qext = 2 / x**2 * np.sum(f * (a.real + b.real), axis=0)
-    qsca = 2 / x**2 * np.sum(f * (np.abs(a) ** 2 + np.abs(b) ** 2), axis=0)
-    nn = n[:-1]
-    cross = np.sum(nn * (nn + 2) / (nn + 1) * (a[:-1] * a[1:].conj() + b[:-1] * b[1:].conj()).real, axis=0)
-    cross += np.sum(f / (n * (n + 1)) * (a * b.conj()).real, axis=0)
-    g = 4 / x**2 * cross / qsca
-    sign = np.where(n % 2 == 0, 1.0, -1.0)
-    qback = np.abs(np.sum(f * sign * (a - b), axis=0)) ** 2 / x**2
-    return qext, qsca, qback, g
-
-
-def _efficiencies_numpy(m, x):
-    """Q_ext, Q_sca, Q_back, g of 1-d arrays m, x, in chunks of similar cost."""
+def _chunks(m, x):
+    """Yield (index array, n_stop per element, start index) for groups of similar cost."""
     nstop = n_terms(x)
     nstart = _start_index(m, x, nstop)
     order = np.argsort(nstart, kind="stable")
-    out = np.empty((4, x.size))
     i = 0
     while i < x.size:
-        # take elements whose start index is within 1.5× of the first one
+        # elements whose start index is within 1.5× of the first one
         top = np.searchsorted(nstart[order], 1.5 * nstart[order[i]], side="right")
-        rows = max(1, _CHUNK_CELLS // int(nstart[order[top - 1]]))
-        j = min(top, i + rows)
+        j = min(top, i + max(1, _CHUNK_CELLS // int(nstart[order[top - 1]])))
         sel = order[i:j]
-        out[:, sel] = _efficiencies_block(m[sel], x[sel], nstop[sel], int(nstart[sel].max()))
+        yield sel, nstop[sel], int(nstart[sel].max())
         i = j
+
+
+def _masked_coefficients(m, x, nstop_each, nstart):
+    """a_n, b_n (rows n = 1..max n_stop) set to 0 beyond each element's n_stop."""
+    nstop = int(nstop_each.max())
+    with np.errstate(all="ignore"):  # terms beyond an element's n_stop may overflow
+        a, b = _coefficients_block(m, x, nstop, nstart)
+    keep = np.arange(1, nstop + 1)[:, None] <= nstop_each
+    return np.where(keep, a, 0), np.where(keep, b, 0)
+
+
+def _efficiencies_numpy(m, x):
+    """Q_ext, Q_sca, Q_back, g of 1-d arrays m, x."""
+    out = np.empty((4, x.size))
+    for sel, nstop_each, nstart in _chunks(m, x):
+        xs = x[sel]
+        a, b = _masked_coefficients(m[sel], xs, nstop_each, nstart)
+        n = np.arange(1, a.shape[0] + 1)[:, None]
+        f = 2 * n + 1
+        qext = 2 / xs**2 * np.sum(f * (a.real + b.real), axis=0)
+        qsca = 2 / xs**2 * np.sum(f * (np.abs(a) ** 2 + np.abs(b) ** 2), axis=0)
+        nn = n[:-1]
+        cross = np.sum(nn * (nn + 2) / (nn + 1) * (a[:-1] * a[1:].conj() + b[:-1] * b[1:].conj()).real, axis=0)
+        cross += np.sum(f / (n * (n + 1)) * (a * b.conj()).real, axis=0)
+        sign = np.where(n % 2 == 0, 1.0, -1.0)
+        out[0, sel] = qext
+        out[1, sel] = qsca
+        out[2, sel] = np.abs(np.sum(f * sign * (a - b), axis=0)) ** 2 / xs**2
+        out[3, sel] = 4 / xs**2 * cross / qsca
     return out
+
+
+def _amplitudes_numpy(m, x, mu):
+    """S1, S2 of shape (m.size, mu.size) for 1-d arrays m, x, mu."""
+    s1 = np.zeros((x.size, mu.size), dtype=complex)
+    s2 = np.zeros_like(s1)
+    for sel, nstop_each, nstart in _chunks(m, x):
+        a, b = _masked_coefficients(m[sel], x[sel], nstop_each, nstart)
+        pi_prev, pi = np.zeros(mu.shape), np.ones(mu.shape)
+        for n in range(1, a.shape[0] + 1):
+            tau = n * mu * pi - (n + 1) * pi_prev
+            f = (2 * n + 1) / (n * (n + 1))
+            an, bn = f * a[n - 1][:, None], f * b[n - 1][:, None]
+            s1[sel] += an * pi + bn * tau
+            s2[sel] += an * tau + bn * pi
+            pi_prev, pi = pi, ((2 * n + 1) * mu * pi - (n + 1) * pi_prev) / n
+    return s1, s2
+
+
+def _kernels():
+    """The numba kernel module, or None when numba is off or missing."""
+    global USE_NUMBA
+    if not USE_NUMBA:
+        return None
+    try:
+        from redcorr import _mie_kernels  # noqa: PLC0415 - numba is imported only when needed
+    except ImportError:
+        USE_NUMBA = False
+        return None
+    return _mie_kernels
 
 
 def mie(m, x, *, convention="n+ik"):
@@ -322,8 +357,9 @@ def mie(m, x, *, convention="n+ik"):
     shape = mm.shape
     mf = np.ascontiguousarray(mm, dtype=complex).ravel()
     xf = np.ascontiguousarray(xx, dtype=float).ravel()
-    if USE_NUMBA and _mie_kernels is not None:
-        qext, qsca, qback, g = _mie_kernels.efficiencies(mf, xf)
+    kernels = _kernels()
+    if kernels is not None:
+        qext, qsca, qback, g = kernels.efficiencies(mf, xf)
     else:
         qext, qsca, qback, g = _efficiencies_numpy(mf, xf)
     qabs = np.where(mf.imag == 0, 0.0, qext - qsca)
@@ -353,7 +389,7 @@ def mie_coefficients(m, x, *, convention="n+ik"):
     m = _as_index(m, convention)
     x = _as_size(x)
     if m.ndim or x.ndim:
-        raise InputError(f"m={m!r} and x={x!r} must be single numbers here")
+        raise InputError(f"m and x must be single numbers here, not shapes {m.shape} and {x.shape}")
     mf, xf = m.reshape(1), x.reshape(1)
     nstop = n_terms(xf)
     a, b = _coefficients_block(mf, xf, int(nstop[0]), int(_start_index(mf, xf, nstop)[0]))
@@ -373,7 +409,7 @@ def _angles(theta):
         raise InputError(f"theta={theta!r} is not numeric") from None
     bad = ~np.isfinite(arr) | (arr < 0) | (arr > np.pi)
     if np.any(bad):
-        raise InputError(f"theta={arr[bad].flat[0]!r} is outside the allowed range [0, π] (radians)")
+        raise InputError(f"theta={arr[bad].flat[0]!r} is outside the allowed range [0, π] radians")
     return arr
 
 
@@ -393,7 +429,7 @@ def amplitudes(m, x, theta, *, convention="n+ik"):
     Returns
     -------
     S1, S2 : ndarray of complex
-        Shape ``broadcast(m, x).shape + theta.shape``.
+        Shape ``broadcast(m, x).shape + theta.shape``: the angles come last.
 
     Notes
     -----
@@ -403,35 +439,33 @@ def amplitudes(m, x, theta, *, convention="n+ik"):
         S_2 = \\sum_n \\frac{2n+1}{n(n+1)}(a_n\\tau_n + b_n\\pi_n),
 
     with π_n, τ_n from the upward recurrences of Bohren & Huffman (1983,
-    eqs. 4.46–4.47) in μ = cos θ.
+    eqs. 4.47) in μ = cos θ: π_n = [(2n−1)μπ_(n−1) − nπ_(n−2)]/(n−1),
+    τ_n = nμπ_n − (n+1)π_(n−1).
 
     References
     ----------
-    .. [1] Bohren, C. F. & Huffman, D. R. 1983, eqs. 4.46, 4.47, 4.74.
+    .. [1] Bohren, C. F. & Huffman, D. R. 1983, eqs. 4.47 and 4.74.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from redcorr.mie import amplitudes, mie
+    >>> s1, s2 = amplitudes(1.5 + 0.01j, 2.0, [0.0, np.pi])
+    >>> bool(np.isclose(4 / 2.0**2 * s1[0].real, mie(1.5 + 0.01j, 2.0).qext))
+    True
     """
     mm, xx = _broadcast(_as_index(m, convention), _as_size(x))
-    mu = np.cos(_angles(theta))
-    s1 = np.empty(mm.shape + mu.shape, dtype=complex)
-    s2 = np.empty_like(s1)
-    for idx in np.ndindex(mm.shape):
-        a, b = mie_coefficients(mm[idx], xx[idx])
-        s1[idx], s2[idx] = _amplitudes_from(a, b, mu)
-    return s1, s2
-
-
-def _amplitudes_from(a, b, mu):
-    """S1, S2 at cosines ``mu`` from coefficient vectors a, b."""
-    s1 = np.zeros(mu.shape, dtype=complex)
-    s2 = np.zeros(mu.shape, dtype=complex)
-    pi_prev = np.zeros(mu.shape)
-    pi = np.ones(mu.shape)
-    for n in range(1, a.size + 1):
-        tau = n * mu * pi - (n + 1) * pi_prev
-        f = (2 * n + 1) / (n * (n + 1))
-        s1 += f * (a[n - 1] * pi + b[n - 1] * tau)
-        s2 += f * (a[n - 1] * tau + b[n - 1] * pi)
-        pi_prev, pi = pi, ((2 * n + 1) * mu * pi - (n + 1) * pi_prev) / n
-    return s1, s2
+    th = _angles(theta)
+    mf = np.ascontiguousarray(mm, dtype=complex).ravel()
+    xf = np.ascontiguousarray(xx, dtype=float).ravel()
+    mu = np.ascontiguousarray(np.cos(th), dtype=float).ravel()
+    kernels = _kernels()
+    if kernels is not None:
+        s1, s2 = kernels.amplitudes(mf, xf, mu)
+    else:
+        s1, s2 = _amplitudes_numpy(mf, xf, mu)
+    shape = mm.shape + th.shape
+    return s1.reshape(shape), s2.reshape(shape)
 
 
 def phase_function(m, x, theta, *, convention="n+ik"):
@@ -463,7 +497,6 @@ def phase_function(m, x, theta, *, convention="n+ik"):
     """
     s1, s2 = amplitudes(m, x, theta, convention=convention)
     res = mie(m, x, convention=convention)
-    scale = 2 * np.pi * np.asarray(_as_size(x)) ** 2 * res.qsca
-    scale = np.broadcast_to(scale, res.qsca.shape)
+    scale = 2 * np.pi * _as_size(x) ** 2 * res.qsca
     extra = s1.ndim - scale.ndim
     return (np.abs(s1) ** 2 + np.abs(s2) ** 2) / scale.reshape(scale.shape + (1,) * extra)
