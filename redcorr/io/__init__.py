@@ -2,5 +2,14 @@
 
 from redcorr.io._atomic import atomic_path, check_output_path
 from redcorr.io.curves import load_curve, read_curve_table
+from redcorr.io.grains import read_grain_model, read_optical_constants, read_size_table
 
-__all__ = ["atomic_path", "check_output_path", "load_curve", "read_curve_table"]
+__all__ = [
+    "atomic_path",
+    "check_output_path",
+    "load_curve",
+    "read_curve_table",
+    "read_grain_model",
+    "read_optical_constants",
+    "read_size_table",
+]
