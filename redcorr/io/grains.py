@@ -201,7 +201,7 @@ def read_grain_model(path):
         try:
             components.append(build_component(spec, base_dir=path.parent))
         except InputError as exc:
-            raise InputError(f"grain-model file {str(path)!r}, component {i}: {exc}") from None
+            raise type(exc)(f"grain-model file {str(path)!r}, component {i}: {exc}") from None
     return GrainModel(
         components,
         name=str(doc.get("name", f"grain:{path.name}")),
