@@ -24,13 +24,19 @@ def _n_terms(x):
 
 
 @njit(cache=True)
+def _start_index(w):
+    """Start of the downward recurrence for |z| = w: n_stop(w) + 6 w^(1/3) + 16."""
+    return _n_terms(w) + int(6.0 * w ** (1.0 / 3.0)) + 16
+
+
+@njit(cache=True)
 def _coefficients(m, x, a, b, sz, sx):
     """Fill a[:nstop], b[:nstop] with a_n, b_n (n = 1..nstop); return nstop.
 
     ``sz`` (complex) and ``sx`` (float) are work arrays of length >= nstop + 1.
     """
     nstop = _n_terms(x)
-    nstart = max(nstop, _n_terms(abs(m) * x)) + 16
+    nstart = _start_index(max(abs(m), 1.0) * x)
     z = m * x
     z2 = z * z
     x2 = x * x
@@ -42,7 +48,7 @@ def _coefficients(m, x, a, b, sz, sx):
     for n in range(nstop, 0, -1):
         sz[n - 1] = -z2 / (2 * n + 1 + sz[n])
     t = 0.0
-    for n in range(nstart, nstop, -1):
+    for n in range(_start_index(x), nstop, -1):
         t = -x2 / (2 * n + 1 + t)
     sx[nstop] = t
     for n in range(nstop, 0, -1):
