@@ -173,3 +173,15 @@ def test_toml_errors(tmp_path, text, error, match):
     path.write_text(text)
     with pytest.raises(error, match=match):
         read_grain_model(path)
+
+
+def test_demo_section(capsys):
+    from redcorr._paths import project_dir
+    from redcorr.cli._demo.s20_grains import section
+    from redcorr.io._toml import load_toml
+
+    demo_dir = project_dir("demo")
+    section(load_toml(demo_dir / "scenario.toml"), demo_dir)
+    out = capsys.readouterr().out
+    # The invented demo dust is built to give the invented cloud's R_V of 4.3 (demo/scenario.toml).
+    assert "brume-grown: R_V = 4.30" in out and "kw-z" in out
