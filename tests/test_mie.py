@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from astropy import units as u
+from scipy.integrate import trapezoid
 from scipy.special import spherical_jn, spherical_yn
 
 import redcorr
@@ -260,8 +261,8 @@ def test_phase_function_normalized_with_mean_cosine_g(path):
     p = phase_function(m, x, theta)
     assert p.shape == (2, 2, theta.size)
     w = 2 * np.pi * np.sin(theta)
-    np.testing.assert_allclose(np.trapezoid(p * w, theta, axis=-1), 1, rtol=1e-6)
-    g = np.trapezoid(p * w * np.cos(theta), theta, axis=-1)
+    np.testing.assert_allclose(trapezoid(p * w, theta, axis=-1), 1, rtol=1e-6)
+    g = trapezoid(p * w * np.cos(theta), theta, axis=-1)
     np.testing.assert_allclose(g, mie(m, x).g, rtol=1e-5)
 
 
