@@ -218,3 +218,17 @@ def test_concurrent_writers_leave_one_complete_file(tmp_path):
 def test_bad_cache_argument():
     with pytest.raises(InputError, match="cache="):
         get_grain_model("mrn77").optics([0.55], cache="yes")
+
+
+def test_model_phase_function_is_normalized_and_has_the_model_g():
+    # ∫ p dΩ = 1 and ⟨cos θ⟩ of the amplitude-based phase function equals g computed from the Mie
+    # series (Bohren & Huffman 1983, eqs. 3.14, 4.61 and 4.62); PAHs do not scatter (Li & Draine 2001).
+    model = get_grain_model("wd01-rv3.1")
+    theta = np.linspace(0.0, np.pi, 1201)
+    p = model.phase_function(0.55, theta)
+    weight = 2 * np.pi * np.sin(theta)
+    assert np.trapezoid(weight * p, theta) == pytest.approx(1.0, abs=1e-5)
+    g = model.optics([0.55], cache=False).g[0]
+    assert np.trapezoid(weight * np.cos(theta) * p, theta) == pytest.approx(g, abs=1e-5)
+    with pytest.raises(InputError, match="one finite wavelength"):
+        model.phase_function([0.5, 0.6], theta)

@@ -123,12 +123,15 @@ def _plot(model, path, *, cache):
     ax3.set_ylabel(r"$g = \langle\cos\theta\rangle$")
     for ax in (ax1, ax2, ax3):
         ax.set_xlabel(r"$1/\lambda$ [$\mu$m$^{-1}$]")
-    theta = np.linspace(0.0, np.pi, 361)
-    for lam in (0.2, B_WAVE_UM, V_WAVE_UM, 2.2):
+    theta = np.linspace(0.0, np.pi, 181)
+    for lam, colour in ((0.2, "C0"), (V_WAVE_UM, "C1"), (2.2, "C3")):
         g = float(np.interp(1 / lam, x[::-1], optics.g[::-1]))
-        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), label=f"{lam:g} µm, g={g:.2f}")
+        ax4.semilogy(np.degrees(theta), model.phase_function(lam, theta), color=colour,
+                     label=f"{lam:g} µm Mie, g={g:.2f}")
+        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), color=colour, ls="--", lw=0.9)
     ax4.set_xlabel("scattering angle [deg]")
-    ax4.set_ylabel(r"phase function [sr$^{-1}$] (Henyey–Greenstein)")
+    ax4.set_ylabel(r"phase function [sr$^{-1}$]")
+    ax4.set_title("Mie (solid) and Henyey–Greenstein with the same g (dashed)", fontsize=8)
     ax4.legend(frameon=False, fontsize=8)
     fig.suptitle(f"{model.name}: R_V = {curve.r_v:.3f}", fontsize=10)
     with atomic_path(path, suffix=".png") as tmp:

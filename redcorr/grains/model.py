@@ -167,6 +167,21 @@ class Component:
         cabs, csca, gsca = (arr @ w for arr in (cabs, csca, gsca))
         return {"c_ext": cabs + csca, "c_sca": csca, "c_abs": cabs, "g_sca": gsca}
 
+    def scattering_populations(self, wave_um):
+        """(m, radii, weights) of every population that scatters at one wavelength.
+
+        The weights are grains per H times the orientation weight, times
+        1 − ξ(a) when PAHs are blended in (the PAH part absorbs only).
+        """
+        a, w = self.radii()
+        if self.pah is not None:
+            w = w * (1 - pah_fraction(a, self.pah.q_gra, self.pah.a_xi_um))
+        out = []
+        for mask, parts in self.material.pieces(a):
+            for weight, table in parts:
+                out.append((complex(table(wave_um)), a[mask], weight * w[mask]))
+        return out
+
     def __repr__(self):
         return f"<Component {self.material.name} × {self.sizes.label} × {self.abundance:g}>"
 
@@ -298,6 +313,42 @@ class GrainModel:
             g=g,
             mass_per_h=sum(c.mass_per_h() for c in self.components),
         )
+
+    def phase_function(self, wave, theta):
+        """Exact Mie phase function of the whole model at one wavelength.
+
+        Parameters
+        ----------
+        wave : float or Quantity
+            One wavelength (plain numbers in µm).
+        theta : array_like or Quantity ['angle']
+            Scattering angles in [0, π]; plain numbers are radians.
+
+        Returns
+        -------
+        ndarray
+            p(θ) in sr⁻¹, normalized so that ∫ p dΩ = 1.
+
+        Notes
+        -----
+        p = Σ_j C_sca,j p_j / Σ_j C_sca,j over every component, grain-radius
+        set and orientation j, each p_j from
+        :func:`redcorr.phase.population_phase_function` (Bohren & Huffman
+        1983, §3.4 and §4.4).
+        """
+        from redcorr.phase import population_phase_function  # noqa: PLC0415
+
+        wave_um = 1.0 / inverse_micron(wave)
+        if np.ndim(wave_um) != 0 or not np.isfinite(wave_um):
+            raise InputError(f"wave={wave!r} must be one finite wavelength")
+        num, den = 0.0, 0.0
+        for comp in self.components:
+            for m, a, w in comp.scattering_populations(float(wave_um)):
+                pop = population_phase_function(m, a, w, float(wave_um), theta)
+                c_sca = pop.c_sca * np.sum(w)
+                num = num + c_sca * pop.p
+                den += c_sca
+        return num / den
 
     def r_v(self, *, cache=True):
         """Monochromatic R_V = A(0.55 µm)/[A(0.44 µm) − A(0.55 µm)]."""
