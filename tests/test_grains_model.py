@@ -232,3 +232,17 @@ def test_model_phase_function_is_normalized_and_has_the_model_g():
     assert np.trapezoid(weight * np.cos(theta) * p, theta) == pytest.approx(g, abs=1e-5)
     with pytest.raises(InputError, match="one finite wavelength"):
         model.phase_function([0.5, 0.6], theta)
+
+
+def test_grey_dust_warns_that_r_v_means_nothing():
+    # Grains far larger than the wavelength extinguish greyly (Q_ext → 2; van de Hulst 1957), so
+    # A(B) ≈ A(V) and R_V = A(V)/E(B-V) blows up or turns negative (definition, common practice).
+    from redcorr.exceptions import OutOfRangeWarning
+
+    big = GrainModel([Component(get_material("silicate-d03"), LogNormal(20.0, 0.05, volume=1e-15))], name="boulders")
+    with pytest.warns(OutOfRangeWarning, match="boulders: extinction at 0.44 µm"):
+        r_v = big.r_v(cache=False)
+    assert not 0 < r_v < 100
+    with pytest.warns(OutOfRangeWarning):
+        curve = big.curve([0.3, 0.5, 0.7, 1.0], cache=False)
+    assert curve.r_v == r_v

@@ -7,6 +7,7 @@ from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_tabl
 from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM
 from redcorr.exceptions import InputError
 from redcorr.grains import get_grain_model, list_grain_models, list_materials
+from redcorr.grains.model import r_v_from_cross_sections
 
 __all__ = ["add_parser", "run", "grain_rows"]
 
@@ -54,7 +55,7 @@ def grain_rows(model, wave_um, *, cache=True):
         }
         for w, c, alb, g, k in zip(wave_um, optics.c_ext, optics.albedo, optics.g, optics.kappa_ext)
     ]
-    return float(c_v / (c_b - c_v)), rows
+    return r_v_from_cross_sections(c_b, c_v, model.name), rows
 
 
 def _list(as_json):

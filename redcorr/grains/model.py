@@ -17,13 +17,14 @@ Conventions
 """
 
 import math
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 
 from redcorr._validate import check_positive, check_range, inverse_micron
 from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM, TabulatedCurve
-from redcorr.exceptions import InputError
+from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.grains.materials import Material
 from redcorr.grains.pah import n_carbon, pah_cross_section, pah_fraction
 from redcorr.grains.sizes import SizeDistribution
@@ -36,6 +37,7 @@ __all__ = [
     "GrainCurve",
     "DEFAULT_WAVE_UM",
     "CACHE_VERSION",
+    "r_v_from_cross_sections",
 ]
 
 DEFAULT_WAVE_UM = np.geomspace(0.1, 100.0, 200)
@@ -43,6 +45,26 @@ DEFAULT_WAVE_UM = np.geomspace(0.1, 100.0, 200)
 
 CACHE_VERSION = 1
 """Bumped whenever the computation changes, so old cache entries are not reused."""
+
+
+def r_v_from_cross_sections(c_b, c_v, name="grain model"):
+    """Monochromatic R_V = C_ext(0.55)/[C_ext(0.44) − C_ext(0.55)].
+
+    Follows from R_V = A_V/E(B−V) with A ∝ C_ext, B = 0.44 µm and V = 0.55 µm
+    (definition; common practice, no source). When the extinction does not
+    rise from V to B (grey or blue-flat dust), the value is infinite or
+    negative and an `OutOfRangeWarning` says that R_V means nothing there.
+    """
+    c_b, c_v = float(c_b), float(c_v)
+    if not c_b > c_v:
+        warnings.warn(
+            f"{name}: extinction at 0.44 µm ({c_b:.4g}) is not above that at 0.55 µm ({c_v:.4g}) "
+            "per H, so R_V = A(V)/E(B-V) is infinite or negative and should not be used",
+            OutOfRangeWarning,
+            stacklevel=3,
+        )
+        return math.inf if c_b == c_v else c_v / (c_b - c_v)
+    return c_v / (c_b - c_v)
 
 
 @dataclass(frozen=True)
@@ -353,7 +375,7 @@ class GrainModel:
     def r_v(self, *, cache=True):
         """Monochromatic R_V = A(0.55 µm)/[A(0.44 µm) − A(0.55 µm)]."""
         c_b, c_v = self.optics([B_WAVE_UM, V_WAVE_UM], cache=cache).c_ext
-        return float(c_v / (c_b - c_v))
+        return r_v_from_cross_sections(c_b, c_v, self.name)
 
     def a_over_av(self, wave, *, cache=True):
         """A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm) at ``wave``; scalar in, scalar out."""
@@ -423,12 +445,14 @@ class GrainCurve(TabulatedCurve):
         if i_b.size == 0 or i_v.size == 0:
             raise InputError("a grain curve needs cross sections at 0.44 and 0.55 µm")
         c_b, c_v = optics.c_ext[i_b[0]], optics.c_ext[i_v[0]]
+        r_v = r_v_from_cross_sections(c_b, c_v, model.name)
         super().__init__(
             w,
             optics.c_ext / c_v,
-            r_v=float(c_v / (c_b - c_v)),
+            r_v=r_v if 0 < r_v < math.inf else None,
             name=model.name,
             citation=model.citation or "grain model",
         )
+        self._r_v = self.default_r_v = r_v  # exact, even where meaningless (warned above)
         self.model = model
         self.optics = optics
