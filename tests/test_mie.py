@@ -128,6 +128,22 @@ def test_rayleigh_limit(path):
     np.testing.assert_allclose(r.qabs[absorbing], 4 * x * pol.imag[absorbing], rtol=1e-6)
 
 
+def test_rayleigh_power_laws_down_to_smallest_size(path):
+    # Rayleigh limit (BH83 eqs. 5.7, 5.8 and, for Q_back = 4x⁴|(m²-1)/(m²+2)|²,
+    # BH83 §5.2, from memory): Q_abs ∝ x, Q_sca and Q_back ∝ x⁴, and g ∝ x²
+    # (lowest-order a_1 a_2* and a_1 b_1* terms, from memory); exact scaling
+    # from x = 1e-6 down to the smallest accepted x = 1e-30
+    m = np.array([1.5 + 0.01j, 10.0 + 10.0j, 1.001, 0.5 + 0.001j])
+    x = np.array([1e-6, 1e-30])
+    r = mie(m[:, None], x)
+    pol = (m**2 - 1) / (m**2 + 2)
+    np.testing.assert_allclose(r.qback / x**4, (4 * np.abs(pol) ** 2)[:, None] * [1, 1], rtol=1e-6)
+    for q, power in ((r.qext, 1), (r.qsca, 4), (r.g, 2)):
+        scaled = q / x**power if power != 1 else np.where(m.imag[:, None] > 0, q / x, q / x**4)
+        # (corrections at x = 1e-6 are O(|m|²x²) ~ 2e-10, a few times that for g)
+        np.testing.assert_allclose(scaled[:, 1], scaled[:, 0], rtol=5e-9)
+
+
 @pytest.mark.parametrize("x", [1e-6, 1e-3])
 def test_tiny_spheres_keep_precision(path, x):
     # Rayleigh limit (BH83 eqs. 5.7, 5.8, from memory) holds to relative O(x²),
@@ -285,7 +301,8 @@ def test_angles_as_quantity():
 @pytest.mark.parametrize(
     ("kwargs", "match"),
     [
-        ({"m": 1.5, "x": -1.0}, r"x=-1\.0 is outside the allowed range \(0, 1e\+06\]"),
+        ({"m": 1.5, "x": -1.0}, r"x=-1\.0 is outside the allowed range \[1e-30, 1e\+06\]"),
+        ({"m": 1.5, "x": 1e-31}, r"x=1e-31 is outside the allowed range"),
         ({"m": 1.5, "x": np.nan}, r"x=nan is outside the allowed range"),
         ({"m": 1.5, "x": 0.0}, r"x=0\.0 is outside"),
         ({"m": 1.5, "x": 2e6}, r"x=2000000\.0 is outside"),
