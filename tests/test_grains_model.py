@@ -246,3 +246,27 @@ def test_grey_dust_warns_that_r_v_means_nothing():
     with pytest.warns(OutOfRangeWarning):
         curve = big.curve([0.3, 0.5, 0.7, 1.0], cache=False)
     assert curve.r_v == r_v
+
+
+def test_two_processes_share_the_cache(tmp_path):
+    # Two processes computing the same grid at once both succeed and leave one complete entry
+    # (atomic os.replace; common practice, no source).
+    import os
+    import subprocess
+    import sys
+
+    code = (
+        "from redcorr.grains import get_grain_model;"
+        "print(get_grain_model('mrn77').optics([0.3, 0.55, 2.2]).c_ext[1])"
+    )
+    env = dict(os.environ, **{CACHE_ENV: str(tmp_path), "REDCORR_MIE_NUMPY": "1"})  # no JIT warm-up
+    root = Path(__file__).resolve().parent.parent
+    procs = [
+        subprocess.Popen([sys.executable, "-c", code], cwd=root, env=env, stdout=subprocess.PIPE, text=True)
+        for _ in range(2)
+    ]
+    outs = [p.communicate(timeout=120)[0] for p in procs]
+    assert [p.returncode for p in procs] == [0, 0]
+    assert outs[0] == outs[1]
+    files = list((tmp_path / "grains").iterdir())
+    assert len(files) == 1 and files[0].suffix == ".npz"
