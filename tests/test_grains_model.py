@@ -154,7 +154,8 @@ def test_pah_only_for_carbon():
 
 def test_wavelength_outside_material():
     model = get_grain_model("mrn77")  # Laor & Draine (1993) tables stop at 1000 µm
-    with pytest.raises(InputError, match=r"wave=2000 µm lies outside the optical constants of silicate-ld93, \[0.001, 1000\]"):
+    msg = r"wave=2000 µm lies outside the optical constants of silicate-ld93, \[0.001, 1000\]"
+    with pytest.raises(InputError, match=msg):
         model.optics([0.5, 2000.0], cache=False)
 
 

@@ -2,8 +2,9 @@
 
 References used below:
 * Bohren, C. F. & Huffman, D. R. 1983, Absorption and Scattering of Light by
-  Small Particles (Wiley) -- "BH83".
-* van de Hulst, H. C. 1957, Light Scattering by Small Particles (Wiley).
+  Small Particles (Wiley) -- "BH83"; its equation numbers are cited from memory.
+* van de Hulst, H. C. 1957, Light Scattering by Small Particles (Wiley); section
+  numbers from memory.
 * scipy.special spherical Bessel functions (a general reference library).
 * miepython (PyPI), a general-purpose Mie code, as a test peer; it writes
   m = n - ik, so its indices are the complex conjugates of ours.

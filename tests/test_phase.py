@@ -1,7 +1,7 @@
 """Tests of redcorr.phase: Henyey-Greenstein and population Mie phase functions.
 
 References: Henyey, L. G. & Greenstein, J. L. 1941, ApJ 93, 70 ("HG41");
-Bohren, C. F. & Huffman, D. R. 1983 ("BH83").
+Bohren, C. F. & Huffman, D. R. 1983 ("BH83"); equation numbers from memory.
 """
 
 import numpy as np
@@ -18,7 +18,7 @@ THETA = np.linspace(0, np.pi, 20001)
 
 @pytest.mark.parametrize("g", [-0.5, 0.0, 0.3, 0.8, 0.95])
 def test_hg_normalized_with_mean_cosine_g(g):
-    # HG41 eq. 3: ∫ p dΩ = 1 and ⟨cos θ⟩ = g; integrated with scipy.integrate.quad in μ = cos θ
+    # HG41: ∫ p dΩ = 1 and ⟨cos θ⟩ = g; integrated with scipy.integrate.quad in μ = cos θ
     def p(mu):
         return henyey_greenstein(np.arccos(mu), g)
 
@@ -29,7 +29,7 @@ def test_hg_normalized_with_mean_cosine_g(g):
 
 
 def test_hg_isotropic_and_forward_value():
-    # HG41 eq. 3: g = 0 gives 1/(4π); forward value (1+g)/(4π(1-g)²)
+    # HG41: g = 0 gives 1/(4π); forward value (1+g)/(4π(1-g)²)
     assert henyey_greenstein(1.0, 0.0) == pytest.approx(1 / (4 * np.pi))
     assert henyey_greenstein(0.0, 0.6) == pytest.approx(1.6 / (4 * np.pi * 0.4**2))
     np.testing.assert_allclose(henyey_greenstein(30 * u.deg, 0.5), henyey_greenstein(np.pi / 6, 0.5))

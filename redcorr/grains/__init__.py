@@ -266,7 +266,9 @@ def _build_sizes(spec, base_dir):
     if "r_v" in args:
         extra = set(args) - {"r_v", "b_c", "case"}
         if extra:
-            raise InputError(f"sizes of type {kind!r}: give r_v/b_c/case or explicit parameters, not both ({sorted(extra)})")
+            raise InputError(
+                f"sizes of type {kind!r}: give r_v/b_c/case or explicit parameters, not both ({sorted(extra)})"
+            )
         carbon, silicate = wd01_sizes(args["r_v"], args.get("b_c", 0.0), args.get("case", "A"), scale=scale)
         return carbon if kind == "wd01-carbonaceous" else silicate
     explicit = {"alpha", "beta", "a_t", "a_c", "c"}
