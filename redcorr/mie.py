@@ -41,6 +41,8 @@ environment variable ``REDCORR_MIE_NUMPY=1`` before import (or
 which gives the same numbers more slowly.
 
 The module itself is callable: ``redcorr.mie(m, x)`` is ``redcorr.mie.mie(m, x)``.
+
+Equation and section numbers of Bohren & Huffman (1983) are cited from memory.
 """
 
 import os
@@ -179,7 +181,8 @@ def n_terms(x):
 
     References
     ----------
-    .. [1] Wiscombe, W. J. 1980, Appl. Opt. 19, 1505, eq. 3.
+    .. [1] Wiscombe, W. J. 1980, Appl. Opt. 19, 1505 (his count for 8 < x < 4200,
+       used here at every x).
     """
     x = np.asarray(x, dtype=float)
     return (x + 4.05 * np.cbrt(x) + 2.0).astype(np.int64)

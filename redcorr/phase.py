@@ -2,7 +2,7 @@
 
 Both are normalized over the sphere, ∫ p dΩ = 1 (sr⁻¹), so they can be
 compared directly. Plain angles are radians; an astropy Quantity may carry
-any angle unit.
+any angle unit. Equation numbers of Bohren & Huffman (1983) are cited from memory.
 """
 
 from dataclasses import dataclass
@@ -41,7 +41,7 @@ def henyey_greenstein(theta, g):
 
     References
     ----------
-    .. [1] Henyey, L. G. & Greenstein, J. L. 1941, ApJ 93, 70, eq. 3.
+    .. [1] Henyey, L. G. & Greenstein, J. L. 1941, ApJ 93, 70.
 
     Examples
     --------
