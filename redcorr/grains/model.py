@@ -259,6 +259,23 @@ class GrainModel:
         Where the model comes from.
     description : str, optional
 
+    Notes
+    -----
+    Per H nucleon, C(λ) = Σ_c A_c ∫ (1/n_H)(dn_c/da) πa² Q(m_c(λ), 2πa/λ) da,
+    summed over components c (abundance A_c) and, for anisotropic materials,
+    over orientations with their weights. The size integral is a trapezoid in
+    ln a on ``n_sizes`` log-spaced radii (150 by default: 0.05% from a
+    600-radius integral for the WD01 models). g = Σ g C_sca / Σ C_sca;
+    A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm); the mass opacity is C divided by the
+    dust mass per H, Σ_c A_c ρ_c ∫ (4π/3) a³ (1/n_H)(dn_c/da) da.
+
+    References
+    ----------
+    .. [1] Bohren, C. F., & Huffman, D. R. 1983, Absorption and Scattering of
+       Light by Small Particles (Wiley), ch. 4.
+    .. [2] Weingartner, J. C., & Draine, B. T. 2001, ApJ, 548, 296.
+       doi:10.1086/318651
+
     Examples
     --------
     >>> from redcorr.grains import get_grain_model
