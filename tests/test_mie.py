@@ -18,6 +18,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 from astropy import units as u
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.integrate import trapezoid
 from scipy.special import spherical_jn, spherical_yn
 
@@ -80,6 +82,29 @@ def test_direct_bessel_series(path, m, x):
     r = mie(m, x)
     ref = direct_series(m, x)
     np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], ref, rtol=1e-9)
+
+
+# 60-digit mpmath 1.3.0 evaluation of the direct series (a_n, b_n of BH83 eq. 4.53
+# with psi_n, chi_n from mpmath.besselj/bessely of half-integer order, the same
+# n_stop = int(x + 4.05 x^(1/3) + 2) terms), computed once for this file:
+# (m, x): (Q_ext, Q_sca, Q_back, g)
+HIGH_PRECISION = {
+    (1.5 + 0.01j, 1e-6): (1.993074066512726e-08, 2.30775833111006e-25, 3.461637496663456e-25, 1.983297511090096e-13),
+    (1.001 + 1e-7j, 1e-3): (
+        2.6657760171475935e-10, 1.1847891693955675e-18, 1.7771830430301698e-18, 1.600587114880609e-07
+    ),
+    (10 + 10j, 0.05): (0.006352619992340213, 1.6720032146542233e-05, 2.5100822991024322e-05, -0.0004975049086287714),
+    (1.33, 0.3): (0.0008924603817483723, 0.0008924603817483723, 0.0012859856110277888, 0.016435545442861087),
+    (3 + 4j, 30.0): (2.258304476890548, 1.7517323857083749, 0.6035417164918788, 0.6367843563733393),
+    (5.52, 120.0): (2.0562137546701633, 2.0562137546701633, 71.54332760175558, 0.5032819578120913),
+}
+
+
+@pytest.mark.parametrize(("m", "x"), list(HIGH_PRECISION))
+def test_high_precision_reference(path, m, x):
+    # tiny x, m close to 1, |m| = 14, a large real index: all to ~1e-14
+    r = mie(m, x)
+    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], HIGH_PRECISION[(m, x)], rtol=2e-13)
 
 
 def test_peer_miepython_grid():
@@ -213,6 +238,31 @@ def test_numba_and_numpy_paths_agree(monkeypatch):
         rtol = 1e-7 if name == "qback" else 1e-10
         np.testing.assert_allclose(getattr(a, name), getattr(b, name), rtol=rtol, atol=1e-300, err_msg=name)
     np.testing.assert_allclose(s_a, s_b, rtol=1e-10)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    n=st.floats(0.1, 10.0),
+    log_k=st.floats(-8.0, 1.0),
+    absorbing=st.booleans(),
+    log_x=st.floats(-6.0, 2.0),
+)
+def test_physical_bounds_on_random_spheres(n, log_k, absorbing, log_x):
+    # common practice, no source: efficiencies are finite and >= 0, |g| < 1,
+    # Q_ext = Q_sca + Q_abs, and both code paths give the same numbers
+    m = complex(n, 10**log_k if absorbing else 0.0)
+    x = 10**log_x
+    a = mie(m, x)
+    before, mie_module.USE_NUMBA = mie_module.USE_NUMBA, False
+    try:
+        b = mie(m, x)
+    finally:
+        mie_module.USE_NUMBA = before
+    for r in (a, b):
+        assert np.isfinite([r.qext, r.qsca, r.qback, r.g]).all()
+        assert r.qsca >= 0 and r.qback >= 0 and r.qabs >= -1e-13 * r.qext
+        assert abs(r.g) < 1
+    np.testing.assert_allclose([a.qext, a.qsca, a.g], [b.qext, b.qsca, b.g], rtol=1e-10, atol=1e-300)
 
 
 def test_environment_variable_forces_numpy():
