@@ -190,6 +190,8 @@ def population_phase_function(m, radius, weight, wavelength, theta, *, conventio
         raise InputError("weight must have at least one value > 0")
     if lam.ndim or not np.isfinite(lam) or lam <= 0:
         raise InputError(f"wavelength={wavelength!r} must be a single length > 0")
+    if np.ndim(m) and np.shape(m) != a.shape:
+        raise InputError(f"m of shape {np.shape(m)} must be one value or one per radius, shape {a.shape}")
     th = _angles(theta)
     k = 2 * np.pi / float(lam)
     x = k * a

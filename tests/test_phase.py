@@ -64,6 +64,15 @@ def test_population_of_one_size_is_the_single_sphere():
     assert pop.g == pytest.approx(float(mie(1.5 + 0.01j, 2 * np.pi * 0.2 / 0.6).g))
 
 
+def test_population_index_per_radius():
+    radius = np.array([0.1, 0.2])
+    one = population_phase_function(1.5 + 0.01j, radius, [1, 2], 0.55, [0.0, 1.0])
+    each = population_phase_function(np.full(2, 1.5 + 0.01j), radius, [1, 2], 0.55, [0.0, 1.0])
+    np.testing.assert_allclose(each.p, one.p, rtol=1e-14)
+    with pytest.raises(InputError, match=r"m of shape \(3,\) must be one value or one per radius"):
+        population_phase_function(np.full(3, 1.5), radius, [1, 1], 0.55, [0.0])
+
+
 def test_population_units():
     a = population_phase_function(1.5, [0.1, 0.2] * u.um, [1, 1], 5500 * u.AA, [0.5])
     b = population_phase_function(1.5, [0.1, 0.2], [1, 1], 0.55, [0.5])
