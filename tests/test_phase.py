@@ -102,3 +102,20 @@ def test_hg_bad_input():
         henyey_greenstein(-0.1, 0.5)
     with pytest.raises(InputError, match="1-d increasing"):
         mean_cosine([0.0, 1.0], [1.0, 1.0])
+
+
+def test_demo_section_compares_mie_with_hg(capsys, monkeypatch, tmp_path):
+    # the demo's scattering section: one row per angle, positive phase functions
+    from redcorr._paths import project_dir
+    from redcorr.cli._demo import s25_scattering
+    from redcorr.io._toml import load_toml
+
+    monkeypatch.setenv("REDCORR_CACHE_DIR", str(tmp_path))
+    demo_dir = project_dir("demo")
+    s25_scattering.section(load_toml(demo_dir / "scenario.toml", what="demo scenario"), demo_dir)
+    lines = capsys.readouterr().out.splitlines()
+    header = lines[1].split()
+    assert header[0] == "theta_deg" and sum(h.startswith("p_HG(g=") for h in header) == 2
+    rows = [line.split() for line in lines[3 : 3 + len(s25_scattering.ANGLES_DEG)]]
+    assert [float(r[0]) for r in rows] == list(s25_scattering.ANGLES_DEG)
+    assert all(float(v) > 0 for r in rows for v in r[1:])
