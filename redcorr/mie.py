@@ -243,7 +243,7 @@ def _coefficients_block(m, x, nstop, nstart):
 
 
 def _chunks(m, x):
-    """Yield (index array, n_stop per element, start index) for groups of similar cost."""
+    """Yield (indices, n_stop per element, (start for mx, start for x)) for groups of similar cost."""
     nstop = n_terms(x)
     start_z = _start_index(np.maximum(np.abs(m), 1.0) * x)
     start_x = _start_index(x)
