@@ -113,11 +113,14 @@ def peak_rss(tmp, n):
             writer = pacsv.CSVWriter(src, part.schema)
         writer.write_table(part)
     writer.close()
+    # VmHWM (Linux) is the peak of this process image only; ru_maxrss would carry the parent's
+    # peak across fork + exec and hide the child's.
     code = (
-        "import resource, sys; sys.path.insert(0, %r);"
+        "import sys; sys.path.insert(0, %r);"
         "from benchmarks.bench_catalog import run_redcorr;"
         "run_redcorr(%r, %r);"
-        "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024)"
+        "line = [x for x in open('/proc/self/status') if x.startswith('VmHWM')][0];"
+        "print(int(line.split()[1]) / 1024)"
     ) % (str(ROOT), str(src), str(tmp / f"mem_{n}.parquet"))
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
     src.unlink()
