@@ -283,3 +283,16 @@ def test_guessing_columns_and_galactic_b_is_not_a_magnitude():
     coords = pd.DataFrame({"l": [240.0], "b": [-13.0], "kw_v": [15.0], "ebv": [0.1]})
     with pytest.raises(InputError, match="no magnitude column found for band 'kw-b'"):
         Correction(["kw-b"], columns=list(coords.columns))
+
+
+def test_band_beyond_the_law_is_refused_or_flagged():
+    from redcorr.exceptions import ExtrapolationWarning
+
+    frame = pd.DataFrame({"m": [15.0, 16.0], "ebv": [0.1, 0.2]})
+    with pytest.raises(InputError, match="beyond the f99 range"):
+        correct_dataframe(frame, ["tophat:3.6:0.4"], mag_columns={"tophat:3.6:0.4": "m"})
+    with pytest.warns(ExtrapolationWarning):
+        out, summary = correct_dataframe(frame, ["tophat:3.6:0.4"], mag_columns={"tophat:3.6:0.4": "m"},
+                                         extrapolate=True)
+    assert (out["dered_flags"] & FLAG_BITS["outside_curve"]).all() and summary["flagged"]["outside_curve"] == 2
+    assert out["A_tophat_3_6_0_4"].notna().all()
