@@ -245,3 +245,13 @@ def test_fits_output_streams_chunks_of_varying_strings_and_missing_integers(tmp_
     assert list(table["ok"][:3]) == [True, False, True]
     np.testing.assert_array_equal(table["x"], frame["x"])
     assert sorted(p.name for p in tmp_path.iterdir()) == ["out.fits"]  # spool removed
+
+
+def test_reads_ecsv_written_by_astropy_with_spaces(tmp_path):
+    from astropy.table import Table
+
+    table = Table({"name": ["star one", "two"], "kw_v": [15.5, 16.25], "ebv": [0.1, 0.2]})
+    table["kw_v"].unit = "mag"
+    table.write(tmp_path / "t.ecsv")  # astropy's default: space-delimited, quoted strings
+    frame = read_catalog(tmp_path / "t.ecsv", chunk_rows=1)
+    assert frame["name"].tolist() == ["star one", "two"] and frame["kw_v"].tolist() == [15.5, 16.25]
