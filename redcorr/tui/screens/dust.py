@@ -1,0 +1,148 @@
+"""The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ."""
+
+import math
+
+import numpy as np
+from astropy import units as u
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import Screen
+from textual.widgets import Footer, Header, Input, Select, Static
+
+from redcorr._validate import check_range
+from redcorr.curves import list_curves
+from redcorr.io import load_curve
+from redcorr.tui._guard import guarded
+from redcorr.tui.widgets import CurvePlot, Field, NamePicker, StatusLine
+
+__all__ = ["DustScreen", "dust_entries", "dust_state"]
+
+AMOUNT_KINDS = ("A_V", "E(B-V)")
+
+
+def dust_entries():
+    """``(name, description)`` of every law the picker offers."""
+    out = []
+    for info in list_curves():
+        r_v = f"R_V {info['default_r_v']:g}" + (" fixed" if info["r_v_range"] is None else "")
+        lo, hi = info["wave_range_um"]
+        out.append((info["name"], f"{r_v} · {lo:.3g}–{hi:.3g} µm"))
+    return out
+
+
+def dust_state(law, r_v_text, amount_text, amount_kind):
+    """Turn the Dust screen's inputs into ``(curve, a_v, ebv)`` through the core.
+
+    ``r_v_text`` empty means the law's default. Raises `InputError` with the
+    core's message for anything it refuses.
+    """
+    r_v = r_v_text.strip() or None
+    curve = load_curve(law, r_v=r_v)
+    amount = check_range(amount_kind, amount_text, 0.0, math.inf)
+    if amount_kind == "A_V":
+        return curve, amount, amount / curve.r_v
+    return curve, amount * curve.r_v, amount
+
+
+class DustScreen(Screen):
+    """Pick the dust: a searchable law list, R_V, A_V or E(B-V), and a live plot."""
+
+    TITLE = "Dust"
+    HELP = "choose an extinction law or grain model, R_V and the dust column; see the curve"
+    BINDINGS = [
+        Binding("ctrl+f", "focus('#dust-picker .picker-search')", "Search"),
+        Binding("ctrl+r", "focus('#r-v')", "R_V"),
+        Binding("ctrl+a", "focus('#amount')", "A_V/E(B-V)"),
+    ]
+
+    def __init__(self, **kwargs):
+        super().__init__(**kwargs)
+        self.curve = None
+        self.a_v = None
+        self.ebv = None
+
+    @property
+    def session(self):
+        return self.app.session
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        yield Header()
+        with Horizontal(id="dust-body"):
+            yield NamePicker(dust_entries(), placeholder="search laws…", id="dust-picker")
+            with Vertical(id="dust-main"):
+                with Horizontal(id="dust-form", classes="form"):
+                    yield Field("R_V", s.r_v, input_id="r-v", placeholder="law default")
+                    yield Select(
+                        [(k, k) for k in AMOUNT_KINDS], value=s.amount_kind, allow_blank=False, id="amount-kind"
+                    )
+                    yield Field("=", s.amount, input_id="amount", placeholder="mag")
+                yield StatusLine(id="dust-status")
+                yield Static(id="dust-info", classes="info")
+                yield CurvePlot(id="dust-plot")
+        yield Footer()
+
+    def on_mount(self):
+        self.query_one(NamePicker).highlight(self.session.law)
+        self.refresh_view()
+
+    def on_screen_resume(self):
+        self.refresh_view()
+
+    def on_name_picker_picked(self, event):
+        if event.name != self.session.law:
+            self.session.law = event.name
+            self.refresh_view()
+
+    def on_input_changed(self, event):
+        if event.input.id == "r-v" and not event.input.disabled:
+            self.session.r_v = event.value
+        elif event.input.id == "amount":
+            self.session.amount = event.value
+        else:
+            return
+        self.refresh_view()
+
+    def on_select_changed(self, event):
+        if event.select.id == "amount-kind" and event.value in AMOUNT_KINDS:
+            self.session.amount_kind = event.value
+            self.refresh_view()
+
+    def _sync_r_v_field(self):
+        """A law with a fixed R_V shows it, greyed; otherwise the typed value is back."""
+        rv_input = self.query_one("#r-v", Input)
+        fixed = next((i["default_r_v"] for i in list_curves() if i["name"] == self.session.law
+                      and i["r_v_range"] is None), None)
+        with rv_input.prevent(Input.Changed):
+            rv_input.disabled = fixed is not None
+            rv_input.value = f"{fixed:g}" if fixed is not None else self.session.r_v
+        return fixed is not None
+
+    def refresh_view(self):
+        """Recompute from the inputs through the core and redraw; keep the old view on an error."""
+        s = self.session
+        fixed = self._sync_r_v_field()
+        outcome = guarded(dust_state, s.law, "" if fixed else s.r_v, s.amount, s.amount_kind)
+        status = self.query_one(StatusLine)
+        refused = outcome.error or ""
+        self.query_one("#r-v", Input).set_class(refused.startswith("r_v="), "-refused")
+        self.query_one("#amount", Input).set_class(refused.startswith(s.amount_kind + "="), "-refused")
+        if not outcome.ok:
+            status.show_outcome(outcome)
+            return
+        self.curve, self.a_v, self.ebv = outcome.value
+        drawn = guarded(self._draw)
+        status.show_outcome(drawn if not drawn.ok else outcome)
+
+    def _draw(self):
+        curve = self.curve
+        lo, hi = curve.x_range
+        x = np.linspace(lo, min(hi, 11.0), 240)
+        y = curve(x * u.um**-1)
+        wmin, wmax = curve.wave_range.to_value(u.um)
+        self.query_one("#dust-info", Static).update(
+            f"[b]{curve.name}[/]  R_V = {curve.r_v:g}   A_V = {self.a_v:.4g} mag   "
+            f"E(B-V) = {self.ebv:.4g} mag   valid {wmin:.4g}–{wmax:.4g} µm\n[dim]{curve.citation}[/]"
+        )
+        self.query_one(CurvePlot).draw(f"{curve.name} R_V={curve.r_v:g}", x, y, title=curve.citation)

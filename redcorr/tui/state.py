@@ -1,0 +1,52 @@
+"""What the terminal UI remembers between runs: the last choices on every screen.
+
+The values are kept as the user typed them (strings for numbers), so a half
+typed value is restored as it was; the screens validate them through the
+core functions before use.
+"""
+
+import dataclasses
+
+from redcorr.io.settings import load_settings, save_settings
+
+__all__ = ["Session"]
+
+
+@dataclasses.dataclass
+class Session:
+    """The UI's shared, remembered state.
+
+    Attributes
+    ----------
+    law : str
+        Curve spec given to `redcorr.io.load_curve` (law, grain model or ``file:PATH``).
+    r_v : str
+        R_V as typed; empty for the law's default.
+    amount : str
+        The dust column as typed, in the unit ``amount_kind``.
+    amount_kind : str
+        ``"A_V"`` or ``"E(B-V)"``.
+    screen : str
+        The screen shown last.
+    """
+
+    law: str = "f99"
+    r_v: str = "3.1"
+    amount: str = "1.0"
+    amount_kind: str = "A_V"
+    screen: str = "dust"
+
+    @classmethod
+    def load(cls, folder=None):
+        """The remembered session; defaults for anything missing or of the wrong type."""
+        saved = load_settings(folder)
+        out = cls()
+        for field in dataclasses.fields(cls):
+            value = saved.get(field.name)
+            if isinstance(value, type(getattr(out, field.name))):
+                setattr(out, field.name, value)
+        return out
+
+    def save(self, folder=None):
+        """Remember this session in the user's config folder."""
+        return save_settings(dataclasses.asdict(self), folder)
