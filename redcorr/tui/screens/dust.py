@@ -53,7 +53,7 @@ class DustScreen(Screen):
     BINDINGS = [
         Binding("ctrl+f", "focus('#dust-picker .picker-search')", "Search"),
         Binding("ctrl+r", "focus('#r-v')", "R_V"),
-        Binding("ctrl+a", "focus('#amount')", "A_V/E(B-V)"),
+        Binding("ctrl+g", "focus('#amount')", "A_V/E(B-V)"),
     ]
 
     def __init__(self, **kwargs):

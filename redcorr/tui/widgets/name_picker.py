@@ -77,7 +77,10 @@ class NamePicker(Vertical):
 
     def on_input_submitted(self, event):
         event.stop()
-        self.query_one(OptionList).focus()
+        options = self.query_one(OptionList)
+        if options.option_count and options.highlighted is None:
+            options.highlighted = 0
+        options.focus()
 
     def on_option_list_option_selected(self, event):
         event.stop()
