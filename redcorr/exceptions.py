@@ -14,6 +14,7 @@ __all__ = [
     "RedcorrWarning",
     "ExtrapolationWarning",
     "OutOfRangeWarning",
+    "TruncatedBandWarning",
 ]
 
 
@@ -42,3 +43,7 @@ class ExtrapolationWarning(RedcorrWarning):
 
 class OutOfRangeWarning(RedcorrWarning):
     """A parameter lies outside the span of the data a law was fitted to."""
+
+
+class TruncatedBandWarning(RedcorrWarning):
+    """A band's response does not fall to (near) zero at an end of its wavelength range."""
