@@ -1,0 +1,383 @@
+"""Grain models: populations of spheres turned into extinction, albedo and g.
+
+A :class:`GrainModel` is a list of :class:`Component` s, each a material, a
+size distribution (per H nucleon) and an abundance factor. Mie theory
+(:func:`redcorr.mie.mie`) gives each sphere's efficiencies; integrating over
+sizes gives cross sections per H nucleon, from which follow A(λ)/A(V), R_V,
+the albedo, the asymmetry g, mass opacities and an extinction curve that
+plugs into :class:`redcorr.curves.ExtinctionCurve`.
+
+Conventions
+-----------
+* Wavelengths: plain numbers in µm, or any Quantity of length, frequency,
+  energy or wavenumber. Radii in µm.
+* Cross sections are in cm² per H nucleon; mass opacities in cm² per gram of
+  dust; extinction A(λ) ∝ C_ext(λ) (A = 1.086 N_H C_ext).
+* R_V is monochromatic: R_V = A(0.55 µm) / [A(0.44 µm) − A(0.55 µm)].
+"""
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from redcorr._validate import check_positive, check_range, inverse_micron
+from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM, TabulatedCurve
+from redcorr.exceptions import InputError
+from redcorr.grains.materials import Material
+from redcorr.grains.pah import n_carbon, pah_cross_section, pah_fraction
+from redcorr.grains.sizes import SizeDistribution
+
+__all__ = [
+    "PAHBlend",
+    "Component",
+    "GrainModel",
+    "GrainOptics",
+    "GrainCurve",
+    "DEFAULT_WAVE_UM",
+    "CACHE_VERSION",
+]
+
+DEFAULT_WAVE_UM = np.geomspace(0.1, 100.0, 200)
+"""Wavelengths (µm) on which :meth:`GrainModel.curve` tabulates by default."""
+
+CACHE_VERSION = 1
+"""Bumped whenever the computation changes, so old cache entries are not reused."""
+
+
+@dataclass(frozen=True)
+class PAHBlend:
+    """Blend the smallest carbonaceous grains with PAHs (Li & Draine 2001).
+
+    Attributes
+    ----------
+    ionized_fraction : float
+        Fraction of ionized PAHs, in [0, 1] (default 0.5).
+    q_gra : float
+        Graphite fraction left at the smallest sizes (default 0.01).
+    a_xi_um : float
+        Radius below which grains are mostly PAH, µm (default 0.005 = 50 Å).
+
+    Notes
+    -----
+    See :mod:`redcorr.grains.pah`: C_abs = ξ N_C σ_PAH + (1 − ξ) C_abs^gra,
+    C_sca = (1 − ξ) C_sca^gra, ξ(a) = (1 − q_gra) min[1, (a_ξ/a)³].
+    """
+
+    ionized_fraction: float = 0.5
+    q_gra: float = 0.01
+    a_xi_um: float = 0.005
+
+    def __post_init__(self):
+        check_range("ionized_fraction", self.ionized_fraction, 0.0, 1.0)
+        check_range("q_gra", self.q_gra, 0.0, 1.0)
+        check_positive("a_xi", self.a_xi_um)
+
+
+class Component:
+    """One grain population: a material with a size distribution.
+
+    Parameters
+    ----------
+    material : Material
+    sizes : SizeDistribution
+        (1/n_H) dn/da in µm⁻¹.
+    abundance : float, optional
+        Multiplies the size distribution (default 1).
+    pah : PAHBlend or None, optional
+        For a carbonaceous material, treat small grains as PAHs.
+    n_sizes : int, optional
+        Radii in the size integral (log-spaced over the distribution's
+        range; default 150).
+    """
+
+    def __init__(self, material, sizes, abundance=1.0, *, pah=None, n_sizes=150):
+        if not isinstance(material, Material):
+            raise InputError(f"material={material!r} is not a Material")
+        if not isinstance(sizes, SizeDistribution):
+            raise InputError(f"sizes={sizes!r} is not a SizeDistribution")
+        if pah is not None and not material.carbon:
+            raise InputError(f"pah is set for material {material.name!r}; only carbonaceous materials take PAHs")
+        self.material = material
+        self.sizes = sizes
+        self.abundance = check_positive("abundance", abundance)
+        self.pah = pah
+        self.n_sizes = int(n_sizes)
+        if self.n_sizes < 8:
+            raise InputError(f"n_sizes={n_sizes!r} is too few; at least 8 are needed")
+
+    def radii(self):
+        """Radii (µm) of the size integral and their weights w with ∫f dn = Σ w f (per H)."""
+        a = self.sizes.grid(self.n_sizes)
+        lna = np.log(a)
+        dl = np.diff(lna)
+        trap = np.zeros_like(a)
+        trap[:-1] += dl / 2
+        trap[1:] += dl / 2
+        return a, trap * a * self.sizes(a) * self.abundance
+
+    def mass_per_h(self):
+        """Dust mass per H nucleon, g: ρ (4π/3) Σ w a³."""
+        a, w = self.radii()
+        return float(self.material.density * 4 * math.pi / 3 * np.sum(w * (a * 1e-4) ** 3))
+
+    def key(self):
+        """Description for the cross-section cache."""
+        return {
+            "material": self.material.key(),
+            "sizes": self.sizes.key(),
+            "abundance": self.abundance,
+            "n_sizes": self.n_sizes,
+            "pah": None if self.pah is None else [self.pah.ionized_fraction, self.pah.q_gra, self.pah.a_xi_um],
+        }
+
+    def cross_sections(self, wave_um):
+        """C_ext, C_sca, C_abs and g·C_sca per H nucleon (cm²) at ``wave_um`` (1-d, µm)."""
+        from redcorr.mie import mie  # noqa: PLC0415 - the kernel module is heavy; load on use
+
+        lo, hi = self.material.wave_range
+        if np.any((wave_um < lo) | (wave_um > hi)):
+            bad = wave_um[(wave_um < lo) | (wave_um > hi)][0]
+            raise InputError(
+                f"wave={bad:g} µm lies outside the optical constants of {self.material.name}, "
+                f"[{lo:.6g}, {hi:.6g}] µm"
+            )
+        a, w = self.radii()
+        lam = wave_um[:, None]
+        area = math.pi * (a * 1e-4) ** 2  # cm²
+        cabs = np.zeros((wave_um.size, a.size))
+        csca = np.zeros_like(cabs)
+        gsca = np.zeros_like(cabs)
+        for mask, parts in self.material.pieces(a):
+            x = 2 * math.pi * a[mask][None, :] / lam
+            for weight, table in parts:
+                m = table(wave_um)[:, None]
+                res = mie(m, x)
+                cabs[:, mask] += weight * area[mask] * res.qabs
+                csca[:, mask] += weight * area[mask] * res.qsca
+                gsca[:, mask] += weight * area[mask] * res.qsca * res.g
+        if self.pah is not None:
+            xi = pah_fraction(a, self.pah.q_gra, self.pah.a_xi_um)[None, :]
+            sigma = pah_cross_section(lam, a[None, :], self.pah.ionized_fraction)
+            pah_abs = n_carbon(a)[None, :] * sigma
+            pah_abs = np.where(np.isnan(pah_abs), cabs, pah_abs)  # graphite above 17.25 µm⁻¹
+            cabs = xi * pah_abs + (1 - xi) * cabs
+            csca = (1 - xi) * csca
+            gsca = (1 - xi) * gsca
+        cabs, csca, gsca = (arr @ w for arr in (cabs, csca, gsca))
+        return {"c_ext": cabs + csca, "c_sca": csca, "c_abs": cabs, "g_sca": gsca}
+
+    def __repr__(self):
+        return f"<Component {self.material.name} × {self.sizes.label} × {self.abundance:g}>"
+
+
+@dataclass(frozen=True)
+class GrainOptics:
+    """Optical properties of a grain model at a set of wavelengths.
+
+    Attributes
+    ----------
+    wave_um : ndarray
+        Wavelengths, µm.
+    c_ext, c_sca, c_abs : ndarray
+        Cross sections per H nucleon, cm².
+    g : ndarray
+        Asymmetry parameter ⟨cos θ⟩ of the scattered light.
+    mass_per_h : float
+        Dust mass per H nucleon, g.
+    """
+
+    wave_um: np.ndarray
+    c_ext: np.ndarray
+    c_sca: np.ndarray
+    c_abs: np.ndarray
+    g: np.ndarray
+    mass_per_h: float
+
+    @property
+    def albedo(self):
+        """ndarray: C_sca / C_ext."""
+        return self.c_sca / self.c_ext
+
+    @property
+    def kappa_ext(self):
+        """ndarray: extinction mass opacity, cm² per gram of dust."""
+        return self.c_ext / self.mass_per_h
+
+    @property
+    def kappa_abs(self):
+        """ndarray: absorption mass opacity, cm² per gram of dust."""
+        return self.c_abs / self.mass_per_h
+
+
+class GrainModel:
+    """A dust model: components whose cross sections add.
+
+    Parameters
+    ----------
+    components : list of Component
+    name : str
+        Short name, e.g. ``"wd01-rv3.1"``.
+    citation : str
+        Where the model comes from.
+    description : str, optional
+
+    Examples
+    --------
+    >>> from redcorr.grains import get_grain_model
+    >>> model = get_grain_model("mrn77")
+    >>> round(float(model.a_over_av(0.55, cache=False)), 6)
+    1.0
+    """
+
+    def __init__(self, components, *, name="grain model", citation="", description=""):
+        components = list(components)
+        if not components:
+            raise InputError("a grain model needs at least one component")
+        for c in components:
+            if not isinstance(c, Component):
+                raise InputError(f"component {c!r} is not a Component")
+        self.components = components
+        self.name = name
+        self.citation = citation
+        self.description = description
+
+    @property
+    def wave_range(self):
+        """tuple of float: wavelengths (µm) where every material has optical constants."""
+        ranges = [c.material.wave_range for c in self.components]
+        return max(r[0] for r in ranges), min(r[1] for r in ranges)
+
+    def key(self, wave_um):
+        """Everything the cross sections depend on, for the cache."""
+        return {
+            "version": CACHE_VERSION,
+            "wave": np.asarray(wave_um, dtype=float).tolist(),
+            "components": [c.key() for c in self.components],
+        }
+
+    def optics(self, wave, *, cache=True):
+        """Cross sections per H, albedo and g at ``wave``.
+
+        Parameters
+        ----------
+        wave : float, array_like or Quantity
+            Wavelengths (plain numbers in µm); 1-d or scalar.
+        cache : bool or object, optional
+            ``True`` uses the user's cache directory
+            (:func:`redcorr.io.grains.default_cache`), ``False`` bypasses
+            it; or any object with ``get(key)`` and ``put(key, arrays)``.
+
+        Returns
+        -------
+        GrainOptics
+        """
+        wave_um = np.atleast_1d(1.0 / inverse_micron(wave))
+        if wave_um.ndim != 1 or not np.all(np.isfinite(wave_um)):
+            raise InputError("wave must be a scalar or a 1-d list of finite wavelengths")
+        store = _resolve_cache(cache)
+        key = self.key(wave_um)
+        hit = store.get(key) if store is not None else None
+        if hit is None:
+            total = {"c_ext": 0.0, "c_sca": 0.0, "c_abs": 0.0, "g_sca": 0.0}
+            for comp in self.components:
+                part = comp.cross_sections(wave_um)
+                total = {k: total[k] + part[k] for k in total}
+            total = {k: np.asarray(v, dtype=float) for k, v in total.items()}
+            if store is not None:
+                store.put(key, total)
+        else:
+            total = hit
+        with np.errstate(invalid="ignore", divide="ignore"):
+            g = np.where(total["c_sca"] > 0, total["g_sca"] / total["c_sca"], 0.0)
+        return GrainOptics(
+            wave_um=wave_um,
+            c_ext=total["c_ext"],
+            c_sca=total["c_sca"],
+            c_abs=total["c_abs"],
+            g=g,
+            mass_per_h=sum(c.mass_per_h() for c in self.components),
+        )
+
+    def r_v(self, *, cache=True):
+        """Monochromatic R_V = A(0.55 µm)/[A(0.44 µm) − A(0.55 µm)]."""
+        c_b, c_v = self.optics([B_WAVE_UM, V_WAVE_UM], cache=cache).c_ext
+        return float(c_v / (c_b - c_v))
+
+    def a_over_av(self, wave, *, cache=True):
+        """A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm) at ``wave``; scalar in, scalar out."""
+        wave_um = 1.0 / inverse_micron(wave)
+        flat = np.append(np.ravel(wave_um), V_WAVE_UM)
+        c = self.optics(flat, cache=cache).c_ext
+        return (c[:-1] / c[-1]).reshape(np.shape(wave_um))[()]
+
+    def curve(self, wave=None, *, cache=True):
+        """The model as an extinction curve (`GrainCurve`, a `TabulatedCurve`).
+
+        Parameters
+        ----------
+        wave : array_like or Quantity, optional
+            Tabulation wavelengths; default `DEFAULT_WAVE_UM` (200 values,
+            0.1-100 µm, log-spaced). 0.44 and 0.55 µm are always added so that
+            A(V) and R_V are exact, not interpolated.
+        cache : bool or object, optional
+            As for :meth:`optics`.
+        """
+        grid = DEFAULT_WAVE_UM if wave is None else np.ravel(1.0 / inverse_micron(wave))
+        grid = np.union1d(grid, [B_WAVE_UM, V_WAVE_UM])
+        return GrainCurve(self, self.optics(grid, cache=cache))
+
+    def __repr__(self):
+        return f"<GrainModel {self.name!r}: {len(self.components)} component(s)>"
+
+
+def _resolve_cache(cache):
+    if cache is True:
+        from redcorr.io.grains import default_cache  # noqa: PLC0415 - files live in redcorr.io
+
+        return default_cache()
+    if cache is False or cache is None:
+        return None
+    if not (hasattr(cache, "get") and hasattr(cache, "put")):
+        raise InputError(f"cache={cache!r} must be True, False or an object with get() and put()")
+    return cache
+
+
+class GrainCurve(TabulatedCurve):
+    """A grain model's A(λ)/A(V), tabulated and interpolated like any table.
+
+    Parameters
+    ----------
+    model : GrainModel
+    optics : GrainOptics
+        Must include 0.55 µm (and 0.44 µm for R_V).
+
+    Attributes
+    ----------
+    model : GrainModel
+    optics : GrainOptics
+        The tabulated cross sections, albedo and g.
+
+    Notes
+    -----
+    A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm); R_V is monochromatic,
+    C_ext(0.55)/[C_ext(0.44) − C_ext(0.55)]. Interpolation as in
+    `TabulatedCurve` (PCHIP in 1/λ); no extrapolation.
+    """
+
+    def __init__(self, model, optics):
+        w = optics.wave_um
+        i_b = np.flatnonzero(np.isclose(w, B_WAVE_UM, rtol=0, atol=1e-12))
+        i_v = np.flatnonzero(np.isclose(w, V_WAVE_UM, rtol=0, atol=1e-12))
+        if i_b.size == 0 or i_v.size == 0:
+            raise InputError("a grain curve needs cross sections at 0.44 and 0.55 µm")
+        c_b, c_v = optics.c_ext[i_b[0]], optics.c_ext[i_v[0]]
+        super().__init__(
+            w,
+            optics.c_ext / c_v,
+            r_v=float(c_v / (c_b - c_v)),
+            name=model.name,
+            citation=model.citation or "grain model",
+        )
+        self.model = model
+        self.optics = optics

@@ -1,0 +1,502 @@
+"""Mie theory for homogeneous spheres: efficiencies, amplitudes, phase function.
+
+Conventions
+-----------
+* Refractive index ``m = n + ik`` relative to the surrounding medium, with
+  ``k >= 0`` for an absorbing sphere (the time dependence is exp(-iωt), as in
+  Bohren & Huffman 1983). Values written in the other convention,
+  ``m = n - ik``, are accepted with ``convention="n-ik"`` and conjugated.
+  An imaginary part of the wrong sign for the chosen convention is an error,
+  never silently flipped.
+* Size parameter ``x = 2πa/λ`` with ``a`` the radius and ``λ`` the wavelength
+  in the medium.
+* Efficiencies are cross sections divided by the geometric cross section
+  πa². ``qback`` is the radar backscattering efficiency of Bohren & Huffman
+  (1983, eq. 4.82), 4π times the differential cross section at 180° over πa².
+* The phase function is normalized over the sphere, ∫ p dΩ = 1 (sr⁻¹).
+
+Method
+------
+The Mie coefficients a_n, b_n follow Bohren & Huffman (1983, §4.8) with the
+logarithmic derivative D_n(mx) of the Riccati–Bessel function obtained by
+downward recurrence from n = max(n_stop, |mx|) + 16, and the series cut at
+n_stop = x + 4.05 x^(1/3) + 2 terms (Wiscombe 1980). The Riccati–Bessel
+function ψ_n(x) is built upward from the ratios ψ_(n-1)/ψ_n = D_n(x) + n/x,
+where D_n(x) also comes from downward recurrence; this keeps full relative
+precision for x ≪ 1, where the usual upward recurrence of ψ_n cancels.
+
+A numba-compiled kernel does the work when numba is importable; set the
+environment variable ``REDCORR_MIE_NUMPY=1`` before import (or
+``redcorr.mie.USE_NUMBA = False`` at run time) to use the pure numpy path,
+which gives the same numbers more slowly.
+"""
+
+import os
+from dataclasses import dataclass
+
+import numpy as np
+from astropy import units as u
+
+from redcorr.exceptions import InputError
+
+__all__ = ["MieResult", "mie", "amplitudes", "phase_function", "mie_coefficients", "n_terms"]
+
+X_MAX = 1.0e6
+"""Largest size parameter accepted (the cost grows as x · max(1, |m|))."""
+
+USE_NUMBA = os.environ.get("REDCORR_MIE_NUMPY", "").strip() in ("", "0")
+"""Whether the numba kernel is used (when numba imports); False forces numpy."""
+
+
+@dataclass(frozen=True)
+class MieResult:
+    """Efficiencies and asymmetry of homogeneous spheres.
+
+    Every attribute is a float64 ndarray of the broadcast shape of ``m`` and
+    ``x`` (0-d for scalar input).
+
+    Attributes
+    ----------
+    qext, qsca, qabs : ndarray
+        Extinction, scattering and absorption efficiencies, Q = C / (πa²);
+        ``qabs = qext - qsca`` (exactly 0 where Im(m) = 0).
+    qback : ndarray
+        Radar backscattering efficiency (Bohren & Huffman 1983, eq. 4.82).
+    g : ndarray
+        Asymmetry parameter ⟨cos θ⟩ of the scattered light.
+    """
+
+    qext: np.ndarray
+    qsca: np.ndarray
+    qabs: np.ndarray
+    qback: np.ndarray
+    g: np.ndarray
+
+    @property
+    def albedo(self):
+        """Single-scattering albedo Q_sca / Q_ext."""
+        return self.qsca / self.qext
+
+
+def _as_index(m, convention):
+    """Complex refractive index in the n + ik convention, validated."""
+    if convention not in ("n+ik", "n-ik"):
+        raise InputError(f"convention={convention!r} is not known; choose 'n+ik' or 'n-ik'")
+    if isinstance(m, u.Quantity):
+        try:
+            m = m.to_value(u.dimensionless_unscaled)
+        except u.UnitConversionError:
+            raise InputError(f"m has unit {m.unit!s}; a refractive index is dimensionless") from None
+    try:
+        arr = np.asarray(m, dtype=complex)
+    except (TypeError, ValueError):
+        raise InputError(f"m={m!r} is not a complex number") from None
+    bad = ~np.isfinite(arr)
+    if np.any(bad):
+        raise InputError(f"m={arr[bad].flat[0]!r} must be a finite complex number")
+    bad = arr.real <= 0
+    if np.any(bad):
+        raise InputError(f"m={arr[bad].flat[0]!r} must have a real part > 0")
+    if convention == "n+ik":
+        bad = arr.imag < 0
+        if np.any(bad):
+            raise InputError(
+                f"m={arr[bad].flat[0]!r} has a negative imaginary part; with "
+                "convention='n+ik' an absorbing sphere has Im(m) >= 0 (pass "
+                "convention='n-ik' if your indices are written n - ik)"
+            )
+    else:
+        bad = arr.imag > 0
+        if np.any(bad):
+            raise InputError(
+                f"m={arr[bad].flat[0]!r} has a positive imaginary part; with "
+                "convention='n-ik' an absorbing sphere has Im(m) <= 0"
+            )
+        arr = np.conj(arr)
+    return arr
+
+
+def _as_size(x):
+    """Size parameter as a float64 array, validated."""
+    if isinstance(x, u.Quantity):
+        try:
+            x = x.to_value(u.dimensionless_unscaled)
+        except u.UnitConversionError:
+            raise InputError(f"x has unit {x.unit!s}; the size parameter 2πa/λ is dimensionless") from None
+    try:
+        arr = np.asarray(x, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"x={x!r} is not a real number") from None
+    bad = ~np.isfinite(arr) | (arr <= 0) | (arr > X_MAX)
+    if np.any(bad):
+        raise InputError(
+            f"x={arr[bad].flat[0]!r} is outside the allowed range (0, {X_MAX:g}] "
+            "for the size parameter 2πa/λ"
+        )
+    return arr
+
+
+def _broadcast(m, x):
+    try:
+        return np.broadcast_arrays(m, x)
+    except ValueError:
+        raise InputError(f"m of shape {np.shape(m)} and x of shape {np.shape(x)} do not broadcast") from None
+
+
+def n_terms(x):
+    """Number of terms kept in the Mie series, n_stop = x + 4.05 x^(1/3) + 2.
+
+    Parameters
+    ----------
+    x : array_like
+        Size parameter (validated by the callers).
+
+    Returns
+    -------
+    ndarray of int64
+
+    References
+    ----------
+    .. [1] Wiscombe, W. J. 1980, Appl. Opt. 19, 1505, eq. 3.
+    """
+    x = np.asarray(x, dtype=float)
+    return (x + 4.05 * np.cbrt(x) + 2.0).astype(np.int64)
+
+
+def _start_index(m, x, nstop):
+    """Start of the downward recurrence of D_n: max(n_stop(x), n_stop(|mx|)) + 16."""
+    return np.maximum(nstop, n_terms(np.abs(m) * x)) + 16
+
+
+# ---------------------------------------------------------------- numpy path
+_CHUNK_CELLS = 2_000_000  # elements × terms held at once by the numpy path
+
+
+def _ratio_s(z, nstart, nstop):
+    """s_n(z) = z D_n(z) - (n + 1) for n = 0..nstop (rows), downward from nstart.
+
+    s_(n-1) = -z² / (2n + 1 + s_n), started at s = 0; unlike D_n itself it
+    carries no 1/z term, so differences like m D_n(mx) - D_n(x) keep full
+    precision when x ≪ 1.
+    """
+    z2 = z * z
+    s = np.zeros(z.shape, dtype=z.dtype)
+    for n in range(nstart, nstop, -1):
+        s = -z2 / (2 * n + 1 + s)
+    out = np.empty((nstop + 1,) + z.shape, dtype=z.dtype)
+    out[nstop] = s
+    for n in range(nstop, 0, -1):
+        out[n - 1] = -z2 / (2 * n + 1 + out[n])
+    return out
+
+
+def _coefficients_block(m, x, nstop, nstart):
+    """a_n, b_n for n = 1..nstop (rows) of 1-d arrays m, x."""
+    sz = _ratio_s(m * x, nstart, nstop)
+    sx = _ratio_s(x, nstart, nstop)
+    m2 = m * m
+    psi = np.sin(x)
+    chi_prev, chi = -np.sin(x), np.cos(x)
+    a = np.empty((nstop,) + x.shape, dtype=complex)
+    b = np.empty((nstop,) + x.shape, dtype=complex)
+    for n in range(1, nstop + 1):
+        psi_prev = psi
+        psi = psi_prev * x / (sx[n] + 2 * n + 1)
+        chi_prev, chi = chi, (2 * n - 1) / x * chi - chi_prev
+        xi, xi_prev = psi - 1j * chi, psi_prev - 1j * chi_prev
+        a[n - 1] = (psi * (sz[n] - m2 * sx[n] + (n + 1) * (1 - m2))
+                    / ((sz[n] + n + 1 + n * m2) * xi - m2 * x * xi_prev))
+        b[n - 1] = psi * (sz[n] - sx[n]) / ((sz[n] + 2 * n + 1) * xi - x * xi_prev)
+    return a, b
+
+
+def _chunks(m, x):
+    """Yield (index array, n_stop per element, start index) for groups of similar cost."""
+    nstop = n_terms(x)
+    nstart = _start_index(m, x, nstop)
+    order = np.argsort(nstart, kind="stable")
+    i = 0
+    while i < x.size:
+        # elements whose start index is within 1.5× of the first one
+        top = np.searchsorted(nstart[order], 1.5 * nstart[order[i]], side="right")
+        j = min(top, i + max(1, _CHUNK_CELLS // int(nstart[order[top - 1]])))
+        sel = order[i:j]
+        yield sel, nstop[sel], int(nstart[sel].max())
+        i = j
+
+
+def _masked_coefficients(m, x, nstop_each, nstart):
+    """a_n, b_n (rows n = 1..max n_stop) set to 0 beyond each element's n_stop."""
+    nstop = int(nstop_each.max())
+    with np.errstate(all="ignore"):  # terms beyond an element's n_stop may overflow
+        a, b = _coefficients_block(m, x, nstop, nstart)
+    keep = np.arange(1, nstop + 1)[:, None] <= nstop_each
+    return np.where(keep, a, 0), np.where(keep, b, 0)
+
+
+def _efficiencies_numpy(m, x):
+    """Q_ext, Q_sca, Q_back, g of 1-d arrays m, x."""
+    out = np.empty((4, x.size))
+    for sel, nstop_each, nstart in _chunks(m, x):
+        xs = x[sel]
+        a, b = _masked_coefficients(m[sel], xs, nstop_each, nstart)
+        n = np.arange(1, a.shape[0] + 1)[:, None]
+        f = 2 * n + 1
+        qext = 2 / xs**2 * np.sum(f * (a.real + b.real), axis=0)
+        qsca = 2 / xs**2 * np.sum(f * (np.abs(a) ** 2 + np.abs(b) ** 2), axis=0)
+        nn = n[:-1]
+        cross = np.sum(nn * (nn + 2) / (nn + 1) * (a[:-1] * a[1:].conj() + b[:-1] * b[1:].conj()).real, axis=0)
+        cross += np.sum(f / (n * (n + 1)) * (a * b.conj()).real, axis=0)
+        sign = np.where(n % 2 == 0, 1.0, -1.0)
+        out[0, sel] = qext
+        out[1, sel] = qsca
+        out[2, sel] = np.abs(np.sum(f * sign * (a - b), axis=0)) ** 2 / xs**2
+        out[3, sel] = 4 / xs**2 * cross / qsca
+    return out
+
+
+def _amplitudes_numpy(m, x, mu):
+    """S1, S2 of shape (m.size, mu.size) for 1-d arrays m, x, mu."""
+    s1 = np.zeros((x.size, mu.size), dtype=complex)
+    s2 = np.zeros_like(s1)
+    for sel, nstop_each, nstart in _chunks(m, x):
+        a, b = _masked_coefficients(m[sel], x[sel], nstop_each, nstart)
+        pi_prev, pi = np.zeros(mu.shape), np.ones(mu.shape)
+        for n in range(1, a.shape[0] + 1):
+            tau = n * mu * pi - (n + 1) * pi_prev
+            f = (2 * n + 1) / (n * (n + 1))
+            an, bn = f * a[n - 1][:, None], f * b[n - 1][:, None]
+            s1[sel] += an * pi + bn * tau
+            s2[sel] += an * tau + bn * pi
+            pi_prev, pi = pi, ((2 * n + 1) * mu * pi - (n + 1) * pi_prev) / n
+    return s1, s2
+
+
+def _kernels():
+    """The numba kernel module, or None when numba is off or missing."""
+    global USE_NUMBA
+    if not USE_NUMBA:
+        return None
+    try:
+        from redcorr import _mie_kernels  # noqa: PLC0415 - numba is imported only when needed
+    except ImportError:
+        USE_NUMBA = False
+        return None
+    return _mie_kernels
+
+
+def mie(m, x, *, convention="n+ik"):
+    """Mie efficiencies and asymmetry parameter of homogeneous spheres.
+
+    Parameters
+    ----------
+    m : complex or array_like
+        Refractive index of the sphere relative to the medium, ``n + ik``
+        with ``k >= 0`` for absorption (see ``convention``).
+    x : float or array_like
+        Size parameter 2πa/λ, in (0, 1e6]; broadcast against ``m``.
+    convention : {"n+ik", "n-ik"}
+        Sign convention in which ``m`` is written. With ``"n-ik"`` the
+        imaginary part must be <= 0 and is conjugated.
+
+    Returns
+    -------
+    MieResult
+        ``qext``, ``qsca``, ``qabs``, ``qback`` and ``g``, each a float64
+        ndarray of the broadcast shape of ``m`` and ``x``.
+
+    Raises
+    ------
+    InputError
+        For NaN or infinite values, x outside (0, 1e6], Re(m) <= 0, an
+        imaginary part of the wrong sign for ``convention``, or shapes that
+        do not broadcast.
+
+    Notes
+    -----
+    With the Mie coefficients a_n, b_n (Bohren & Huffman 1983, eq. 4.88)
+
+    .. math::
+
+        Q_{ext} = \\frac{2}{x^2}\\sum_n (2n+1)\\,\\mathrm{Re}(a_n+b_n), \\qquad
+        Q_{sca} = \\frac{2}{x^2}\\sum_n (2n+1)(|a_n|^2+|b_n|^2),
+
+        g\\,Q_{sca} = \\frac{4}{x^2}\\Big[\\sum_n \\frac{n(n+2)}{n+1}
+        \\mathrm{Re}(a_n a_{n+1}^* + b_n b_{n+1}^*) +
+        \\sum_n \\frac{2n+1}{n(n+1)}\\mathrm{Re}(a_n b_n^*)\\Big],
+
+        Q_{back} = \\frac{1}{x^2}\\Big|\\sum_n (2n+1)(-1)^n (a_n - b_n)\\Big|^2,
+
+    and ``Q_abs = Q_ext - Q_sca``. The coefficients are written with
+    ψ_n(x) and D_n(z) = ψ_n'(z)/ψ_n(z) as
+
+    .. math::
+
+        a_n = \\frac{\\psi_n(x)\\,[D_n(mx)/m - D_n(x)]}
+                    {[D_n(mx)/m + n/x]\\,\\xi_n(x) - \\xi_{n-1}(x)},
+
+    and b_n likewise with m D_n(mx) in place of D_n(mx)/m, where
+    ξ_n = ψ_n − iχ_n and ψ_(n-1) = ψ_n [D_n(x) + n/x] was used in the
+    numerator (Bohren & Huffman 1983, eq. 4.88).
+
+    References
+    ----------
+    .. [1] Bohren, C. F. & Huffman, D. R. 1983, Absorption and Scattering of
+       Light by Small Particles (Wiley), eqs. 4.61, 4.62, 4.82, 4.88 and
+       App. A.
+    .. [2] Wiscombe, W. J. 1980, Appl. Opt. 19, 1505.
+
+    Examples
+    --------
+    >>> from redcorr.mie import mie
+    >>> r = mie(1.5 + 0.01j, [1.0, 10.0])
+    >>> r.qext.round(4)
+    array([0.2425, 2.7707])
+    """
+    mm, xx = _broadcast(_as_index(m, convention), _as_size(x))
+    shape = mm.shape
+    mf = np.ascontiguousarray(mm, dtype=complex).ravel()
+    xf = np.ascontiguousarray(xx, dtype=float).ravel()
+    kernels = _kernels()
+    if kernels is not None:
+        qext, qsca, qback, g = kernels.efficiencies(mf, xf)
+    else:
+        qext, qsca, qback, g = _efficiencies_numpy(mf, xf)
+    qabs = np.where(mf.imag == 0, 0.0, qext - qsca)
+    return MieResult(*(q.reshape(shape) for q in (qext, qsca, qabs, qback, g)))
+
+
+def mie_coefficients(m, x, *, convention="n+ik"):
+    """The Mie coefficients a_n, b_n of one sphere.
+
+    Parameters
+    ----------
+    m : complex
+        Refractive index ``n + ik`` (see :func:`mie`).
+    x : float
+        Size parameter 2πa/λ.
+    convention : {"n+ik", "n-ik"}
+
+    Returns
+    -------
+    a, b : ndarray of complex, shape (n_stop,)
+        a_n and b_n for n = 1 .. n_stop (:func:`n_terms`).
+
+    Notes
+    -----
+    Same formulation as :func:`mie` (Bohren & Huffman 1983, eq. 4.88).
+    """
+    m = _as_index(m, convention)
+    x = _as_size(x)
+    if m.ndim or x.ndim:
+        raise InputError(f"m and x must be single numbers here, not shapes {m.shape} and {x.shape}")
+    mf, xf = m.reshape(1), x.reshape(1)
+    nstop = n_terms(xf)
+    a, b = _coefficients_block(mf, xf, int(nstop[0]), int(_start_index(mf, xf, nstop)[0]))
+    return a[:, 0], b[:, 0]
+
+
+def _angles(theta):
+    """Scattering angles as float64 radians (plain numbers are radians)."""
+    if isinstance(theta, u.Quantity):
+        try:
+            theta = theta.to_value(u.rad)
+        except u.UnitConversionError:
+            raise InputError(f"theta has unit {theta.unit!s}; an angle is needed") from None
+    try:
+        arr = np.asarray(theta, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"theta={theta!r} is not numeric") from None
+    bad = ~np.isfinite(arr) | (arr < 0) | (arr > np.pi)
+    if np.any(bad):
+        raise InputError(f"theta={arr[bad].flat[0]!r} is outside the allowed range [0, π] radians")
+    return arr
+
+
+def amplitudes(m, x, theta, *, convention="n+ik"):
+    """Scattering amplitudes S1(θ) and S2(θ) of homogeneous spheres.
+
+    Parameters
+    ----------
+    m : complex or array_like
+        Refractive index ``n + ik`` (see :func:`mie`).
+    x : float or array_like
+        Size parameter, broadcast against ``m``.
+    theta : float, array_like or `~astropy.units.Quantity` ['angle']
+        Scattering angles in [0, π]; plain numbers are radians.
+    convention : {"n+ik", "n-ik"}
+
+    Returns
+    -------
+    S1, S2 : ndarray of complex
+        Shape ``broadcast(m, x).shape + theta.shape``: the angles come last.
+
+    Notes
+    -----
+    .. math::
+
+        S_1 = \\sum_n \\frac{2n+1}{n(n+1)}(a_n\\pi_n + b_n\\tau_n), \\qquad
+        S_2 = \\sum_n \\frac{2n+1}{n(n+1)}(a_n\\tau_n + b_n\\pi_n),
+
+    with π_n, τ_n from the upward recurrences of Bohren & Huffman (1983,
+    eqs. 4.47) in μ = cos θ: π_n = [(2n−1)μπ_(n−1) − nπ_(n−2)]/(n−1),
+    τ_n = nμπ_n − (n+1)π_(n−1).
+
+    References
+    ----------
+    .. [1] Bohren, C. F. & Huffman, D. R. 1983, eqs. 4.47 and 4.74.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from redcorr.mie import amplitudes, mie
+    >>> s1, s2 = amplitudes(1.5 + 0.01j, 2.0, [0.0, np.pi])
+    >>> bool(np.isclose(4 / 2.0**2 * s1[0].real, mie(1.5 + 0.01j, 2.0).qext))
+    True
+    """
+    mm, xx = _broadcast(_as_index(m, convention), _as_size(x))
+    th = _angles(theta)
+    mf = np.ascontiguousarray(mm, dtype=complex).ravel()
+    xf = np.ascontiguousarray(xx, dtype=float).ravel()
+    mu = np.ascontiguousarray(np.cos(th), dtype=float).ravel()
+    kernels = _kernels()
+    if kernels is not None:
+        s1, s2 = kernels.amplitudes(mf, xf, mu)
+    else:
+        s1, s2 = _amplitudes_numpy(mf, xf, mu)
+    shape = mm.shape + th.shape
+    return s1.reshape(shape), s2.reshape(shape)
+
+
+def phase_function(m, x, theta, *, convention="n+ik"):
+    """Phase function of unpolarized light scattered by homogeneous spheres.
+
+    Parameters
+    ----------
+    m, x, theta, convention
+        As for :func:`amplitudes`.
+
+    Returns
+    -------
+    p : ndarray
+        Phase function in sr⁻¹, normalized so that ∫ p dΩ = 1; shape
+        ``broadcast(m, x).shape + theta.shape``.
+
+    Notes
+    -----
+    .. math::
+
+        p(\\theta) = \\frac{|S_1|^2 + |S_2|^2}{2\\pi x^2 Q_{sca}},
+
+    since ∫ (|S_1|^2 + |S_2|^2)/2 dΩ = π x² Q_sca (Bohren & Huffman 1983,
+    eqs. 3.14 and 4.61).
+
+    References
+    ----------
+    .. [1] Bohren, C. F. & Huffman, D. R. 1983, §3.4 and §4.4.
+    """
+    s1, s2 = amplitudes(m, x, theta, convention=convention)
+    res = mie(m, x, convention=convention)
+    scale = 2 * np.pi * _as_size(x) ** 2 * res.qsca
+    extra = s1.ndim - scale.ndim
+    return (np.abs(s1) ** 2 + np.abs(s2) ** 2) / scale.reshape(scale.shape + (1,) * extra)
