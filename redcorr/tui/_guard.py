@@ -4,7 +4,7 @@ import warnings
 
 from redcorr.exceptions import InputError, RedcorrWarning
 
-__all__ = ["Outcome", "guarded"]
+__all__ = ["Outcome", "combine", "guarded"]
 
 
 class Outcome:
@@ -43,3 +43,12 @@ def guarded(fn, *args, **kwargs):
 
 def _messages(caught):
     return [str(w.message) for w in caught if issubclass(w.category, RedcorrWarning)]
+
+
+def combine(*outcomes):
+    """One outcome for several steps: the first error, and every warning once, in order."""
+    error = next((o.error for o in outcomes if o.error), None)
+    seen = []
+    for o in outcomes:
+        seen += [w for w in o.warnings if w not in seen]
+    return Outcome(outcomes[-1].value, error, seen)

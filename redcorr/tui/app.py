@@ -3,7 +3,7 @@
 from textual.app import App
 from textual.binding import Binding
 
-from redcorr.tui.screens import DustScreen, HelpScreen
+from redcorr.tui.screens import BandsScreen, DustScreen, HelpScreen
 from redcorr.tui.state import Session
 
 __all__ = ["RedcorrApp"]
@@ -21,10 +21,11 @@ class RedcorrApp(App):
 
     TITLE = "redcorr"
     CSS_PATH = "redcorr.tcss"
-    MODES = {"dust": DustScreen}
+    MODES = {"dust": DustScreen, "bands": BandsScreen}
     BINDINGS = [
         Binding("f1", "help", "Help"),
         Binding("f2", "switch_mode('dust')", "Dust"),
+        Binding("f3", "switch_mode('bands')", "Bands"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 

@@ -26,6 +26,12 @@ class Session:
         The dust column as typed, in the unit ``amount_kind``.
     amount_kind : str
         ``"A_V"`` or ``"E(B-V)"``.
+    bands : list of str
+        Band specs for `redcorr.io.filters.load_band` (default: the demo's KW-CAM set).
+    sed : str
+        Source spectrum spec for `redcorr.io.spectra.load_sed`.
+    band_output : str
+        Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
     screen : str
         The screen shown last.
     """
@@ -34,6 +40,9 @@ class Session:
     r_v: str = "3.1"
     amount: str = "1.0"
     amount_kind: str = "A_V"
+    bands: list = dataclasses.field(default_factory=lambda: ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"])
+    sed: str = "blackbody:5800"
+    band_output: str = "band_table.ecsv"
     screen: str = "dust"
 
     @classmethod

@@ -1,6 +1,7 @@
 """One screen per task; the app routes between them (see redcorr/tui/app.py)."""
 
+from redcorr.tui.screens.bands import BandsScreen
 from redcorr.tui.screens.dust import DustScreen
 from redcorr.tui.screens.help import HelpScreen
 
-__all__ = ["DustScreen", "HelpScreen"]
+__all__ = ["BandsScreen", "DustScreen", "HelpScreen"]

@@ -1,7 +1,5 @@
 """The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ."""
 
-import math
-
 import numpy as np
 from astropy import units as u
 from textual.app import ComposeResult
@@ -10,13 +8,12 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
 from textual.widgets import Footer, Header, Input, Select, Static
 
-from redcorr._validate import check_range
 from redcorr.curves import list_curves
-from redcorr.io import load_curve
-from redcorr.tui._guard import guarded
-from redcorr.tui.widgets import CurvePlot, Field, NamePicker, StatusLine
+from redcorr.tui._guard import combine, guarded
+from redcorr.tui._inputs import band_rows, dust_state
+from redcorr.tui.widgets import BandTable, CurvePlot, Field, NamePicker, StatusLine
 
-__all__ = ["DustScreen", "dust_entries", "dust_state"]
+__all__ = ["DustScreen", "dust_entries"]
 
 AMOUNT_KINDS = ("A_V", "E(B-V)")
 
@@ -29,20 +26,6 @@ def dust_entries():
         lo, hi = info["wave_range_um"]
         out.append((info["name"], f"{r_v} · {lo:.3g}–{hi:.3g} µm"))
     return out
-
-
-def dust_state(law, r_v_text, amount_text, amount_kind):
-    """Turn the Dust screen's inputs into ``(curve, a_v, ebv)`` through the core.
-
-    ``r_v_text`` empty means the law's default. Raises `InputError` with the
-    core's message for anything it refuses.
-    """
-    r_v = r_v_text.strip() or None
-    curve = load_curve(law, r_v=r_v)
-    amount = check_range(amount_kind, amount_text, 0.0, math.inf)
-    if amount_kind == "A_V":
-        return curve, amount, amount / curve.r_v
-    return curve, amount * curve.r_v, amount
 
 
 class DustScreen(Screen):
@@ -81,6 +64,7 @@ class DustScreen(Screen):
                 yield StatusLine(id="dust-status")
                 yield Static(id="dust-info", classes="info")
                 yield CurvePlot(id="dust-plot")
+                yield BandTable(id="dust-bands")
         yield Footer()
 
     def on_mount(self):
@@ -132,11 +116,14 @@ class DustScreen(Screen):
             status.show_outcome(outcome)
             return
         self.curve, self.a_v, self.ebv = outcome.value
-        drawn = guarded(self._draw)
-        status.show_outcome(drawn if not drawn.ok else outcome)
+        table = guarded(band_rows, self.curve, s.bands, s.sed, self.a_v)
+        rows = table.value if table.ok else []
+        drawn = guarded(self._draw, rows)
+        status.show_outcome(combine(outcome, table, drawn))
 
-    def _draw(self):
+    def _draw(self, rows):
         curve = self.curve
+        self.query_one(BandTable).show_rows(rows)
         lo, hi = curve.x_range
         x = np.linspace(lo, min(hi, 11.0), 240)
         y = curve(x * u.um**-1)
@@ -145,4 +132,7 @@ class DustScreen(Screen):
             f"[b]{curve.name}[/]  R_V = {curve.r_v:g}   A_V = {self.a_v:.4g} mag   "
             f"E(B-V) = {self.ebv:.4g} mag   valid {wmin:.4g}–{wmax:.4g} µm\n[dim]{curve.citation}[/]"
         )
-        self.query_one(CurvePlot).draw(f"{curve.name} R_V={curve.r_v:g}", x, y, title=curve.citation)
+        lo_um, hi_um = sorted((wmin, wmax))
+        inside = [r for r in rows if lo_um <= r["lambda_eff_um"] <= hi_um]
+        marks = [(r["band"], 1.0 / r["lambda_eff_um"], curve(r["lambda_eff_um"])) for r in inside]
+        self.query_one(CurvePlot).draw(f"{curve.name} R_V={curve.r_v:g}", x, y, marks, title=curve.citation)

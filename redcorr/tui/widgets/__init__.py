@@ -1,8 +1,9 @@
 """Reusable pieces of the terminal UI, each with its own DEFAULT_CSS."""
 
+from redcorr.tui.widgets.band_table import BandTable
 from redcorr.tui.widgets.curve_plot import CurvePlot
 from redcorr.tui.widgets.field import Field
 from redcorr.tui.widgets.name_picker import NamePicker
 from redcorr.tui.widgets.status import StatusLine
 
-__all__ = ["CurvePlot", "Field", "NamePicker", "StatusLine"]
+__all__ = ["BandTable", "CurvePlot", "Field", "NamePicker", "StatusLine"]

@@ -25,12 +25,13 @@ class NamePicker(Vertical):
     """
 
     class Picked(Message):
-        """A name was highlighted or selected in the list."""
+        """A name was highlighted (``selected`` False) or chosen with Enter or a click (True)."""
 
-        def __init__(self, picker, name):
+        def __init__(self, picker, name, selected):
             super().__init__()
             self.picker = picker
             self.name = name
+            self.selected = selected
 
         @property
         def control(self):
@@ -84,9 +85,9 @@ class NamePicker(Vertical):
 
     def on_option_list_option_selected(self, event):
         event.stop()
-        self.post_message(self.Picked(self, event.option.id))
+        self.post_message(self.Picked(self, event.option.id, True))
 
     def on_option_list_option_highlighted(self, event):
         event.stop()
         if event.option is not None:
-            self.post_message(self.Picked(self, event.option.id))
+            self.post_message(self.Picked(self, event.option.id, False))
