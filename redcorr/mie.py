@@ -29,9 +29,13 @@ A numba-compiled kernel does the work when numba is importable; set the
 environment variable ``REDCORR_MIE_NUMPY=1`` before import (or
 ``redcorr.mie.USE_NUMBA = False`` at run time) to use the pure numpy path,
 which gives the same numbers more slowly.
+
+The module itself is callable: ``redcorr.mie(m, x)`` is ``redcorr.mie.mie(m, x)``.
 """
 
 import os
+import sys
+import types
 from dataclasses import dataclass
 
 import numpy as np
@@ -93,23 +97,23 @@ def _as_index(m, convention):
         raise InputError(f"m={m!r} is not a complex number") from None
     bad = ~np.isfinite(arr)
     if np.any(bad):
-        raise InputError(f"m={arr[bad].flat[0]!r} must be a finite complex number")
+        raise InputError(f"m={complex(arr[bad].flat[0])!r} must be a finite complex number")
     bad = arr.real <= 0
     if np.any(bad):
-        raise InputError(f"m={arr[bad].flat[0]!r} must have a real part > 0")
+        raise InputError(f"m={complex(arr[bad].flat[0])!r} must have a real part > 0")
     if convention == "n+ik":
         bad = arr.imag < 0
         if np.any(bad):
             raise InputError(
-                f"m={arr[bad].flat[0]!r} has a negative imaginary part; with "
-                "convention='n+ik' an absorbing sphere has Im(m) >= 0 (pass "
-                "convention='n-ik' if your indices are written n - ik)"
+                f"m={complex(arr[bad].flat[0])!r} has a negative imaginary part; with "
+                "convention='n+ik' an absorbing sphere has Im(m) >= 0 (for indices "
+                "written n - ik pass convention='n-ik', on the command line --convention n-ik)"
             )
     else:
         bad = arr.imag > 0
         if np.any(bad):
             raise InputError(
-                f"m={arr[bad].flat[0]!r} has a positive imaginary part; with "
+                f"m={complex(arr[bad].flat[0])!r} has a positive imaginary part; with "
                 "convention='n-ik' an absorbing sphere has Im(m) <= 0"
             )
         arr = np.conj(arr)
@@ -130,17 +134,21 @@ def _as_size(x):
     bad = ~np.isfinite(arr) | (arr <= 0) | (arr > X_MAX)
     if np.any(bad):
         raise InputError(
-            f"x={arr[bad].flat[0]!r} is outside the allowed range (0, {X_MAX:g}] "
+            f"x={float(arr[bad].flat[0])!r} is outside the allowed range (0, {X_MAX:g}] "
             "for the size parameter 2πa/λ"
         )
     return arr
 
 
 def _broadcast(m, x):
+    """Shape of the result and flat, writable float64/complex128 copies of m and x."""
     try:
-        return np.broadcast_arrays(m, x)
+        shape = np.broadcast_shapes(m.shape, x.shape)
     except ValueError:
-        raise InputError(f"m of shape {np.shape(m)} and x of shape {np.shape(x)} do not broadcast") from None
+        raise InputError(f"m of shape {m.shape} and x of shape {x.shape} do not broadcast") from None
+    mf = np.array(np.broadcast_to(m, shape), dtype=complex).ravel()
+    xf = np.array(np.broadcast_to(x, shape), dtype=float).ravel()
+    return shape, mf, xf
 
 
 def n_terms(x):
@@ -353,10 +361,7 @@ def mie(m, x, *, convention="n+ik"):
     >>> r.qext.round(4)
     array([0.2425, 2.7707])
     """
-    mm, xx = _broadcast(_as_index(m, convention), _as_size(x))
-    shape = mm.shape
-    mf = np.ascontiguousarray(mm, dtype=complex).ravel()
-    xf = np.ascontiguousarray(xx, dtype=float).ravel()
+    shape, mf, xf = _broadcast(_as_index(m, convention), _as_size(x))
     kernels = _kernels()
     if kernels is not None:
         qext, qsca, qback, g = kernels.efficiencies(mf, xf)
@@ -409,7 +414,7 @@ def _angles(theta):
         raise InputError(f"theta={theta!r} is not numeric") from None
     bad = ~np.isfinite(arr) | (arr < 0) | (arr > np.pi)
     if np.any(bad):
-        raise InputError(f"theta={arr[bad].flat[0]!r} is outside the allowed range [0, π] radians")
+        raise InputError(f"theta={float(arr[bad].flat[0])!r} is outside the allowed range [0, π] radians")
     return arr
 
 
@@ -454,18 +459,15 @@ def amplitudes(m, x, theta, *, convention="n+ik"):
     >>> bool(np.isclose(4 / 2.0**2 * s1[0].real, mie(1.5 + 0.01j, 2.0).qext))
     True
     """
-    mm, xx = _broadcast(_as_index(m, convention), _as_size(x))
+    shape, mf, xf = _broadcast(_as_index(m, convention), _as_size(x))
     th = _angles(theta)
-    mf = np.ascontiguousarray(mm, dtype=complex).ravel()
-    xf = np.ascontiguousarray(xx, dtype=float).ravel()
-    mu = np.ascontiguousarray(np.cos(th), dtype=float).ravel()
+    mu = np.array(np.cos(th), dtype=float).ravel()
     kernels = _kernels()
     if kernels is not None:
         s1, s2 = kernels.amplitudes(mf, xf, mu)
     else:
         s1, s2 = _amplitudes_numpy(mf, xf, mu)
-    shape = mm.shape + th.shape
-    return s1.reshape(shape), s2.reshape(shape)
+    return s1.reshape(shape + th.shape), s2.reshape(shape + th.shape)
 
 
 def phase_function(m, x, theta, *, convention="n+ik"):
@@ -500,3 +502,13 @@ def phase_function(m, x, theta, *, convention="n+ik"):
     scale = 2 * np.pi * _as_size(x) ** 2 * res.qsca
     extra = s1.ndim - scale.ndim
     return (np.abs(s1) ** 2 + np.abs(s2) ** 2) / scale.reshape(scale.shape + (1,) * extra)
+
+
+class _CallableModule(types.ModuleType):
+    """Lets ``redcorr.mie(m, x)`` stand for ``redcorr.mie.mie(m, x)``."""
+
+    def __call__(self, m, x, **kwargs):
+        return mie(m, x, **kwargs)
+
+
+sys.modules[__name__].__class__ = _CallableModule

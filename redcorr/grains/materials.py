@@ -56,11 +56,11 @@ class OpticalConstants:
             if not np.all(np.isfinite(arr)):
                 raise InputError(f"{name}: column {label} has a non-finite value")
         if np.any(wave <= 0):
-            raise InputError(f"{name}: wavelength={wave[wave <= 0][0]!r} µm must be > 0")
+            raise InputError(f"{name}: wavelength={float(wave[wave <= 0][0])!r} µm must be > 0")
         if np.any(n <= 0):
-            raise InputError(f"{name}: n={n[n <= 0][0]!r} must be > 0")
+            raise InputError(f"{name}: n={float(n[n <= 0][0])!r} must be > 0")
         if np.any(k < 0):
-            raise InputError(f"{name}: k={k[k < 0][0]!r} must be >= 0 (m = n + ik, k >= 0 absorbs)")
+            raise InputError(f"{name}: k={float(k[k < 0][0])!r} must be >= 0 (m = n + ik, k >= 0 absorbs)")
         order = np.argsort(wave)
         wave, n, k = wave[order], n[order], k[order]
         if np.any(np.diff(wave) <= 0):

@@ -369,9 +369,9 @@ class TabulatedSizes(SizeDistribution):
         if not (np.all(np.isfinite(a)) and np.all(np.isfinite(y))):
             raise InputError("a and dnda must be finite in every row")
         if np.any(a <= 0):
-            raise InputError(f"a={a[a <= 0][0]!r} µm must be > 0")
+            raise InputError(f"a={float(a[a <= 0][0])!r} µm must be > 0")
         if np.any(y < 0):
-            raise InputError(f"dnda={y[y < 0][0]!r} must be >= 0")
+            raise InputError(f"dnda={float(y[y < 0][0])!r} must be >= 0")
         order = np.argsort(a)
         a, y = a[order], y[order]
         if np.any(np.diff(a) <= 0):

@@ -12,6 +12,7 @@ from redcorr.exceptions import InputError
 __all__ = ["read_curve_table", "load_curve"]
 
 _FILE_PREFIX = "file:"
+_GRAIN_PREFIX = "grain:"
 
 
 def read_curve_table(path):
@@ -67,17 +68,41 @@ def read_curve_table(path):
         raise InputError(f"curve file {str(path)!r}: {exc}") from None
 
 
+def _grain_curve(spec, r_v):
+    """The extinction curve of a named grain model or of ``grain:PATH.toml``."""
+    from redcorr.grains import get_grain_model  # noqa: PLC0415 - grain models load on demand
+
+    curve = get_grain_model(spec).curve()
+    if r_v is not None and not abs(float(r_v) - curve.r_v) <= 0.005:
+        raise InputError(
+            f"r_v={r_v!r} cannot be set for grain model {spec!r}: its R_V ({curve.r_v:.3f}) "
+            "follows from its grains; leave R_V unset"
+        )
+    return curve
+
+
 def load_curve(spec, r_v=None):
-    """A curve from a law name or ``file:PATH``.
+    """A curve from a law name, ``file:PATH``, a grain-model name or ``grain:PATH.toml``.
 
     Parameters
     ----------
     spec : str
-        Registry name (see :func:`redcorr.curves.list_curves`) or
-        ``file:PATH`` for a table read by :func:`read_curve_table`.
+        Registry name (see :func:`redcorr.curves.list_curves`),
+        ``file:PATH`` for a table read by :func:`read_curve_table`, a named
+        grain model (see :func:`redcorr.grains.list_grain_models`, e.g.
+        ``wd01-rv3.1``) or ``grain:PATH.toml`` for a grain model described in
+        TOML (:func:`redcorr.io.grains.read_grain_model`). Grain models are
+        computed with Mie theory on 0.1-100 µm (cached on disk).
     r_v : float, optional
-        R_V for laws; for a file, overrides the file's own R_V.
+        R_V for laws; for a file, overrides the file's own R_V. A grain
+        model's R_V follows from its grains and cannot be changed.
     """
+    from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
+
+    if isinstance(spec, str) and (
+        spec.startswith(_GRAIN_PREFIX) or spec.strip().lower() in GRAIN_MODELS
+    ):
+        return _grain_curve(spec.strip() if not spec.startswith(_GRAIN_PREFIX) else spec, r_v)
     if isinstance(spec, str) and spec.startswith(_FILE_PREFIX):
         curve = read_curve_table(spec[len(_FILE_PREFIX):])
         if r_v is not None:

@@ -1,0 +1,136 @@
+"""``redcorr grain``: extinction, albedo and g of a grain model at given wavelengths."""
+
+import numpy as np
+from astropy import units as u
+
+from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table
+from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM
+from redcorr.exceptions import InputError
+from redcorr.grains import get_grain_model, list_grain_models, list_materials
+
+__all__ = ["add_parser", "run", "grain_rows"]
+
+
+def add_parser(sub):
+    p = sub.add_parser(
+        "grain",
+        help="extinction, albedo and g of a grain model (Mie theory)",
+        description=(
+            "Compute A(λ)/A(V), the albedo and the asymmetry g of a dust grain model at the "
+            "given wavelengths with Mie theory. MODEL is a name from --list or grain:PATH.toml. "
+            "R_V is monochromatic: A(0.55 µm)/[A(0.44 µm) - A(0.55 µm)]. Results are cached on "
+            "disk (user cache folder, or $REDCORR_CACHE_DIR)."
+        ),
+    )
+    p.add_argument("model", nargs="?", metavar="MODEL", help="grain-model name or grain:PATH.toml")
+    p.add_argument("--list", action="store_true", help="list the named grain models and materials")
+    p.add_argument("--wave", nargs="+", type=finite_float, metavar="W", help="wavelengths, in --unit")
+    p.add_argument("--unit", choices=sorted(WAVE_UNITS), default="um", help="unit of --wave (default um)")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.add_argument("--no-cache", action="store_true", help="compute afresh; neither read nor write the cache")
+    p.add_argument(
+        "--plot", metavar="FILE.png",
+        help="draw A(λ)/A(V), albedo and g against 1/λ, and the phase function, into a PNG",
+    )
+    p.set_defaults(func=run)
+
+
+def grain_rows(model, wave_um, *, cache=True):
+    """R_V and one row per wavelength: wavelength_um, A_over_AV, albedo, g, C_ext_per_H, kappa_ext.
+
+    Cross sections are computed at exactly these wavelengths (no interpolation).
+    """
+    wave_um = np.atleast_1d(np.asarray(wave_um, dtype=float))
+    optics = model.optics(np.append(wave_um, [B_WAVE_UM, V_WAVE_UM]), cache=cache)
+    c_b, c_v = optics.c_ext[-2:]
+    rows = [
+        {
+            "wavelength_um": float(w),
+            "A_over_AV": float(c / c_v),
+            "albedo": float(alb),
+            "g": float(g),
+            "C_ext_per_H": float(c),
+            "kappa_ext": float(k),
+        }
+        for w, c, alb, g, k in zip(wave_um, optics.c_ext, optics.albedo, optics.g, optics.kappa_ext)
+    ]
+    return float(c_v / (c_b - c_v)), rows
+
+
+def _list(as_json):
+    models, materials = list_grain_models(), list_materials()
+    if as_json:
+        print_json({"models": models, "materials": materials})
+        return 0
+    print_table(models, ["name", "description"])
+    print("Also: grain:PATH.toml, a model described in TOML (see README).")
+    print()
+    print_table(materials, ["name", "density", "carbon", "citation"], formats={"density": ".2f"})
+    print("Also: file:PATH in a TOML component, a table of wavelength_um, n, k.")
+    return 0
+
+
+def run(args):
+    if args.list:
+        return _list(args.json)
+    if not args.model:
+        raise InputError("MODEL is missing; give a grain-model name (see --list) or grain:PATH.toml")
+    if not args.wave and not args.plot:
+        raise InputError("--wave is missing; give one or more wavelengths (or --plot FILE.png)")
+    model = get_grain_model(args.model)
+    cache = not args.no_cache
+    r_v, rows = None, []
+    if args.wave:
+        wave = np.asarray(args.wave) * WAVE_UNITS[args.unit]
+        wave_um = wave.to_value(u.um, equivalencies=u.spectral())
+        r_v, rows = grain_rows(model, wave_um, cache=cache)
+    if args.plot:
+        _plot(model, args.plot, cache=cache)
+    if not rows:
+        return 0
+    if args.json:
+        keys = ("wavelength_um", "A_over_AV", "albedo", "g")
+        print_json({"R_V": r_v, "rows": [{k: row[k] for k in keys} for row in rows]})
+    else:
+        print(f"# {model.name}, R_V = {r_v:.3f} (A(0.55)/[A(0.44) - A(0.55)]); {model.citation}")
+        print_table(
+            rows,
+            ["wavelength_um", "A_over_AV", "albedo", "g", "C_ext_per_H", "kappa_ext"],
+            formats={"C_ext_per_H": ".4e", "kappa_ext": ".4e"},
+        )
+        print("C_ext_per_H in cm² per H nucleon; kappa_ext in cm² per gram of dust.")
+    return 0
+
+
+def _plot(model, path, *, cache):
+    from redcorr.io import atomic_path, check_output_path  # noqa: PLC0415
+    from redcorr.phase import henyey_greenstein  # noqa: PLC0415
+    from redcorr.plotting import _figure  # noqa: PLC0415 - matplotlib only when asked
+
+    check_output_path(path)
+    curve = model.curve(cache=cache)
+    optics = curve.optics
+    x = 1.0 / optics.wave_um
+    keep = x <= 10.0
+    plt = _figure()
+    fig, axes = plt.subplots(2, 2, figsize=(9.0, 6.6), layout="constrained")
+    (ax1, ax2), (ax3, ax4) = axes
+    ax1.plot(x[keep], (optics.c_ext / optics.c_ext[np.argmin(abs(optics.wave_um - V_WAVE_UM))])[keep])
+    ax1.set_ylabel(r"$A(\lambda)/A(V)$")
+    ax2.plot(x[keep], optics.albedo[keep])
+    ax2.set_ylabel("albedo")
+    ax3.plot(x[keep], optics.g[keep])
+    ax3.set_ylabel(r"$g = \langle\cos\theta\rangle$")
+    for ax in (ax1, ax2, ax3):
+        ax.set_xlabel(r"$1/\lambda$ [$\mu$m$^{-1}$]")
+    theta = np.linspace(0.0, np.pi, 361)
+    for lam in (0.2, B_WAVE_UM, V_WAVE_UM, 2.2):
+        g = float(np.interp(1 / lam, x[::-1], optics.g[::-1]))
+        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), label=f"{lam:g} µm, g={g:.2f}")
+    ax4.set_xlabel("scattering angle [deg]")
+    ax4.set_ylabel(r"phase function [sr$^{-1}$] (Henyey–Greenstein)")
+    ax4.legend(frameon=False, fontsize=8)
+    fig.suptitle(f"{model.name}: R_V = {curve.r_v:.3f}", fontsize=10)
+    with atomic_path(path, suffix=".png") as tmp:
+        fig.savefig(tmp, format="png", dpi=100)
+    plt.close(fig)
