@@ -1,0 +1,379 @@
+"""Read dust maps from disk: HEALPix FITS tables, FITS images with a WCS, map descriptions.
+
+Files are opened memory-mapped: a large map costs address space, not RAM,
+and only the pixels looked up are read.
+
+Formats
+-------
+HEALPix table
+    A FITS binary table whose header (or the primary header) has ``NSIDE``
+    (and usually ``PIXTYPE = 'HEALPIX'``), ``ORDERING`` (``RING`` or
+    ``NESTED``) and ``COORDSYS`` (``G`` galactic, ``C`` equatorial/ICRS,
+    ``E`` ecliptic, or an astropy frame name). Full sky: 12·NSIDE² values,
+    one per row or in vector cells of many values per row. Partial sky: a
+    ``PIXEL`` column of pixel indices (``INDXSCHM = 'EXPLICIT'``), or
+    ``FIRSTPIX``/``LASTPIX`` for a contiguous run. Pixels holding NaN or
+    the HEALPix UNSEEN value are blank.
+FITS image
+    A 2-d image HDU with a celestial WCS, any projection astropy.wcs
+    supports. Several images compose one sky (tried in the order given).
+    Images whose projection is zenithal and centred on a pole answer only
+    for that pole's hemisphere when they are one of several (the usual
+    hemisphere pair); a description file can say otherwise.
+Map description (TOML, ``.toml``)
+    Names a map once. Keys (all optional except ``files``)::
+
+        name = "my map"              # a label
+        unit = "E(B-V)"              # or "A_V"
+        scale = 1.0                  # factor applied to every value
+        interpolation = "bilinear"   # or "nearest"
+        r_v = 3.1                    # converts an A_V map to E(B-V)
+        column = "EBV"               # HEALPix table column (name or 0-based number)
+        files = ["north.fits", "south.fits"]   # paths relative to the TOML file
+        # or, per file:
+        # [[files]]
+        # path = "north.fits"
+        # hemisphere = "north"       # "north", "south" or "all" (images)
+        # hdu = 1                    # which HDU (default: the first that is a map)
+"""
+
+from pathlib import Path
+
+import numpy as np
+
+from redcorr._validate import check_choice
+from redcorr.exceptions import InputError
+from redcorr.io._toml import load_toml
+from redcorr.maps import HEALPIX_UNSEEN, HealpixMap, ImageMap, ImageTile
+
+__all__ = ["open_map", "read_healpix_table", "read_image_map", "read_map_description", "DESCRIPTION_KEYS"]
+
+DESCRIPTION_KEYS = ("name", "unit", "scale", "interpolation", "r_v", "column", "files")
+"""Top-level keys a map description may have."""
+
+_FILE_KEYS = ("path", "hemisphere", "hdu")
+_HEMISPHERES = {"north": (0.0, 90.0), "south": (-90.0, 0.0), "all": None}
+_COORDSYS = {
+    "g": "galactic",
+    "galactic": "galactic",
+    "c": "icrs",
+    "q": "icrs",
+    "celestial": "icrs",
+    "equatorial": "icrs",
+    "e": "barycentricmeanecliptic",
+    "ecliptic": "barycentricmeanecliptic",
+}
+_PIXEL_COLUMNS = ("PIXEL", "PIXEL_INDEX", "IPIX", "HPX_INDEX")
+_ZENITHAL = ("AZP", "SZP", "TAN", "STG", "SIN", "ARC", "ZPN", "ZEA", "AIR")
+
+
+def _fits():
+    from astropy.io import fits  # noqa: PLC0415 - only when a file is read
+
+    return fits
+
+
+def _open_fits(path):
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"map file {str(path)!r} does not exist")
+    try:
+        hdul = _fits().open(path, memmap=True, mode="readonly")
+        len(hdul)  # reads every header, so a broken file fails here
+    except (OSError, ValueError, TypeError) as exc:
+        raise InputError(f"map file {str(path)!r} is not a readable FITS file: {exc}") from None
+    return hdul
+
+
+def _header_value(key, *headers):
+    for header in headers:
+        if header is not None and key in header:
+            return header[key]
+    return None
+
+
+def _is_healpix(hdu, primary):
+    fits = _fits()
+    if not isinstance(hdu, (fits.BinTableHDU, fits.TableHDU)):
+        return False
+    pixtype = str(_header_value("PIXTYPE", hdu.header, primary) or "").strip().upper()
+    return pixtype == "HEALPIX" or _header_value("NSIDE", hdu.header, primary) is not None
+
+
+def _classify(hdul, path, hdu=None):
+    """(kind, index) of the HDU to read: ("healpix"|"image", i)."""
+    fits = _fits()
+    primary = hdul[0].header
+    if hdu is not None:
+        try:
+            candidates = [(hdul.index_of(hdu), hdul[hdu])]
+        except (IndexError, KeyError):
+            raise InputError(f"hdu={hdu!r}: map file {str(path)!r} has {len(hdul)} HDUs (0-{len(hdul) - 1})") from None
+    else:
+        candidates = list(enumerate(hdul))
+    images_without_sky = []
+    for i, h in candidates:
+        if _is_healpix(h, primary):
+            return "healpix", i
+        if isinstance(h, (fits.PrimaryHDU, fits.ImageHDU)) and h.header.get("NAXIS", 0) >= 2:
+            if _wcs(h.header).has_celestial:
+                return "image", i
+            images_without_sky.append(i)
+    if images_without_sky:
+        raise InputError(
+            f"map file {str(path)!r}: image HDU {images_without_sky[0]} has no celestial WCS axes "
+            "(CTYPE like RA---ZEA/DEC--ZEA or GLON-CAR/GLAT-CAR is needed)"
+        )
+    raise InputError(
+        f"map file {str(path)!r} is not a map: no HEALPix table (PIXTYPE='HEALPIX' or NSIDE) and "
+        "no image with a celestial WCS"
+    )
+
+
+def _kind(path, hdu=None):
+    """"healpix" or "image": what the map file holds."""
+    with _open_fits(path) as hdul:
+        return _classify(hdul, path, hdu)[0]
+
+
+def _wcs(header):
+    import warnings  # noqa: PLC0415
+
+    from astropy.wcs import WCS, FITSFixedWarning  # noqa: PLC0415
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", FITSFixedWarning)
+        try:
+            return WCS(header)
+        except Exception as exc:  # astropy.wcs raises several types for bad headers
+            raise InputError(f"the image's WCS could not be read: {exc}") from None
+
+
+def _column_index(table, column, path):
+    names = list(table.columns.names)
+    if isinstance(column, (int, np.integer)) or (isinstance(column, str) and column.strip().isdigit()):
+        i = int(column)
+        if not 0 <= i < len(names):
+            raise InputError(f"column={column!r}: {str(path)!r} has columns 0-{len(names) - 1} ({names})")
+        return i
+    upper = [n.upper() for n in names]
+    key = str(column).strip().upper()
+    if key not in upper:
+        raise InputError(f"column={column!r} is not in {str(path)!r}; columns are {names}")
+    return upper.index(key)
+
+
+def read_healpix_table(path, column=None, hdu=None, **kwargs):
+    """Read a HEALPix map from a FITS binary table (memory-mapped).
+
+    Parameters
+    ----------
+    path : path-like
+    column : str or int, optional
+        Column holding the values (name, case-insensitive, or 0-based
+        number). Default: the first column that is not a pixel index.
+    hdu : int or str, optional
+        HDU to read; default the first HEALPix table.
+    **kwargs
+        ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name`` for
+        `~redcorr.maps.HealpixMap`.
+
+    Returns
+    -------
+    HealpixMap
+    """
+    with _open_fits(path) as hdul:
+        return _healpix_from_hdul(hdul, path, column, hdu, kwargs)
+
+
+def _healpix_from_hdul(hdul, path, column, hdu, kwargs):
+    kind, index = _classify(hdul, path, hdu)
+    if kind != "healpix":
+        raise InputError(f"map file {str(path)!r} has no HEALPix table (PIXTYPE='HEALPIX' or NSIDE)")
+    table_hdu = hdul[index]
+    header, primary = table_hdu.header, hdul[0].header
+    nside = _header_value("NSIDE", header, primary)
+    if nside is None:
+        raise InputError(f"map file {str(path)!r}: HEALPix table without NSIDE in its header")
+    ordering = str(_header_value("ORDERING", header, primary) or "").strip().upper()
+    if ordering not in ("RING", "NESTED", "NEST"):
+        raise InputError(f"map file {str(path)!r}: ORDERING={ordering!r}; RING or NESTED is needed")
+    coordsys = str(_header_value("COORDSYS", header, primary) or "").strip()
+    if not coordsys:
+        raise InputError(f"map file {str(path)!r}: COORDSYS is missing; G (galactic), C (ICRS) or E (ecliptic) is needed")
+    frame = _COORDSYS.get(coordsys.lower(), coordsys)
+    data = table_hdu.data
+    names = [n.upper() for n in table_hdu.columns.names]
+    scheme = str(_header_value("INDXSCHM", header, primary) or "IMPLICIT").strip().upper()
+    pixel_col = next((names.index(n) for n in _PIXEL_COLUMNS if n in names), None)
+    if scheme == "EXPLICIT" and pixel_col is None:
+        raise InputError(
+            f"map file {str(path)!r}: INDXSCHM='EXPLICIT' but no pixel index column ({', '.join(_PIXEL_COLUMNS)})"
+        )
+    if column is None:
+        col = next((i for i in range(len(names)) if i != pixel_col), None)
+        if col is None:
+            raise InputError(f"map file {str(path)!r} has no value column besides the pixel indices")
+    else:
+        col = _column_index(table_hdu, column, path)
+    if data is None or len(data) == 0:
+        raise InputError(f"map file {str(path)!r}: the HEALPix table has no rows")
+    values = np.asarray(data.field(col))
+    if not np.issubdtype(values.dtype, np.number):
+        raise InputError(f"map file {str(path)!r}: column {names[col]!r} is not numeric")
+    values = values.reshape(-1)
+    pixels = None
+    if pixel_col is not None and col != pixel_col:
+        pixels = np.asarray(data.field(pixel_col)).reshape(-1)
+    elif values.size != 12 * int(nside) ** 2 and "FIRSTPIX" in header and "LASTPIX" in header:
+        first, last = int(header["FIRSTPIX"]), int(header["LASTPIX"])
+        if last - first + 1 == values.size:
+            pixels = np.arange(first, last + 1, dtype=np.int64)
+    kwargs.setdefault("name", Path(path).name)
+    kwargs.setdefault("sources", (str(path),))
+    blank = header.get(f"TNULL{col + 1}") if np.issubdtype(values.dtype, np.integer) else HEALPIX_UNSEEN
+    try:
+        return HealpixMap(values, nside, order=ordering, frame=frame, pixels=pixels, blank_value=blank, **kwargs)
+    except InputError as exc:
+        raise InputError(f"map file {str(path)!r}: {exc}") from None
+
+
+def _pole_hemisphere(wcs):
+    """(lo, hi) latitude range for a zenithal image centred on a pole, else None."""
+    cel = wcs.celestial
+    projection = cel.wcs.ctype[0][5:8]
+    lat_ref = cel.wcs.crval[cel.wcs.lat]
+    if projection in _ZENITHAL and abs(abs(lat_ref) - 90.0) < 1e-9:
+        return _HEMISPHERES["north"] if lat_ref > 0 else _HEMISPHERES["south"]
+    return None
+
+
+def read_image_map(paths, hemispheres=None, hdus=None, **kwargs):
+    """Read one or several FITS images with celestial WCS into one map (memory-mapped).
+
+    Parameters
+    ----------
+    paths : path-like or sequence of path-like
+        Images tried in this order for each position.
+    hemispheres : sequence of {"north", "south", "all", None}, optional
+        Per image: the latitude half (in the image's frame) it answers for.
+        ``None`` (default) means "all", except for a pole-centred zenithal
+        image among several, which answers for its pole's hemisphere.
+    hdus : sequence of int or None, optional
+        Per image: HDU to read (default: the first image with a celestial WCS).
+    **kwargs
+        ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name`` for
+        `~redcorr.maps.ImageMap`.
+
+    Returns
+    -------
+    ImageMap
+    """
+    paths = [paths] if isinstance(paths, (str, Path)) else list(paths)
+    hemispheres = list(hemispheres) if hemispheres is not None else [None] * len(paths)
+    hdus = list(hdus) if hdus is not None else [None] * len(paths)
+    tiles = []
+    for path, hemisphere, hdu in zip(paths, hemispheres, hdus):
+        with _open_fits(path) as hdul:
+            kind, index = _classify(hdul, path, hdu)
+            if kind != "image":
+                raise InputError(f"map file {str(path)!r} is a HEALPix table; it cannot be one of several images")
+            image = hdul[index]
+            wcs = _wcs(image.header)
+            data = image.data
+        if hemisphere is None:
+            lat_range = _pole_hemisphere(wcs) if len(paths) > 1 else None
+        else:
+            lat_range = _HEMISPHERES[check_choice("hemisphere", hemisphere, tuple(_HEMISPHERES))]
+        blank = image.header.get("BLANK") if np.issubdtype(data.dtype, np.integer) else None
+        try:
+            tiles.append(ImageTile(data, wcs, lat_range=lat_range, blank_value=blank, name=Path(path).name))
+        except InputError as exc:
+            raise InputError(f"map file {str(path)!r}: {exc}") from None
+    kwargs.setdefault("name", " + ".join(Path(p).name for p in paths))
+    kwargs.setdefault("sources", tuple(str(p) for p in paths))
+    return ImageMap(tiles, **kwargs)
+
+
+def read_map_description(path, **overrides):
+    """Read a TOML map description (see the module documentation) and open its map.
+
+    Parameters
+    ----------
+    path : path-like
+    **overrides
+        ``unit``, ``scale``, ``interpolation``, ``r_v``, ``column`` given
+        here win over the file's (``None`` values are ignored).
+    """
+    path = Path(path)
+    desc = load_toml(path, what="map description")
+    unknown = sorted(set(desc) - set(DESCRIPTION_KEYS))
+    if unknown:
+        raise InputError(
+            f"map description {str(path)!r}: unknown key {unknown[0]!r}; allowed keys are {', '.join(DESCRIPTION_KEYS)}"
+        )
+    files = desc.get("files")
+    if not files or not isinstance(files, list):
+        raise InputError(f"map description {str(path)!r}: 'files' must list one or more map files")
+    entries = []
+    for item in files:
+        entry = {"path": item} if isinstance(item, str) else item
+        if not isinstance(entry, dict) or "path" not in entry:
+            raise InputError(f"map description {str(path)!r}: each of 'files' needs a path, got {item!r}")
+        bad = sorted(set(entry) - set(_FILE_KEYS))
+        if bad:
+            raise InputError(
+                f"map description {str(path)!r}: unknown file key {bad[0]!r}; allowed are {', '.join(_FILE_KEYS)}"
+            )
+        entries.append(dict(entry, path=path.parent / str(entry["path"])))
+    options = {k: desc[k] for k in ("unit", "scale", "interpolation", "r_v") if k in desc}
+    options["name"] = desc.get("name", path.stem)
+    column = desc.get("column")
+    for key, value in overrides.items():
+        if value is not None:
+            if key == "column":
+                column = value
+            else:
+                options[key] = value
+    options["sources"] = (str(path),) + tuple(str(e["path"]) for e in entries)
+    kind = _kind(entries[0]["path"], entries[0].get("hdu"))
+    if kind == "healpix":
+        if len(entries) > 1:
+            raise InputError(f"map description {str(path)!r}: a HEALPix map is one file; {len(entries)} are listed")
+        return read_healpix_table(entries[0]["path"], column=column, hdu=entries[0].get("hdu"), **options)
+    return read_image_map(
+        [e["path"] for e in entries],
+        hemispheres=[e.get("hemisphere") for e in entries],
+        hdus=[e.get("hdu") for e in entries],
+        **options,
+    )
+
+
+def open_map(spec, *, unit=None, scale=None, interpolation=None, r_v=None, column=None):
+    """Open a dust map: a HEALPix FITS table, FITS image(s) with WCS, or a TOML description.
+
+    Parameters
+    ----------
+    spec : path-like or sequence of path-like
+        One FITS file, several FITS images composing one sky, or a ``.toml``
+        map description.
+    unit, scale, interpolation, r_v, column : optional
+        Override the description's settings (or the defaults: E(B-V),
+        1.0, bilinear, no R_V, first value column).
+
+    Returns
+    -------
+    DustMap
+        `~redcorr.maps.HealpixMap` or `~redcorr.maps.ImageMap`.
+    """
+    specs = [spec] if isinstance(spec, (str, Path)) else list(spec)
+    if not specs:
+        raise InputError("map is empty; give a FITS file or a .toml map description")
+    options = {k: v for k, v in dict(unit=unit, scale=scale, interpolation=interpolation, r_v=r_v).items() if v is not None}
+    if len(specs) == 1 and Path(specs[0]).suffix.lower() == ".toml":
+        return read_map_description(specs[0], column=column, **options)
+    if any(Path(s).suffix.lower() == ".toml" for s in specs):
+        raise InputError(f"map={[str(s) for s in specs]}: a .toml description must be given alone")
+    if len(specs) == 1 and _kind(specs[0]) == "healpix":
+        return read_healpix_table(specs[0], column=column, **options)
+    return read_image_map(specs, **options)

@@ -1,0 +1,342 @@
+"""Core map lookup (redcorr.maps): arrays in, values and flags out; no files."""
+
+import numpy as np
+import pytest
+import astropy_healpix
+from astropy import units as u
+from astropy.coordinates import FK5, SkyCoord
+from astropy.wcs import WCS
+
+from _synthetic_maps import car_wcs, healpix_values, image_values, smooth, zea_pole_wcs
+from redcorr.exceptions import InputError
+from redcorr.maps import (
+    FLAG_BLANK,
+    FLAG_NO_POSITION,
+    FLAG_OUTSIDE,
+    FLAG_PARTIAL,
+    HEALPIX_UNSEEN,
+    HealpixMap,
+    ImageMap,
+    ImageTile,
+    describe_flags,
+    transform_lonlat,
+)
+
+
+def _random_sky(n, seed=1):
+    """Uniform random directions (degrees)."""
+    rng = np.random.default_rng(seed)
+    return rng.uniform(0, 360, n), np.degrees(np.arcsin(rng.uniform(-1, 1, n)))
+
+
+def _pixel_size_rad(nside):
+    """sqrt(4π / Npix), the HEALPix pixel scale (Górski et al. 2005, ApJ 622, 759, Sect. 4)."""
+    return np.sqrt(4 * np.pi / (12 * nside**2))
+
+
+# --- pixel indices and centres against astropy-healpix (reference library) ---------------------
+
+
+@pytest.mark.parametrize("order", ["ring", "nested"])
+def test_nearest_pixel_index_matches_astropy_healpix(order):
+    # Reference: astropy_healpix.lonlat_to_healpix. A map whose value is its own pixel index
+    # must return exactly that index under nearest-pixel lookup.
+    nside = 16
+    hp_map = HealpixMap(np.arange(12 * nside**2, dtype=float), nside, order, frame="galactic")
+    lon, lat = _random_sky(20000)
+    got, flags = hp_map.lookup(lon, lat, frame="galactic", interpolation="nearest")
+    expected = astropy_healpix.lonlat_to_healpix(lon * u.deg, lat * u.deg, nside, order=order)
+    np.testing.assert_array_equal(got, expected)
+    assert not flags.any()
+
+
+@pytest.mark.parametrize("order", ["ring", "nested"])
+def test_pixel_centres_return_the_pixel_value(order):
+    # Reference: astropy_healpix.healpix_to_lonlat gives the pixel centres; bilinear
+    # interpolation at a centre must return that pixel's own value (weight 1 there).
+    nside = 32
+    values = healpix_values(nside, order)
+    hp_map = HealpixMap(values, nside, order, frame="galactic")
+    index = np.arange(0, 12 * nside**2, 37)
+    lon, lat = astropy_healpix.healpix_to_lonlat(index, nside, order=order)
+    for method in ("bilinear", "nearest"):
+        got, flags = hp_map.lookup(lon.deg, lat.deg, frame="galactic", interpolation=method)
+        np.testing.assert_allclose(got, values[index], rtol=0, atol=1e-9)
+        assert not flags.any()
+
+
+# --- synthetic maps: recovery of a known function ------------------------------------------------
+
+
+@pytest.mark.parametrize("order", ["ring", "nested"])
+def test_healpix_recovers_smooth_function_at_expected_order(order):
+    # Interpolation theory (common practice, no source): the error of bilinear interpolation of a
+    # smooth function falls as h², of nearest-pixel lookup as h, with h the pixel size. Doubling
+    # NSIDE must cut the bilinear error ~4x and the nearest error ~2x. Bounds: max|f''| <= 1.5 and
+    # max|∇f| <= 1 for this f (per radian). Within ~10° of the poles the four-neighbour scheme of
+    # astropy-healpix is only first-order (measured here), so there the bilinear bound is h.
+    lon, lat = _random_sky(40000)
+    truth = smooth(lon, lat)
+    mid = np.abs(lat) < 80
+    rms, err = {}, {}
+    for nside in (32, 64):
+        hp_map = HealpixMap(healpix_values(nside, order), nside, order, frame="galactic")
+        h = _pixel_size_rad(nside)
+        for method in ("bilinear", "nearest"):
+            got, flags = hp_map.lookup(lon, lat, frame="galactic", interpolation=method)
+            assert not flags.any()
+            rms[nside, method] = np.sqrt(np.mean((got - truth) ** 2))
+            err[nside, method] = np.max(np.abs(got - truth)[mid])
+        assert err[nside, "bilinear"] < 1.0 * h**2
+        assert np.max(np.abs(got - truth)) < 1.0 * h  # nearest, everywhere
+        assert err[nside, "nearest"] < 1.0 * h
+    assert 3.0 < rms[32, "bilinear"] / rms[64, "bilinear"] < 5.0
+    assert 3.0 < err[32, "bilinear"] / err[64, "bilinear"] < 5.0
+    assert 1.6 < rms[32, "nearest"] / rms[64, "nearest"] < 2.5
+
+
+def test_image_plate_carree_recovers_smooth_function():
+    # Same expectation for images: bilinear in pixel coordinates, error ~ h² (common practice,
+    # no source); positions are given in ICRS so that astropy.coordinates carries them to (l, b).
+    lon, lat = _random_sky(20000, seed=3)
+    lon, lat = lon[np.abs(lat) < 88], lat[np.abs(lat) < 88]
+    gal = SkyCoord(lon * u.deg, lat * u.deg, frame="galactic")
+    ra, dec = gal.icrs.ra.deg, gal.icrs.dec.deg
+    err = {}
+    for step in (2.0, 1.0):
+        wcs, shape = car_wcs(step)
+        image = ImageMap([ImageTile(image_values(wcs, shape), wcs)])
+        got, flags = image.lookup(ra, dec, frame="icrs")
+        ok = flags == 0
+        # only the half-pixel strip at the longitude seam (l = 180°) lacks neighbours
+        assert np.all(flags[~ok] == FLAG_PARTIAL) and ok.mean() > 0.98
+        err[step] = np.max(np.abs(got[ok] - smooth(lon, lat)[ok]))
+        assert err[step] < 2 * np.radians(step) ** 2
+        near, _ = image.lookup(ra, dec, frame="icrs", interpolation="nearest")
+        assert np.max(np.abs(near - smooth(lon, lat))) < np.radians(step)
+    assert 3.0 < err[2.0] / err[1.0] < 5.5
+
+
+def test_zenithal_hemisphere_pair_covers_the_sky():
+    # Two pole-centred zenithal equal-area images (Calabretta & Greisen 2002, A&A 395, 1077,
+    # Sect. 5.1.5) compose the whole sky; each answers for its own hemisphere.
+    north_wcs, shape = zea_pole_wcs(True)
+    south_wcs, _ = zea_pole_wcs(False)
+    north = image_values(north_wcs, shape)
+    south = image_values(south_wcs, shape)
+    _, lat_n = north_wcs.pixel_to_world_values(*np.meshgrid(np.arange(shape[1]), np.arange(shape[0])))
+    north = np.where(lat_n < 0, north + 10.0, north)  # wrong values beyond its hemisphere
+    pair = ImageMap(
+        [ImageTile(north, north_wcs, lat_range=(0, 90)), ImageTile(south, south_wcs, lat_range=(-90, 0))]
+    )
+    lon, lat = _random_sky(20000, seed=5)
+    got, flags = pair.lookup(lon, lat, frame="galactic")
+    away = np.abs(lat) > 3  # beyond two pixels of the seam every neighbour is in the right half
+    assert not flags[away].any()
+    assert np.max(np.abs(got[away] - smooth(lon, lat)[away])) < 2 * np.radians(1.0) ** 2
+    assert np.all(np.isfinite(got))
+
+
+# --- frames through astropy.coordinates ------------------------------------------------------------
+
+
+def test_north_galactic_pole_j2000():
+    # J2000 north galactic pole RA 192.85948°, Dec +27.12825° and the galactic longitude of the
+    # ascending node of the galactic plane on the equator, l = 32.93192° (ESA 1997, The Hipparcos
+    # and Tycho Catalogues, Vol. 1, Sect. 1.5.3; from memory). Galactic coordinates as defined by
+    # the IAU in 1958 (Blaauw et al. 1960, MNRAS 121, 123).
+    l, b = transform_lonlat(np.array([192.85948]), np.array([27.12825]), FK5(), _galactic())
+    assert b[0] == pytest.approx(90.0, abs=1e-4)
+    l, b = transform_lonlat(np.array([192.85948 + 90.0]), np.array([0.0]), FK5(), _galactic())
+    assert (l[0], b[0]) == pytest.approx((32.93192, 0.0), abs=1e-4)
+
+
+def test_galactic_centre_direction():
+    # IAU 1958 system (Blaauw et al. 1960, MNRAS 121, 123): l = b = 0 lies at B1950 (FK4)
+    # RA 17h42.4m, Dec -28°55' (from memory; quoted to 0.1 min and 1 arcmin, hence the tolerance).
+    from astropy.coordinates import FK4  # noqa: PLC0415
+
+    ra, dec = transform_lonlat(np.array([0.0]), np.array([0.0]), _galactic(), FK4(equinox="B1950"))
+    assert ra[0] == pytest.approx(15 * (17 + 42.4 / 60), abs=0.03)
+    assert dec[0] == pytest.approx(-(28 + 55 / 60), abs=0.02)
+
+
+def test_lookup_in_equatorial_frames_reaches_galactic_map():
+    # A galactic map holding sin(b) must give 1 at the north galactic pole asked in J2000 RA/Dec
+    # (Hipparcos Vol. 1 Sect. 1.5.3, from memory) and 0 on the galactic plane.
+    nside = 64
+    hp_map = HealpixMap(healpix_values(nside, "ring", lambda l, b: np.sin(np.radians(b))), nside, "ring")
+    ngp, _ = hp_map.lookup(192.85948, 27.12825, frame="fk5")
+    assert ngp == pytest.approx(1.0, abs=1e-3)
+    node = SkyCoord(282.85948 * u.deg, 0 * u.deg, frame="fk5")
+    value, flag = hp_map.lookup_coord(node)
+    assert value == pytest.approx(0.0, abs=1e-3) and flag == 0
+    assert hp_map.lookup(0.0, 0.0, frame="galactic")[0] == pytest.approx(0.0, abs=1e-3)
+
+
+def _galactic():
+    from astropy.coordinates import Galactic  # noqa: PLC0415
+
+    return Galactic()
+
+
+# --- partial maps, blanks, flags -------------------------------------------------------------------
+
+
+def _cone_map(order="nested", nside=64):
+    """Partial map: the pixels within 10° of (l, b) = (30°, 20°)."""
+    pixels = astropy_healpix.HEALPix(nside, order).cone_search_lonlat(30 * u.deg, 20 * u.deg, 10 * u.deg)
+    full = healpix_values(nside, order)
+    return HealpixMap(full[pixels], nside, order, pixels=pixels), HealpixMap(full, nside, order)
+
+
+def test_partial_map_matches_full_map_inside_and_flags_outside():
+    part, full = _cone_map()
+    lon = np.array([30.0, 33.0, 30.0, 200.0, 30.0])
+    lat = np.array([20.0, 18.0, 29.9, -40.0, 35.0])
+    got, flags = part.lookup(lon, lat, frame="galactic")
+    ref, _ = full.lookup(lon, lat, frame="galactic")
+    assert list(flags[:2]) == [0, 0]
+    np.testing.assert_allclose(got[:2], ref[:2], rtol=1e-12)
+    assert flags[2] in (0, FLAG_PARTIAL, FLAG_OUTSIDE)  # at the rim: depends on the pixel
+    assert list(flags[3:]) == [FLAG_OUTSIDE, FLAG_OUTSIDE]
+    assert np.all(np.isnan(got[3:]))
+
+
+def test_partial_map_rim_uses_remaining_neighbours():
+    part, full = _cone_map()
+    lon, lat = np.full(400, 30.0), np.linspace(28.0, 32.0, 400)
+    got, flags = part.lookup(lon, lat, frame="galactic")
+    assert set(np.unique(flags)) == {0, FLAG_PARTIAL, FLAG_OUTSIDE}
+    rim = flags == FLAG_PARTIAL
+    # renormalised weights keep the value within the range of the map's values nearby
+    assert np.all(np.isfinite(got[rim]))
+    assert np.all(np.abs(got[rim] - smooth(lon[rim], lat[rim])) < 0.05)
+    assert np.all(np.isnan(got[flags == FLAG_OUTSIDE]))
+
+
+def test_unsorted_explicit_pixels_are_accepted():
+    part, _ = _cone_map()
+    shuffle = np.random.default_rng(0).permutation(part.pixels.size)
+    again = HealpixMap(part.values[shuffle], 64, "nested", pixels=part.pixels[shuffle])
+    np.testing.assert_array_equal(again.lookup(31.0, 21.0, "galactic")[0], part.lookup(31.0, 21.0, "galactic")[0])
+
+
+def test_blank_pixels_flag_and_nan():
+    nside = 8
+    values = np.ones(12 * nside**2)
+    hole = astropy_healpix.lonlat_to_healpix(10 * u.deg, 10 * u.deg, nside)
+    values[hole] = HEALPIX_UNSEEN
+    values[hole + 1] = np.nan
+    hp_map = HealpixMap(values, nside, "ring")
+    got, flag = hp_map.lookup(10.0, 10.0, frame="galactic", interpolation="nearest")
+    assert np.isnan(got) and flag == FLAG_BLANK
+    lon, lat = astropy_healpix.healpix_to_lonlat(hole + 1, nside)
+    got, flag = hp_map.lookup(lon.deg, lat.deg, frame="galactic")
+    assert np.isnan(got) and flag == FLAG_BLANK
+    # a quarter of the way from the next pixel in the ring towards the blank one: the blank
+    # pixel carries weight, so the value comes from the others, flagged partial
+    lon2, _ = astropy_healpix.healpix_to_lonlat(hole + 2, nside)
+    near, flag = hp_map.lookup(0.75 * lon2.deg + 0.25 * lon.deg, lat.deg, frame="galactic")
+    assert flag == FLAG_PARTIAL and near == pytest.approx(1.0)
+    centre, flag = hp_map.lookup(lon2.deg, lat.deg, frame="galactic")  # zero weight on the blank one
+    assert flag == 0 and centre == pytest.approx(1.0)
+
+
+def test_image_outside_and_blank():
+    wcs = WCS(naxis=2)
+    wcs.wcs.ctype = ["RA---TAN", "DEC--TAN"]
+    wcs.wcs.crval = [101.25, -27.4]
+    wcs.wcs.crpix = [5.5, 5.5]
+    wcs.wcs.cdelt = [-0.1, 0.1]
+    data = np.full((10, 10), 2.0)
+    data[4, 4] = np.nan  # pixel (x=4, y=4) is at the reference point minus half a pixel
+    tile = ImageTile(data, wcs)
+    image = ImageMap([tile], unit="A_V", r_v=4.0, scale=1.5)
+    x, y = 4.0, 4.0
+    ra, dec = wcs.pixel_to_world_values(x, y)
+    values, flags = image.lookup([ra, 101.25, 110.0], [dec, -27.2, -27.4])
+    assert flags[0] == FLAG_BLANK and np.isnan(values[0])
+    assert flags[1] == 0 and values[1] == pytest.approx(3.0)  # scale 1.5 applied
+    assert flags[2] == FLAG_OUTSIDE and np.isnan(values[2])
+    ebv, _ = image.ebv(101.25, -27.2)
+    assert ebv == pytest.approx(3.0 / 4.0)  # E(B-V) = A_V / R_V (definition of R_V)
+
+
+def test_later_image_fills_blank_of_earlier():
+    wcs, shape = car_wcs(10.0)
+    first = np.full(shape, np.nan)
+    second = np.full(shape, 0.5)
+    image = ImageMap([ImageTile(first, wcs), ImageTile(second, wcs)])
+    values, flags = image.lookup(10.0, 10.0, frame="galactic")
+    assert values == pytest.approx(0.5) and flags == 0
+
+
+def test_nan_positions_are_flagged_not_errors():
+    hp_map = HealpixMap(np.ones(12), 1, "ring")
+    values, flags = hp_map.lookup([np.nan, 10.0], [0.0, np.inf])
+    assert np.all(np.isnan(values)) and list(flags) == [FLAG_NO_POSITION, FLAG_NO_POSITION]
+
+
+def test_scalar_in_scalar_out_and_broadcasting():
+    hp_map = HealpixMap(np.full(12, 0.25), 1, "ring", scale=2.0)
+    value, flag = hp_map.lookup(10.0, 20.0)
+    assert np.ndim(value) == 0 and value == pytest.approx(0.5) and flag == 0
+    values, flags = hp_map.lookup(np.zeros((3, 1)), np.zeros(4) * u.deg)
+    assert values.shape == flags.shape == (3, 4)
+
+
+def test_describe_flags():
+    assert describe_flags(0) == "ok"
+    assert describe_flags(FLAG_OUTSIDE) == "outside"
+    assert describe_flags(FLAG_BLANK | FLAG_PARTIAL) == "blank+partial"
+
+
+# --- bad input ------------------------------------------------------------------------------------
+
+
+def test_latitude_beyond_pole_is_refused():
+    hp_map = HealpixMap(np.ones(12), 1, "ring")
+    with pytest.raises(InputError, match=r"lat_deg=95\.0 is outside the allowed range \[-90, 90\]"):
+        hp_map.lookup([10.0, 20.0], [0.0, 95.0])
+    with pytest.raises(InputError, match="lat_deg"):
+        hp_map.lookup(0.0, -90.5, frame="galactic")
+
+
+def test_non_numeric_coordinates_are_refused():
+    hp_map = HealpixMap(np.ones(12), 1, "ring")
+    with pytest.raises(InputError, match="lon_deg='abc' is not numeric"):
+        hp_map.lookup("abc", 10.0)
+    with pytest.raises(InputError, match="lat_deg has unit m"):
+        hp_map.lookup(10.0, 3 * u.m)
+    with pytest.raises(InputError, match="frame='nowhere' is not known"):
+        hp_map.lookup(10.0, 10.0, frame="nowhere")
+    with pytest.raises(InputError, match="interpolation='cubic'"):
+        hp_map.lookup(10.0, 10.0, interpolation="cubic")
+
+
+def test_healpix_length_must_match_nside():
+    with pytest.raises(InputError, match=r"has 700 values but NSIDE=8 needs 12·NSIDE² = 768"):
+        HealpixMap(np.ones(700), 8, "ring")
+    with pytest.raises(InputError, match="nside=6"):
+        HealpixMap(np.ones(432), 6, "ring")
+    with pytest.raises(InputError, match="pixel index 768 is outside"):
+        HealpixMap(np.ones(2), 8, "ring", pixels=[3, 768])
+    with pytest.raises(InputError, match="appears more than once"):
+        HealpixMap(np.ones(3), 8, "ring", pixels=[3, 5, 3])
+
+
+def test_image_without_celestial_axes_is_refused():
+    wcs = WCS(naxis=2)
+    wcs.wcs.ctype = ["WAVE", "FREQ"]
+    with pytest.raises(InputError, match="no celestial axes"):
+        ImageTile(np.zeros((4, 4)), wcs, name="spec")
+
+
+def test_unit_and_scale_are_checked():
+    with pytest.raises(InputError, match="unit='mag'"):
+        HealpixMap(np.ones(12), 1, unit="mag")
+    with pytest.raises(InputError, match="scale=-1"):
+        HealpixMap(np.ones(12), 1, scale=-1)
+    with pytest.raises(InputError, match="give r_v"):
+        HealpixMap(np.ones(12), 1, unit="A_V").ebv(0.0, 0.0)
