@@ -1,0 +1,201 @@
+"""``redcorr correct``: deredden a photometric catalog file, streaming or with Dask."""
+
+import argparse
+import sys
+
+from redcorr.cli._common import finite_float, print_json
+from redcorr.correct import DEFAULT_TEMPERATURE, FLAG_BITS, Correction
+from redcorr.exceptions import InputError
+
+__all__ = ["add_parser", "run"]
+
+_EPILOG = "dered_flags bits: " + ", ".join(f"{v}={k}" for k, v in FLAG_BITS.items())
+
+
+def _mapping(text):
+    """argparse type: BAND=COLUMN."""
+    band, sep, col = text.rpartition("=")
+    if not sep or not band or not col:
+        raise argparse.ArgumentTypeError(f"{text!r} is not BAND=COLUMN")
+    return band, col
+
+
+def _pair(text):
+    """argparse type: BAND1,BAND2."""
+    parts = text.split(",")
+    if len(parts) != 2 or not all(parts):
+        raise argparse.ArgumentTypeError(f"{text!r} is not BAND1,BAND2")
+    return tuple(parts)
+
+
+def _positive_int(text):
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} must be >= 1")
+    return value
+
+
+def add_parser(sub):
+    p = sub.add_parser(
+        "correct",
+        help="deredden a catalog: corrected magnitudes, colours, errors and flags",
+        description=(
+            "Correct the magnitudes of every row of INPUT for interstellar reddening and write "
+            "INPUT's columns plus the corrected ones to OUTPUT (never over INPUT; atomically). "
+            "INPUT: CSV (also .gz), ECSV, FITS table, Parquet file or folder. A run summary is "
+            "written to OUTPUT.summary.json. Column names are guessed when not given."
+        ),
+        epilog=_EPILOG,
+    )
+    p.add_argument("input", metavar="INPUT", help="catalog file, Parquet folder, or (with --engine dask) a CSV glob")
+    p.add_argument("output", metavar="OUTPUT", help="output file (or folder for --engine dask Parquet)")
+    g = p.add_argument_group("bands")
+    g.add_argument("--band", action="append", required=True, metavar="SPEC",
+                   help="a band: filter name (kw-v), file:PATH, tophat:C:W, gauss:C:FWHM (repeat)")
+    g.add_argument("--mag", action="append", type=_mapping, default=[], metavar="BAND=COL",
+                   help="magnitude column of a band (guessed if omitted)")
+    g.add_argument("--err", action="append", type=_mapping, default=[], metavar="BAND=COL",
+                   help="error column of a band (guessed if omitted)")
+    g.add_argument("--colour", action="append", type=_pair, default=[], metavar="B1,B2",
+                   help="also write the corrected colour B1-B2 (repeat)")
+    r = p.add_argument_group("reddening (one source)")
+    r.add_argument("--ebv-col", metavar="COL", help="column of E(B-V)")
+    r.add_argument("--av-col", metavar="COL", help="column of A_V")
+    r.add_argument("--ebv", type=finite_float, metavar="X", help="one E(B-V) for every row")
+    r.add_argument("--av", type=finite_float, metavar="X", help="one A_V for every row")
+    r.add_argument("--map", metavar="SPEC", help="a local dust map (FITS or TOML description)")
+    r.add_argument("--red-err-col", metavar="COL", help="column of the reddening's uncertainty")
+    r.add_argument("--red-err", type=finite_float, default=0.0, metavar="X",
+                   help="one uncertainty of the reddening for every row")
+    r.add_argument("--map-scale", type=finite_float, default=1.0, metavar="F", help="multiply map values by F")
+    r.add_argument("--lon-col", metavar="COL", help="RA or l column for --map (guessed)")
+    r.add_argument("--lat-col", metavar="COL", help="Dec or b column for --map (guessed)")
+    r.add_argument("--frame", metavar="FRAME", help="frame of the position columns: icrs (default) or galactic")
+    d = p.add_argument_group("dust")
+    d.add_argument("--law", default="f99", metavar="NAME",
+                   help="extinction law or grain model (see redcorr curve --list), or file:PATH (default f99)")
+    d.add_argument("--rv", type=finite_float, metavar="R", help="R_V (law default if omitted)")
+    d.add_argument("--rv-col", metavar="COL", help="column of R_V per row")
+    d.add_argument("--rv-err", type=finite_float, default=0.0, metavar="S", help="uncertainty of R_V")
+    d.add_argument("--rv-err-col", metavar="COL", help="column of the uncertainty of R_V")
+    d.add_argument("--linear", action="store_true",
+                   help="A_b = R_b x E(B-V) (no dependence of A_b/A_V on the amount of dust)")
+    d.add_argument("--extrapolate", action="store_true", help="allow bands beyond the law's range (flagged)")
+    s = p.add_argument_group("source spectrum (blackbody)")
+    s.add_argument("--teff", type=finite_float, default=DEFAULT_TEMPERATURE, metavar="K",
+                   help=f"fixed temperature, and first guess of --solve-colour (default {DEFAULT_TEMPERATURE:g})")
+    s.add_argument("--teff-col", metavar="COL", help="column of temperatures (K)")
+    s.add_argument("--solve-colour", type=_pair, metavar="B1,B2",
+                   help="solve each row's temperature from its dereddened colour B1-B2")
+    s.add_argument("--colour-offset", type=finite_float, default=0.0, metavar="MAG",
+                   help="added to the blackbody AB colour for --solve-colour (catalog system - AB)")
+    f = p.add_argument_group("files")
+    f.add_argument("--in-format", choices=("csv", "ecsv", "fits", "parquet"), help="input format (from name)")
+    f.add_argument("--out-format", choices=("csv", "ecsv", "fits", "parquet"),
+                   help="output format (from OUTPUT's suffix, else INPUT's)")
+    f.add_argument("--delimiter", default=",", metavar="C", help="CSV delimiter (default ,)")
+    f.add_argument("--comment", default="#", metavar="C", help="CSV comment character (default #)")
+    f.add_argument("--hdu", metavar="N", help="FITS extension number or name (default: first table)")
+    f.add_argument("--chunk-rows", type=_positive_int, default=250_000, metavar="N", help="rows per chunk")
+    f.add_argument("--suffix", default="_dered", help="suffix of corrected columns (default _dered)")
+    f.add_argument("--overwrite", action="store_true", help="replace an existing OUTPUT")
+    f.add_argument("--strict", action="store_true", help="fail on text in a number column instead of flagging")
+    f.add_argument("--engine", choices=("stream", "dask"), default="stream",
+                   help="stream (one process, default) or dask (Parquet datasets, CSV globs)")
+    f.add_argument("--scheduler", metavar="ADDRESS", help="distributed scheduler for --engine dask")
+    f.add_argument("--json", action="store_true", help="print the run summary as JSON")
+    f.add_argument("--quiet", action="store_true", help="no progress bar and no summary text")
+    p.set_defaults(func=run)
+
+
+def _options(args):
+    """Correction keyword arguments from the command line."""
+    dust_map = None
+    if args.map:
+        from redcorr.io.maps import open_map  # noqa: PLC0415 - only when a map is asked for
+
+        dust_map = open_map(args.map)
+    if args.teff_col and args.solve_colour:
+        raise InputError("give --teff-col or --solve-colour, not both")
+    spectrum = "column" if args.teff_col else "colour" if args.solve_colour else "fixed"
+    return dict(
+        mag_columns=dict(args.mag), err_columns=dict(args.err), colours=args.colour,
+        ebv_column=args.ebv_col, av_column=args.av_col, ebv=args.ebv, av=args.av, dust_map=dust_map,
+        reddening_error_column=args.red_err_col, reddening_error=args.red_err, map_scale=args.map_scale,
+        lon_column=args.lon_col, lat_column=args.lat_col, frame=args.frame,
+        law=args.law, r_v=args.rv, rv_column=args.rv_col, rv_error=args.rv_err,
+        rv_error_column=args.rv_err_col, nonlinear=not args.linear, extrapolate=args.extrapolate,
+        spectrum=spectrum, temperature=args.teff, temperature_column=args.teff_col,
+        solve_colour=args.solve_colour, colour_offset=args.colour_offset, strict=args.strict,
+        suffix=args.suffix,
+    )
+
+
+class _Progress:
+    """A rich progress bar (rows, rows/s, ETA) shown on a terminal after the first second."""
+
+    def __init__(self, enabled):
+        self.enabled = enabled and sys.stderr.isatty()
+        self._bar = None
+
+    def __enter__(self):
+        if self.enabled:
+            from rich.console import Console  # noqa: PLC0415
+            from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn  # noqa: PLC0415
+
+            self._bar = Progress(
+                TextColumn("correcting"), BarColumn(), TextColumn("{task.fields[rows]:>12,} rows"),
+                TextColumn("{task.fields[rate]:>10,.0f} rows/s"), TimeRemainingColumn(),
+                console=Console(stderr=True), transient=True,
+            )
+            self._bar.start()
+            self._task = self._bar.add_task("correct", total=1000, rows=0, rate=0.0)
+        return self
+
+    def __call__(self, rows, fraction):
+        if self._bar is None:
+            return
+        task = self._bar.tasks[0]
+        elapsed = task.elapsed or 1e-9
+        done = 1000 * fraction if fraction is not None else None
+        self._bar.update(self._task, completed=done, rows=rows, rate=rows / elapsed)
+
+    def __exit__(self, *exc):
+        if self._bar is not None:
+            self._bar.stop()
+
+
+def run(args):
+    from redcorr.io.batch import correct_file, correct_file_dask  # noqa: PLC0415
+
+    options = _options(args)
+
+    def make(columns):
+        return Correction(args.band, columns=columns, **options)
+
+    if args.engine == "dask":
+        summary = correct_file_dask(
+            args.input, args.output, make, in_format=args.in_format, out_format=args.out_format,
+            delimiter=args.delimiter, comment=args.comment, overwrite=args.overwrite,
+            scheduler=args.scheduler,
+        )
+    else:
+        if args.scheduler:
+            raise InputError("--scheduler needs --engine dask")
+        hdu = int(args.hdu) if args.hdu and args.hdu.isdigit() else args.hdu
+        with _Progress(not args.quiet and not args.json) as progress:
+            summary = correct_file(
+                args.input, args.output, make, in_format=args.in_format, out_format=args.out_format,
+                chunk_rows=args.chunk_rows, delimiter=args.delimiter, comment=args.comment, hdu=hdu,
+                overwrite=args.overwrite, progress=progress,
+            )
+    if args.json:
+        print_json(summary.to_dict())
+    elif not args.quiet:
+        print(f"wrote {args.output}")
+        for line in summary.lines():
+            print(line)
+    return 0

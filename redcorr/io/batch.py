@@ -1,0 +1,194 @@
+"""Correct catalog files: stream chunks through a :class:`redcorr.correct.Correction`.
+
+Two engines share one correction:
+
+* :func:`correct_file` streams one file (or Parquet folder) chunk by chunk
+  in this process — memory bounded by the chunk size.
+* :func:`correct_file_dask` hands Parquet datasets or CSV globs to Dask
+  (threads on this machine, or a ``distributed`` scheduler address) and
+  writes a Parquet folder or one CSV file.
+
+Both refuse an existing output unless ``overwrite``, never write over an
+input, write to a temporary file or folder that is renamed only when
+everything succeeded, and write the run summary beside the output as
+``OUTPUT.summary.json``.
+"""
+
+import glob
+from pathlib import Path
+
+from redcorr.correct import correct_dask, summarise_dask, warn_summary
+from redcorr.exceptions import InputError
+from redcorr.io._atomic import atomic_path, check_output_path
+from redcorr.io.catalogs import (
+    DEFAULT_CHUNK_ROWS,
+    CatalogWriter,
+    ColumnTypeError,
+    atomic_folder,
+    detect_format,
+    open_catalog,
+    summary_path,
+    write_summary,
+)
+
+__all__ = ["correct_file", "correct_file_dask"]
+
+
+def _check_targets(output, overwrite, inputs):
+    check_output_path(output, overwrite=overwrite, inputs=inputs)
+    for src in inputs:
+        if Path(src).resolve() == Path(output).resolve():
+            raise InputError(f"output={str(output)!r} is the input; redcorr never writes over its input")
+    side = summary_path(output)
+    if side.exists() and not overwrite:
+        raise InputError(f"summary file {str(side)!r} exists; choose another output name or allow overwriting")
+
+
+def correct_file(input_path, output_path, make_correction, *, in_format=None, out_format=None,
+                 chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=",", comment="#", hdu=None,
+                 overwrite=False, progress=None, summary_file=True):
+    """Correct a catalog file in chunks and write the result atomically.
+
+    Parameters
+    ----------
+    input_path, output_path : path-like
+        Input file (or Parquet folder) and output file. The output format
+        follows ``out_format``, else the output's suffix, else the input's.
+    make_correction : callable
+        ``make_correction(columns) -> Correction``, called once the input's
+        column names are known (so that missing columns are reported before
+        any output exists).
+    in_format, out_format : str, optional
+        One of :data:`redcorr.io.catalogs.FORMATS`.
+    chunk_rows : int
+        Rows per chunk; the result does not depend on it.
+    delimiter, comment, hdu
+        Passed to :func:`redcorr.io.catalogs.open_catalog` (the delimiter is
+        also used for CSV output).
+    overwrite : bool
+        Replace an existing output.
+    progress : callable, optional
+        ``progress(rows_done, fraction_or_None)`` after each chunk.
+    summary_file : bool
+        Write ``OUTPUT.summary.json``.
+
+    Returns
+    -------
+    redcorr.correct.RunSummary
+    """
+    input_path, output_path = Path(input_path), Path(output_path)
+    _check_targets(output_path, overwrite, [input_path])
+    options = dict(fmt=in_format, chunk_rows=chunk_rows, delimiter=delimiter, comment=comment, hdu=hdu)
+    with open_catalog(input_path, **options) as probe:
+        columns, fmt_in = probe.columns, probe.format
+    correction = make_correction(columns)
+    if out_format is None and not output_path.suffix:
+        out_format = fmt_in
+    text_columns = set()
+    while True:
+        correction.summary = type(correction.summary)(correction.setup())
+        try:
+            _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
+                    overwrite, progress)
+            break
+        except ColumnTypeError as exc:  # text in a CSV column read as numbers: read it as text
+            if exc.column in text_columns:
+                raise InputError(f"input column {exc.column!r} could not be read") from None
+            text_columns.add(exc.column)
+    summary = correction.summary.finish()
+    if summary_file:
+        write_summary(summary.to_dict(), output_path)
+    warn_summary(summary)
+    return summary
+
+
+def _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
+            overwrite, progress):
+    numeric = [c for c in correction.numeric_columns() if c not in text_columns]
+    with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, **options) as reader:
+        meta = {"redcorr_correction": correction.setup()}
+        with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
+                           delimiter=delimiter, meta=meta) as writer:
+            for chunk in reader:
+                writer.write(correction.correct(chunk))
+                if progress is not None:
+                    progress(correction.summary.rows, reader.fraction_done())
+
+
+def _dask_input(input_path, in_format, delimiter, comment, numeric):
+    import dask.dataframe as dd  # noqa: PLC0415 - optional dependency, imported when asked
+
+    text = str(input_path)
+    path = Path(text)
+    if path.exists() and (path.is_dir() or detect_format(path, in_format) == "parquet"):
+        if not path.is_dir() and detect_format(path, in_format) != "parquet":
+            raise InputError(f"input {text!r}: the dask engine reads Parquet datasets or CSV files/globs")
+        return dd.read_parquet(text), [text]
+    files = sorted(glob.glob(text))
+    if not files:
+        raise InputError(f"input {text!r} matches no file")
+    if detect_format(files[0], in_format) != "csv":
+        raise InputError(f"input {text!r}: the dask engine reads Parquet datasets or CSV files/globs")
+    ddf = dd.read_csv(files, sep=delimiter, comment=comment or None, float_precision="round_trip",
+                      dtype={c: "float64" for c in numeric}, blocksize="64MB")
+    return ddf, files
+
+
+def correct_file_dask(input_path, output_path, make_correction, *, in_format=None, out_format=None,
+                      delimiter=",", comment="#", overwrite=False, scheduler=None, summary_file=True):
+    """Correct a Parquet dataset or a CSV glob with Dask; write a Parquet folder or one CSV file.
+
+    Parameters
+    ----------
+    input_path : str
+        A Parquet file or folder, or a CSV file name or glob (``"part-*.csv"``).
+    output_path : path-like
+        A folder (Parquet dataset, the default) or a ``.csv`` file.
+    make_correction : callable
+        As for :func:`correct_file`.
+    scheduler : str, optional
+        Address of a ``distributed`` scheduler (``tcp://host:8786``); the
+        local threaded scheduler if omitted.
+    Other parameters as for :func:`correct_file`.
+
+    Returns
+    -------
+    redcorr.correct.RunSummary
+    """
+    output_path = Path(output_path)
+    out_fmt = out_format or ("csv" if output_path.suffix.lower() in (".csv", ".gz") else "parquet")
+    if out_fmt not in ("csv", "parquet"):
+        raise InputError(f"out_format={out_fmt!r}: the dask engine writes 'parquet' (a folder) or 'csv'")
+    existing = [p for p in glob.glob(str(input_path))] if not Path(input_path).exists() else [input_path]
+    _check_targets(output_path, overwrite, existing)
+    client = None
+    if scheduler:
+        from distributed import Client  # noqa: PLC0415
+
+        try:
+            client = Client(scheduler, timeout="10s", set_as_default=False)
+        except OSError as exc:
+            raise InputError(f"scheduler={scheduler!r} could not be reached: {exc}") from None
+    try:
+        columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
+        correction = make_correction(columns)
+        ddf, _ = _dask_input(input_path, in_format, delimiter, comment, correction.numeric_columns())
+        result = correct_dask(ddf, correction)
+        scheduler_kw = {"scheduler": client} if client is not None else {}
+        if out_fmt == "parquet":
+            with atomic_folder(output_path, overwrite=overwrite) as tmp:
+                write = result.to_parquet(str(tmp), write_index=False, compute=False)
+                summary = summarise_dask(result, correction, also=[write], **scheduler_kw)
+        else:
+            with atomic_path(output_path) as tmp:
+                write = result.to_csv(str(tmp), single_file=True, index=False, compute=False)
+                summary = summarise_dask(result, correction, also=write if isinstance(write, list) else [write],
+                                         **scheduler_kw)
+    finally:
+        if client is not None:
+            client.close()
+    summary.finish()
+    if summary_file:
+        write_summary(summary.to_dict(), output_path)
+    warn_summary(summary)
+    return summary

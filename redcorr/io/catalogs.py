@@ -1,0 +1,722 @@
+"""Catalog files in and out, in chunks of bounded size.
+
+This is the only module that knows CSV, ECSV, FITS or Parquet. Readers yield
+pandas DataFrames of at most ``chunk_rows`` rows; writers take such chunks
+and write them to a temporary file beside the target, which is renamed onto
+the target only when everything succeeded (:func:`redcorr.io.atomic_path`).
+An interruption or an error therefore never leaves a partial output.
+
+Formats
+-------
+``csv``
+    Delimited text, optionally gzip-compressed (``.gz``). Read with the
+    streaming reader of pyarrow. Lines starting with the comment character
+    (``#`` by default) are skipped, before the header and between rows.
+``ecsv``
+    Astropy's Enhanced CSV. The YAML header is read by astropy (names,
+    types, units, meta); the body, a plain delimited table, is streamed by
+    pyarrow like a CSV file. Written the same way: header by astropy, body
+    by pyarrow.
+``fits``
+    A FITS binary table (the first one, or ``hdu=``), memory-mapped by
+    astropy and read in row slices. FITS output is assembled in memory
+    before it is written, because a FITS table header needs the final row
+    count and string widths; choose Parquet or CSV output for catalogs
+    larger than memory.
+``parquet``
+    A Parquet file (read row group by row group) or a folder of Parquet
+    files, optionally hive-partitioned (``key=value`` folders), read as one
+    dataset. All files of a dataset must share one schema.
+
+Memory
+------
+Reading and writing CSV, ECSV and Parquet holds one chunk at a time (plus
+pyarrow's read-ahead blocks), so memory does not grow with file size.
+"""
+
+import contextlib
+import gzip
+import io
+import json
+import os
+import re
+import shutil
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from redcorr.exceptions import InputError
+from redcorr.io._atomic import atomic_path, check_output_path
+
+__all__ = [
+    "FORMATS",
+    "atomic_folder",
+    "CatalogReader",
+    "CatalogWriter",
+    "ColumnTypeError",
+    "detect_format",
+    "open_catalog",
+    "read_catalog",
+    "summary_path",
+    "write_catalog",
+    "write_summary",
+]
+
+FORMATS = ("csv", "ecsv", "fits", "parquet")
+"""Catalog formats redcorr reads and writes."""
+
+_SUFFIXES = {
+    ".csv": "csv",
+    ".txt": "csv",
+    ".tsv": "csv",
+    ".dat": "csv",
+    ".ecsv": "ecsv",
+    ".fits": "fits",
+    ".fit": "fits",
+    ".fts": "fits",
+    ".parquet": "parquet",
+    ".pq": "parquet",
+}
+
+DEFAULT_CHUNK_ROWS = 250_000
+"""Rows per chunk unless asked otherwise (a few tens of MB for ten columns)."""
+
+_CSV_BLOCK_BYTES = 8 << 20
+
+
+def _pyarrow():
+    try:
+        import pyarrow  # noqa: PLC0415 - imported when a catalog is opened
+        import pyarrow.csv  # noqa: F401, PLC0415
+        import pyarrow.dataset  # noqa: F401, PLC0415
+        import pyarrow.parquet  # noqa: F401, PLC0415
+    except ImportError:  # pragma: no cover - pyarrow is a declared dependency
+        raise InputError("reading catalogs needs pyarrow; install it with: pip install pyarrow") from None
+    return pyarrow
+
+
+def detect_format(path, fmt=None):
+    """The catalog format of ``path``: ``fmt`` if given, else from the name.
+
+    A folder is a Parquet dataset; ``.gz`` is looked through
+    (``stars.csv.gz`` is CSV).
+
+    Raises
+    ------
+    InputError
+        If ``fmt`` is not one of :data:`FORMATS` or the suffix is unknown.
+    """
+    if fmt is not None:
+        key = str(fmt).lower()
+        if key not in FORMATS:
+            raise InputError(f"format={fmt!r} is not known; choose from {', '.join(FORMATS)}")
+        return key
+    path = Path(path)
+    if path.is_dir():
+        return "parquet"
+    suffixes = [s.lower() for s in path.suffixes]
+    if suffixes and suffixes[-1] == ".gz":
+        suffixes = suffixes[:-1]
+    if suffixes and suffixes[-1] in _SUFFIXES:
+        return _SUFFIXES[suffixes[-1]]
+    raise InputError(
+        f"cannot tell the format of {str(path)!r} from its name; give the format "
+        f"({', '.join(FORMATS)}) or use a suffix such as .csv, .csv.gz, .ecsv, .fits, .parquet"
+    )
+
+
+def _is_gzip(path):
+    with open(path, "rb") as fh:
+        return fh.read(2) == b"\x1f\x8b"
+
+
+class ColumnTypeError(Exception):
+    """A CSV column changed type after the first block (e.g. text in a number column).
+
+    Raised by the CSV reader so that the caller can start again with that
+    column read as text (``text_columns``); not a user error by itself.
+    """
+
+    def __init__(self, column):
+        super().__init__(column)
+        self.column = column
+
+
+def _check_unique(names, path):
+    seen, dup = set(), []
+    for n in names:
+        if n in seen and n not in dup:
+            dup.append(n)
+        seen.add(n)
+    if dup:
+        raise InputError(
+            f"input {str(path)!r} has duplicate column names {dup}; every column needs its own name"
+        )
+
+
+def _int_as_nullable(pa_type):
+    """types_mapper for Arrow → pandas: integers become nullable, so missing values stay integers."""
+    pa = _pyarrow()
+    if pa.types.is_integer(pa_type):
+        return pd.Int64Dtype() if pa.types.is_signed_integer(pa_type) else pd.UInt64Dtype()
+    return None
+
+
+def _rebatch(batches, chunk_rows):
+    """Regroup Arrow record batches into tables of exactly ``chunk_rows`` rows (the last may be shorter)."""
+    pa = _pyarrow()
+    pending, size = [], 0
+    for batch in batches:
+        if batch.num_rows == 0:
+            continue
+        pending.append(batch)
+        size += batch.num_rows
+        while size >= chunk_rows:
+            table = pa.Table.from_batches(pending)
+            yield table.slice(0, chunk_rows)
+            rest = table.slice(chunk_rows)
+            pending = rest.to_batches() if rest.num_rows else []
+            size = rest.num_rows
+    if size:
+        yield pa.Table.from_batches(pending)
+
+
+class CatalogReader:
+    """A catalog file opened for reading in chunks.
+
+    Use :func:`open_catalog` to make one. Iterating yields pandas DataFrames
+    of ``chunk_rows`` rows (the last one shorter; one empty DataFrame with
+    the right columns if the file has a header but no rows).
+
+    Attributes
+    ----------
+    path : pathlib.Path
+    format : str
+    columns : list of str
+        Column names, known before the first chunk is read.
+    n_rows : int or None
+        Number of rows if the format tells it up front (FITS, Parquet).
+    """
+
+    def __init__(self, path, fmt, chunk_rows):
+        self.path = Path(path)
+        self.format = fmt
+        self.chunk_rows = int(chunk_rows)
+        self.columns = []
+        self.n_rows = None
+
+    def fraction_done(self):
+        """Fraction of the input consumed so far, in [0, 1], or None if unknown."""
+        return None
+
+    def _tables(self):
+        raise NotImplementedError
+
+    def __iter__(self):
+        empty = True
+        for table in self._tables():
+            empty = False
+            yield table.to_pandas(types_mapper=_int_as_nullable)
+        if empty:
+            yield pd.DataFrame({name: pd.Series(dtype=float) for name in self.columns})
+
+    def close(self):
+        """Release the file."""
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+
+
+class _CsvReader(CatalogReader):
+    def __init__(self, path, fmt, chunk_rows, *, delimiter, comment, numeric_columns, text_columns,
+                 skip_lines=0, column_names=None, **_):
+        super().__init__(path, fmt, chunk_rows)
+        pa = _pyarrow()
+        self._delimiter = delimiter
+        self._comment = comment
+        self._column_names = column_names
+        self._size = self.path.stat().st_size
+        compressed = _is_gzip(self.path)
+        if skip_lines == 0 and comment:
+            skip_lines = self._leading_comment_lines(compressed)
+        self._skip_lines = skip_lines
+        self._raw = pa.OSFile(str(self.path), "rb")
+        stream = pa.CompressedInputStream(self._raw, "gzip") if compressed else self._raw
+        numeric_columns, text_columns = set(numeric_columns), set(text_columns)
+        types = {c: pa.string() for c in text_columns}
+        types.update({c: pa.float64() for c in numeric_columns - text_columns})
+        read = pa.csv.ReadOptions(
+            block_size=_CSV_BLOCK_BYTES, skip_rows=skip_lines, column_names=column_names
+        )
+        parse = pa.csv.ParseOptions(delimiter=delimiter, invalid_row_handler=self._invalid_row)
+        convert = pa.csv.ConvertOptions(column_types=types, strings_can_be_null=True)
+        try:
+            self._reader = pa.csv.open_csv(stream, read_options=read, parse_options=parse,
+                                           convert_options=convert)
+        except (pa.ArrowInvalid, OSError, EOFError) as exc:
+            self._raw.close()
+            raise self._read_error(exc) from None
+        self.columns = self._column_names = list(self._reader.schema.names)
+        _check_unique(self.columns, self.path)
+
+    def _leading_comment_lines(self, compressed):
+        opener = gzip.open if compressed else open
+        count = 0
+        try:
+            with opener(self.path, "rt", encoding="utf-8", errors="replace") as fh:
+                for line in fh:
+                    if line.startswith(self._comment) or not line.strip():
+                        count += 1
+                    else:
+                        break
+        except (OSError, EOFError) as exc:
+            raise InputError(f"input {str(self.path)!r} could not be read: {exc}") from None
+        return count
+
+    def _invalid_row(self, row):
+        if self._comment and row.text.lstrip().startswith(self._comment):
+            return "skip"
+        return "error"
+
+    def _header_names(self):
+        """Column names from the header line alone (when the first block failed to convert)."""
+        pa = _pyarrow()
+        opener = gzip.open if _is_gzip(self.path) else open
+        with opener(self.path, "rb") as fh:
+            for _ in range(self._skip_lines):
+                fh.readline()
+            line = fh.readline()
+        try:
+            return pa.csv.read_csv(io.BytesIO(line), parse_options=pa.csv.ParseOptions(delimiter=self._delimiter)
+                                   ).schema.names
+        except pa.ArrowInvalid:
+            return []
+
+    def _read_error(self, exc):
+        text = str(exc)
+        match = re.search(r"In CSV column #(\d+): .*conversion error", text)
+        if match:
+            names = self._column_names or self._header_names()
+            index = int(match.group(1))
+            return ColumnTypeError(names[index] if index < len(names) else f"#{index}")
+        if "Empty CSV file" in text:
+            return InputError(f"input {str(self.path)!r} is empty: no header line with column names")
+        match = re.search(r"Expected (\d+) columns, got (\d+): (.*)", text)
+        if match:
+            return InputError(
+                f"input {str(self.path)!r}: a row has {match.group(2)} fields where the header has "
+                f"{match.group(1)} (delimiter {self._delimiter!r}): {match.group(3)[:80]!r}"
+            )
+        return InputError(f"input {str(self.path)!r} could not be read as {self.format.upper()}: {text}")
+
+    def fraction_done(self):
+        try:
+            return min(self._raw.tell() / self._size, 1.0) if self._size else 1.0
+        except (OSError, ValueError):
+            return None
+
+    def _batches(self):
+        pa = _pyarrow()
+        while True:
+            try:
+                batch = self._reader.read_next_batch()
+            except StopIteration:
+                return
+            except (pa.ArrowInvalid, OSError, EOFError) as exc:
+                raise self._read_error(exc) from None
+            yield batch
+
+    def _tables(self):
+        return _rebatch(self._batches(), self.chunk_rows)
+
+    def close(self):
+        self._raw.close()
+
+
+def _ecsv_header(path, compressed):
+    """Read an ECSV header with astropy: (empty Table, delimiter, number of header lines)."""
+    from astropy.io.misc import yaml  # noqa: PLC0415
+    from astropy.table import Table  # noqa: PLC0415
+
+    opener = gzip.open if compressed else open
+    lines = []
+    with opener(path, "rt", encoding="utf-8") as fh:
+        for line in fh:
+            lines.append(line)
+            if not line.startswith("#") and line.strip():
+                break  # the column-name line ends the header
+    if not lines or not lines[0].startswith("# %ECSV"):
+        raise InputError(f"input {str(path)!r} is not ECSV: it does not start with '# %ECSV'")
+    try:
+        empty = Table.read("".join(lines), format="ascii.ecsv")
+        body = "\n".join(ln[2:] if ln.startswith("# ") else ln[1:] for ln in lines[2:-1])
+        header = yaml.load(body) or {}
+    except Exception as exc:  # astropy raises many types for malformed headers
+        raise InputError(f"input {str(path)!r}: the ECSV header could not be read: {exc}") from None
+    return empty, header.get("delimiter", " "), len(lines)
+
+
+class _EcsvReader(_CsvReader):
+    def __init__(self, path, fmt, chunk_rows, *, numeric_columns, text_columns, **_):
+        compressed = _is_gzip(path)
+        empty, delimiter, n_lines = _ecsv_header(path, compressed)
+        self.meta = dict(empty.meta)
+        text = set(text_columns) | {c for c in empty.colnames if empty[c].dtype.kind in "US"}
+        super().__init__(path, fmt, chunk_rows, delimiter=delimiter, comment=None,
+                         numeric_columns=numeric_columns, text_columns=text,
+                         skip_lines=n_lines, column_names=list(empty.colnames))
+
+
+class _FitsReader(CatalogReader):
+    def __init__(self, path, fmt, chunk_rows, *, hdu=None, **_):
+        from astropy.io import fits  # noqa: PLC0415
+
+        super().__init__(path, fmt, chunk_rows)
+        try:
+            self._hdul = fits.open(self.path, memmap=True)
+        except (OSError, ValueError) as exc:
+            raise InputError(f"input {str(path)!r} could not be opened as FITS: {exc}") from None
+        tables = [h for h in self._hdul if isinstance(h, fits.BinTableHDU)]
+        if hdu is not None:
+            try:
+                self._hdu = self._hdul[hdu]
+            except (KeyError, IndexError):
+                self._hdul.close()
+                raise InputError(f"hdu={hdu!r} is not in {str(path)!r}") from None
+        elif tables:
+            self._hdu = tables[0]
+        else:
+            self._hdul.close()
+            raise InputError(f"input {str(path)!r} has no FITS binary table")
+        self.columns = list(self._hdu.columns.names)
+        _check_unique([c.lower() for c in self.columns], self.path)
+        multi = [c.name for c in self._hdu.columns if c.dim or (c.format.repeat > 1 and "A" not in c.format)]
+        if multi:
+            raise InputError(
+                f"input {str(path)!r} has vector columns {multi}; only scalar columns are supported"
+            )
+        self.n_rows = int(self._hdu.header.get("NAXIS2", 0))
+        self._done = 0
+
+    def fraction_done(self):
+        return self._done / self.n_rows if self.n_rows else 1.0
+
+    def __iter__(self):
+        data = self._hdu.data
+        if not self.n_rows:
+            yield pd.DataFrame({name: pd.Series(dtype=float) for name in self.columns})
+            return
+        for start in range(0, self.n_rows, self.chunk_rows):
+            rows = data[start : start + self.chunk_rows]
+            out = {}
+            for name in self.columns:
+                col = np.asarray(rows[name])
+                if col.dtype.kind == "S":
+                    out[name] = np.char.decode(np.char.rstrip(col), "ascii")
+                    out[name] = out[name].astype(object)
+                elif col.dtype.kind in "iu":
+                    out[name] = pd.array(col.astype(col.dtype.newbyteorder("=")), dtype="Int64")
+                else:
+                    out[name] = col.astype(col.dtype.newbyteorder("="))
+            self._done = min(start + self.chunk_rows, self.n_rows)
+            yield pd.DataFrame(out)
+
+    def close(self):
+        self._hdul.close()
+
+
+class _ParquetReader(CatalogReader):
+    def __init__(self, path, fmt, chunk_rows, **_):
+        pa = _pyarrow()
+        super().__init__(path, fmt, chunk_rows)
+        try:
+            if self.path.is_dir():
+                self._dataset = pa.dataset.dataset(str(self.path), format="parquet", partitioning="hive")
+                self._check_schemas()
+            else:
+                self._dataset = pa.dataset.dataset(str(self.path), format="parquet")
+            self.n_rows = self._dataset.count_rows()
+        except (pa.ArrowInvalid, OSError) as exc:
+            raise InputError(f"input {str(path)!r} could not be read as Parquet: {exc}") from None
+        self.columns = list(self._dataset.schema.names)
+        _check_unique(self.columns, self.path)
+        self._done = 0
+
+    def _check_schemas(self):
+        fragments = list(self._dataset.get_fragments())
+        if not fragments:
+            raise InputError(f"input {str(self.path)!r} is a folder without Parquet files")
+        first = fragments[0].physical_schema
+        for frag in fragments[1:]:
+            schema = frag.physical_schema
+            if not schema.equals(first):
+                missing = sorted(set(first.names) - set(schema.names))
+                extra = sorted(set(schema.names) - set(first.names))
+                detail = f"missing {missing}, extra {extra}" if missing or extra else "different column types"
+                raise InputError(
+                    f"input {str(self.path)!r}: file {frag.path!r} has a different schema from "
+                    f"{fragments[0].path!r} ({detail}); every file of a dataset must share one schema"
+                )
+
+    def fraction_done(self):
+        return self._done / self.n_rows if self.n_rows else 1.0
+
+    def _tables(self):
+        for table in _rebatch(self._dataset.to_batches(batch_size=self.chunk_rows), self.chunk_rows):
+            self._done += table.num_rows
+            yield table
+
+
+def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=",", comment="#",
+                 numeric_columns=(), text_columns=(), hdu=None):
+    """Open a catalog for reading in chunks.
+
+    Parameters
+    ----------
+    path : path-like
+        A file, or a folder of Parquet files.
+    fmt : str, optional
+        One of :data:`FORMATS`; guessed from the name if omitted.
+    chunk_rows : int
+        Rows per chunk.
+    delimiter : str
+        CSV field delimiter (ECSV takes its own from the header).
+    comment : str or None
+        CSV lines starting with this are skipped.
+    numeric_columns : iterable of str
+        CSV/ECSV columns to read as float64 whatever the first block looks like.
+    text_columns : iterable of str
+        CSV/ECSV columns to read as text (see :class:`ColumnTypeError`).
+    hdu : int or str, optional
+        FITS extension holding the table (default: the first binary table).
+
+    Returns
+    -------
+    CatalogReader
+    """
+    path = Path(path)
+    if not path.exists():
+        raise InputError(f"input {str(path)!r} does not exist")
+    fmt = detect_format(path, fmt)
+    if chunk_rows is None or int(chunk_rows) < 1:
+        raise InputError(f"chunk_rows={chunk_rows!r} must be a whole number >= 1")
+    if fmt != "parquet" and path.is_dir():
+        raise InputError(f"input {str(path)!r} is a folder; only Parquet datasets can be folders")
+    if fmt == "csv" and path.stat().st_size == 0:
+        raise InputError(f"input {str(path)!r} is empty: no header line with column names")
+    if fmt == "csv" and len(delimiter) != 1:
+        raise InputError(f"delimiter={delimiter!r} must be one character")
+    kinds = {"csv": _CsvReader, "ecsv": _EcsvReader, "fits": _FitsReader, "parquet": _ParquetReader}
+    return kinds[fmt](
+        path, fmt, chunk_rows, delimiter=delimiter, comment=comment or None,
+        numeric_columns=numeric_columns, text_columns=text_columns, hdu=hdu,
+    )
+
+
+def read_catalog(path, **options):
+    """Read a whole catalog into one DataFrame (options as for :func:`open_catalog`)."""
+    with open_catalog(path, **options) as reader:
+        return pd.concat(list(reader), ignore_index=True)
+
+
+def _is_text(series):
+    return series.dtype == object or pd.api.types.is_string_dtype(series.dtype)
+
+
+def _arrow_schema(frame):
+    pa = _pyarrow()
+    schema = pa.Schema.from_pandas(frame, preserve_index=False)
+    fields = []
+    for field in schema:
+        if pa.types.is_null(field.type) or _is_text(frame[field.name]):
+            field = field.with_type(pa.string())
+        fields.append(field)
+    return pa.schema(fields)
+
+
+class CatalogWriter:
+    """Write DataFrame chunks to a catalog file, atomically.
+
+    Used as a context manager: the target appears only when the block ends
+    without an exception; otherwise the temporary file is removed and the
+    target (if any) is untouched.
+
+    Parameters
+    ----------
+    path : path-like
+        Output file.
+    fmt : str, optional
+        One of :data:`FORMATS`; from the suffix if omitted (a ``.gz`` CSV is
+        gzip-compressed).
+    overwrite : bool
+        Replace an existing output; refused otherwise.
+    inputs : iterable of path-like
+        Input files; the output may never be one of them.
+    delimiter : str
+        CSV delimiter.
+    meta : dict, optional
+        Stored in the ECSV header, the FITS header (as COMMENT cards) or the
+        Parquet schema metadata, as JSON.
+    """
+
+    def __init__(self, path, *, fmt=None, overwrite=False, inputs=(), delimiter=",", meta=None):
+        self.path = Path(path)
+        self.format = detect_format(self.path, fmt) if fmt or self.path.suffix else "parquet"
+        self._overwrite = overwrite
+        self._inputs = list(inputs)
+        self._delimiter = delimiter
+        self._meta = dict(meta or {})
+        self._schema = None
+        self._sink = None
+        self._writer = None
+        self._fits_tables = []
+        self._atomic = None
+        self.rows = 0
+
+    def __enter__(self):
+        for src in self._inputs:
+            if Path(src).resolve() == self.path.resolve():
+                raise InputError(
+                    f"output={str(self.path)!r} is the input file; redcorr never writes over its input"
+                )
+        check_output_path(self.path, overwrite=self._overwrite, inputs=self._inputs)
+        if self.path.is_dir():
+            raise InputError(f"output={str(self.path)!r} is a folder; give a file name")
+        self._atomic = atomic_path(self.path)
+        self._tmp = self._atomic.__enter__()
+        return self
+
+    def _open(self, frame):
+        pa = _pyarrow()
+        self._schema = _arrow_schema(frame)
+        if self.format == "parquet":
+            schema = self._schema.with_metadata({"redcorr": json.dumps(self._meta, default=str)})
+            self._schema = schema
+            self._writer = pa.parquet.ParquetWriter(str(self._tmp), schema)
+        elif self.format in ("csv", "ecsv"):
+            self._sink = pa.OSFile(str(self._tmp), "wb")
+            if self.path.suffix.lower() == ".gz":
+                self._sink = pa.CompressedOutputStream(self._sink, "gzip")
+            header = self.format == "csv"
+            if self.format == "ecsv":
+                self._sink.write(self._ecsv_header(frame).encode("utf-8"))
+            options = pa.csv.WriteOptions(include_header=header,
+                                          delimiter=self._delimiter if self.format == "csv" else ",")
+            self._writer = pa.csv.CSVWriter(self._sink, self._schema, write_options=options)
+
+    def _ecsv_header(self, frame):
+        from astropy.table import Table  # noqa: PLC0415
+
+        empty = Table.from_pandas(frame.iloc[:0])
+        for name in empty.colnames:
+            if _is_text(frame[name]):
+                empty[name] = empty[name].astype(str)
+        empty.meta.update(self._meta)
+        buf = io.StringIO()
+        empty.write(buf, format="ascii.ecsv", delimiter=",")
+        return buf.getvalue()  # header lines and the column-name line
+
+    def write(self, frame):
+        """Append one chunk (a DataFrame with the same columns as the first)."""
+        pa = _pyarrow()
+        if self._schema is None:
+            self._open(frame)
+        if self.format == "fits":
+            self._fits_tables.append(pa.Table.from_pandas(frame, schema=self._schema, preserve_index=False))
+        elif len(frame):
+            table = pa.Table.from_pandas(frame, schema=self._schema, preserve_index=False)
+            self._writer.write_table(table)
+        self.rows += len(frame)
+
+    def _write_fits(self):
+        from astropy.io import fits  # noqa: PLC0415
+        from astropy.table import Table  # noqa: PLC0415
+
+        pa = _pyarrow()
+        frame = pa.concat_tables(self._fits_tables).to_pandas(types_mapper=_int_as_nullable)
+        table = Table.from_pandas(frame)
+        hdu = fits.table_to_hdu(table)
+        for key, value in self._meta.items():
+            hdu.header.add_comment(f"redcorr {key}: {json.dumps(value, default=str)}"[:2000])
+        fits.HDUList([fits.PrimaryHDU(), hdu]).writeto(self._tmp, overwrite=True)
+
+    def __exit__(self, exc_type, exc, tb):
+        try:
+            if self._writer is not None:
+                self._writer.close()
+            if self._sink is not None:
+                self._sink.close()
+            if exc_type is None and self.format == "fits" and self._fits_tables:
+                self._write_fits()
+        except BaseException as err:
+            self._atomic.__exit__(type(err), err, err.__traceback__)
+            raise
+        if exc_type is None and self._schema is None:
+            exc_type = exc = InputError("nothing was written")
+        return self._atomic.__exit__(exc_type, exc, tb)
+
+
+def write_catalog(frame, path, **options):
+    """Write one DataFrame to a catalog file (options as for :class:`CatalogWriter`)."""
+    with CatalogWriter(path, **options) as writer:
+        writer.write(frame)
+    return Path(path)
+
+
+def summary_path(output):
+    """Where the JSON summary of a run writing ``output`` goes: ``OUTPUT.summary.json``."""
+    output = Path(output)
+    return output.with_name(output.name + ".summary.json")
+
+
+def write_summary(summary, output):
+    """Write a run summary (a JSON-ready dict) beside ``output``, atomically; return its path."""
+    target = summary_path(output)
+    with atomic_path(target) as tmp:
+        Path(tmp).write_text(json.dumps(_json_clean(summary), indent=2, allow_nan=False) + "\n")
+    return target
+
+
+def _json_clean(value):
+    if isinstance(value, float) and not np.isfinite(value):
+        return None
+    if isinstance(value, dict):
+        return {str(k): _json_clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_json_clean(v) for v in value]
+    if isinstance(value, np.generic):
+        return _json_clean(value.item())
+    return value
+
+
+@contextlib.contextmanager
+def atomic_folder(path, *, overwrite=False):
+    """Yield a temporary folder beside ``path``; move it onto ``path`` on success.
+
+    Used for Parquet datasets written by several workers. An existing
+    ``path`` is refused unless ``overwrite``; then it is replaced only after
+    the new folder is complete.
+    """
+    target = Path(path)
+    if target.exists() and not overwrite:
+        raise InputError(f"output={str(path)!r} exists; choose another name or allow overwriting")
+    if not target.parent.exists():
+        raise InputError(f"output={str(path)!r}: folder {str(target.parent)!r} does not exist")
+    tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent))
+    try:
+        yield tmp
+        if target.exists():
+            old = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".old", dir=target.parent))
+            os.replace(target, old / target.name)
+            os.replace(tmp, target)
+            shutil.rmtree(old, ignore_errors=True)
+        else:
+            os.replace(tmp, target)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise

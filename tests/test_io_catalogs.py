@@ -1,0 +1,202 @@
+"""Tests of redcorr.io.catalogs and redcorr.io.batch: chunked files in and out, bad input."""
+
+import gzip
+import json
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.parquet as pq
+import pytest
+from catalog_helpers import KW, intrinsic
+
+from redcorr.correct import Correction
+from redcorr.exceptions import InputError
+from redcorr.io.batch import correct_file
+from redcorr.io.catalogs import open_catalog, read_catalog, write_catalog
+
+
+def _make(columns, **options):
+    return Correction(KW, columns=columns, **options)
+
+
+@pytest.mark.parametrize("suffix", ["csv", "csv.gz", "ecsv", "fits", "parquet"])
+def test_write_read_round_trip_in_chunks(tmp_path, suffix):
+    frame = intrinsic(25)
+    frame["name"] = [f"star {i}" for i in range(25)]
+    path = write_catalog(frame, tmp_path / f"t.{suffix}")
+    with open_catalog(path, chunk_rows=7) as reader:
+        assert reader.columns == list(frame.columns)
+        chunks = list(reader)
+    assert [len(c) for c in chunks] == [7, 7, 7, 4]
+    back = pd.concat(chunks, ignore_index=True)
+    for col in frame.columns:
+        assert back[col].tolist() == frame[col].tolist(), col
+
+
+def test_csv_delimiter_and_comment_lines(tmp_path):
+    path = tmp_path / "c.txt"
+    path.write_text("# made up\n# more\nid;kw_v;ebv\n1;15.0;0.1\n# a note between rows\n2;16.5;0.2\n")
+    frame = read_catalog(path, delimiter=";")
+    assert frame["kw_v"].tolist() == [15.0, 16.5]
+
+
+def _csv(tmp_path, n=40, name="in.csv"):
+    path = tmp_path / name
+    write_catalog(intrinsic(n), path)
+    return path
+
+
+def test_correct_file_streams_and_writes_summary(tmp_path):
+    src = _csv(tmp_path)
+    out = tmp_path / "out.parquet"
+    summary = correct_file(src, out, _make, chunk_rows=9)
+    table = pq.read_table(out)
+    assert table.num_rows == 40 and "kw_v_dered" in table.column_names
+    side = json.loads((tmp_path / "out.parquet.summary.json").read_text())
+    assert side["rows"] == 40 == summary.rows and "rows_per_second" in side
+    assert json.loads(table.schema.metadata[b"redcorr"])["redcorr_correction"]["law"] == "f99"
+
+
+def test_csv_parquet_fits_inputs_give_identical_results(tmp_path):
+    frame = intrinsic(30, seed=2)
+    results = []
+    for suffix in ("csv", "parquet", "fits", "ecsv"):
+        src = write_catalog(frame, tmp_path / f"in.{suffix}")
+        out = tmp_path / f"out_{suffix}.parquet"
+        correct_file(src, out, lambda c: _make(c, colours=[("kw-b", "kw-v")]), chunk_rows=11)
+        results.append(pd.read_parquet(out))
+    for other in results[1:]:
+        pd.testing.assert_frame_equal(other, results[0], check_dtype=False, check_exact=True)
+
+
+def test_refuses_existing_output_and_never_writes_over_input(tmp_path):
+    src = _csv(tmp_path)
+    before = src.read_bytes()
+    out = tmp_path / "out.csv"
+    out.write_text("keep me")
+    with pytest.raises(InputError, match="exists"):
+        correct_file(src, out, _make)
+    assert out.read_text() == "keep me"
+    with pytest.raises(InputError, match="input"):
+        correct_file(src, src, _make, overwrite=True)
+    assert src.read_bytes() == before
+    correct_file(src, out, _make, overwrite=True)
+    assert "kw_v_dered" in out.read_text().splitlines()[0]
+
+
+class _Boom(Exception):
+    pass
+
+
+@pytest.mark.parametrize("error", [_Boom, KeyboardInterrupt])
+def test_error_or_interrupt_leaves_no_partial_output(tmp_path, error):
+    src = _csv(tmp_path, n=50)
+    out = tmp_path / "out.csv"
+    calls = []
+
+    def progress(rows, fraction):
+        calls.append(rows)
+        if len(calls) == 2:
+            raise error()
+
+    with pytest.raises(error):
+        correct_file(src, out, _make, chunk_rows=10, progress=progress)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["in.csv"]
+
+
+def test_missing_column_message_and_no_output(tmp_path):
+    src = tmp_path / "in.csv"
+    src.write_text("id,vmag_x,ebv\n1,15,0.1\n")
+    with pytest.raises(InputError, match=r"\['id', 'vmag_x', 'ebv'\]"):
+        correct_file(src, tmp_path / "out.csv", lambda c: Correction(["kw-v"], columns=c))
+    assert not (tmp_path / "out.csv").exists()
+
+
+def test_text_in_number_column_is_flagged_and_counted(tmp_path):
+    # The magnitude columns are read as numbers, so the text forces a re-read as text.
+    frame = intrinsic(20)
+    src = tmp_path / "in.csv"
+    write_catalog(frame, src)
+    lines = src.read_text().splitlines()
+    head = [h.strip('"') for h in lines[0].split(",")]
+    cells = lines[15].split(",")
+    cells[head.index("kw_v")] = "n/a?"
+    lines[15] = ",".join(cells)
+    src.write_text("\n".join(lines) + "\n")
+    out = tmp_path / "out.csv"
+    summary = correct_file(src, out, _make, chunk_rows=4)
+    assert summary.flagged["non_numeric"] == 1
+    result = pd.read_csv(out)
+    assert np.isnan(result["kw_v_dered"].iloc[14]) and result["dered_flags"].iloc[14] & 1
+    with pytest.raises(InputError, match="strict"):
+        correct_file(src, tmp_path / "strict.csv", lambda c: _make(c, strict=True))
+    assert not (tmp_path / "strict.csv").exists()
+
+
+def test_empty_file(tmp_path):
+    src = tmp_path / "empty.csv"
+    src.write_text("")
+    with pytest.raises(InputError, match="empty"):
+        correct_file(src, tmp_path / "out.csv", _make)
+
+
+def test_header_only_gives_empty_output_with_the_right_columns(tmp_path):
+    src = tmp_path / "head.csv"
+    src.write_text(",".join(intrinsic(1).columns) + "\n")
+    out = tmp_path / "out.csv"
+    summary = correct_file(src, out, _make)
+    header = out.read_text().splitlines()
+    assert len(header) == 1 and "kw_b_dered" in header[0] and "dered_flags" in header[0]
+    assert summary.rows == 0
+
+
+def test_duplicate_column_names(tmp_path):
+    src = tmp_path / "dup.csv"
+    src.write_text("kw_v,kw_v,ebv\n1,2,0.1\n")
+    with pytest.raises(InputError, match="duplicate column names \\['kw_v'\\]"):
+        correct_file(src, tmp_path / "out.csv", _make)
+
+
+def test_inconsistent_row_lengths(tmp_path):
+    src = tmp_path / "ragged.csv"
+    src.write_text("kw_v,ebv\n15,0.1\n16,0.2,9\n")
+    with pytest.raises(InputError, match="3 fields where the header has 2"):
+        correct_file(src, tmp_path / "out.csv", lambda c: Correction(["kw-v"], columns=c))
+    assert not (tmp_path / "out.csv").exists()
+
+
+def test_truncated_gzip(tmp_path):
+    full = _csv(tmp_path, n=2000, name="full.csv")
+    data = gzip.compress(full.read_bytes())
+    src = tmp_path / "cut.csv.gz"
+    src.write_bytes(data[: len(data) // 2])
+    with pytest.raises(InputError, match="cut.csv.gz"):
+        correct_file(src, tmp_path / "out.csv", _make, chunk_rows=100)
+    assert not (tmp_path / "out.csv").exists()
+
+
+def test_parquet_dataset_and_one_partition_with_another_schema(tmp_path):
+    frame = intrinsic(30)
+    root = tmp_path / "ds"
+    for key, part in frame.groupby(frame["id"] % 3):
+        folder = root / f"part={key}"
+        folder.mkdir(parents=True)
+        pq.write_table(pa.Table.from_pandas(part.drop(columns="id"), preserve_index=False),
+                       folder / "a.parquet")
+    out = tmp_path / "out.parquet"
+    summary = correct_file(root, out, _make, chunk_rows=8)
+    assert summary.rows == 30
+    bad = root / "part=9"
+    bad.mkdir()
+    pq.write_table(pa.table({"kw_v": [1.0], "other": [2.0]}), bad / "b.parquet")
+    with pytest.raises(InputError, match="different schema"):
+        correct_file(root, tmp_path / "out2.parquet", _make)
+    assert not (tmp_path / "out2.parquet").exists()
+
+
+def test_unknown_format_and_missing_input(tmp_path):
+    with pytest.raises(InputError, match="format"):
+        open_catalog(_csv(tmp_path), fmt="xlsx")
+    with pytest.raises(InputError, match="does not exist"):
+        open_catalog(tmp_path / "nope.csv")
