@@ -5,7 +5,7 @@ from astropy import units as u
 
 from redcorr.io._atomic import atomic_path
 
-__all__ = ["plot_curve", "plot_band_coefficients"]
+__all__ = ["plot_curve", "plot_band_coefficients", "plot_snr_vs_time", "plot_time_vs_av"]
 
 
 def _figure():
@@ -92,6 +92,70 @@ def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate
     right.set_ylabel(r"$A_b/A_V$")
     right.set_title(f"source: {sed.name}", fontsize=9)
     right.legend(frameon=False, fontsize=8, loc="best")
+    with atomic_path(path, suffix=".png") as tmp:
+        fig.savefig(tmp, format="png", dpi=110)
+    plt.close(fig)
+
+
+def plot_snr_vs_time(t, snr_by_band, path, *, title="", target=None):
+    """Draw S/N against exposure time, without (dashed) and with (solid) the dust.
+
+    Parameters
+    ----------
+    t : array_like
+        Exposure times, s.
+    snr_by_band : dict
+        Band name → ``(snr_clear, snr_dust)``, as from
+        :func:`redcorr.exposure.snr_vs_time`.
+    path : path-like
+        PNG file to write (atomically).
+    title : str
+    target : float, optional
+        S/N to mark with a horizontal line.
+    """
+    plt = _figure()
+    t = np.asarray(t, dtype=float)
+    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    for name, (clear, dust) in snr_by_band.items():
+        (line,) = ax.loglog(t, dust, lw=1.6, label=f"{name} behind the dust")
+        ax.loglog(t, clear, lw=1.0, ls="--", color=line.get_color(), label=f"{name} without dust")
+    if target is not None:
+        ax.axhline(target, color="0.5", lw=0.8, ls=":")
+    ax.set_xlabel("exposure time [s]")
+    ax.set_ylabel("S/N")
+    ax.set_title(title, fontsize=8)
+    ax.legend(frameon=False, fontsize=7)
+    with atomic_path(path, suffix=".png") as tmp:
+        fig.savefig(tmp, format="png", dpi=110)
+    plt.close(fig)
+
+
+def plot_time_vs_av(a_v, times_by_band, path, *, title="", mark=None):
+    """Draw the exposure time needed against A_V, one line per band.
+
+    Parameters
+    ----------
+    a_v : array_like
+        A_V grid, mag.
+    times_by_band : dict
+        Band name → times in s on the grid, as from
+        :func:`redcorr.exposure.time_vs_av`.
+    path : path-like
+        PNG file to write (atomically).
+    title : str
+    mark : float, optional
+        A_V to mark with a vertical line.
+    """
+    plt = _figure()
+    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    if mark is not None:
+        ax.axvline(mark, color="0.5", lw=0.8, ls=":")
+    for name, times in times_by_band.items():
+        ax.semilogy(a_v, times, lw=1.6, label=name)
+    ax.set_xlabel(r"$A_V$ [mag]")
+    ax.set_ylabel("exposure time needed [s]")
+    ax.set_title(title, fontsize=8)
+    ax.legend(frameon=False)
     with atomic_path(path, suffix=".png") as tmp:
         fig.savefig(tmp, format="png", dpi=110)
     plt.close(fig)

@@ -5,6 +5,7 @@ from redcorr.io.curves import load_curve, read_curve_table
 from redcorr.io.filters import list_bands, load_band
 from redcorr.io.grains import read_grain_model, read_optical_constants, read_size_table
 from redcorr.io.grids import read_coefficient_grid, write_coefficient_grid
+from redcorr.io.instrument import load_instrument
 from redcorr.io.maps import open_map
 from redcorr.io.spectra import load_sed
 
@@ -19,3 +20,4 @@ __all__ = [
 ]
 __all__ += ["load_band", "list_bands", "load_sed", "read_coefficient_grid", "write_coefficient_grid"]
 __all__ += ["open_map"]
+__all__ += ["load_instrument"]

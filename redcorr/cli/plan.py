@@ -1,0 +1,145 @@
+"""``redcorr plan``: exposure times behind dust, band by band."""
+
+import sys
+
+import numpy as np
+
+from redcorr.cli._common import finite_float, print_json, print_table
+from redcorr.exceptions import InputError
+from redcorr.exposure import plan_exposure, snr_vs_time, time_vs_av
+from redcorr.io import check_output_path, load_curve
+from redcorr.io.filters import load_band
+from redcorr.io.instrument import load_instrument
+from redcorr.io.spectra import load_sed
+
+__all__ = ["add_parser", "run", "CAUTION"]
+
+CAUTION = (
+    "Caution: these are estimates; confirm with the observatory's own tools before committing telescope time."
+)
+
+JSON_KEYS = ("band", "A_band", "t_clear_s", "t_dust_s", "time_factor", "snr", "limiting_mag")
+
+
+def add_parser(sub):
+    p = sub.add_parser(
+        "plan",
+        help="exposure time, S/N and depth for a reddened point source, per band",
+        description=(
+            "Plan exposures of a point source behind dust with an instrument description (TOML, or 'demo'). "
+            "The dust's band extinction is computed for the source spectrum through each band's system "
+            "throughput; the S/N follows the CCD equation (Howell 2006, Handbook of CCD Astronomy, §4.4). "
+            "--mag is the source's dust-free AB magnitude. " + CAUTION
+        ),
+    )
+    p.add_argument("--instrument", required=True, metavar="FILE|demo", help="instrument description (TOML) or 'demo'")
+    p.add_argument("--band", action="append", metavar="NAME",
+                   help="band of the instrument (repeat for several; default: all of them)")
+    p.add_argument("--mag", type=finite_float, required=True, metavar="M", help="dust-free AB magnitude of the source")
+    p.add_argument("--mag-band", metavar="BAND",
+                   help="band --mag is measured in (an instrument band or any band spec); "
+                        "default: --mag holds in every planned band")
+    p.add_argument("--sed", default="flat", metavar="SPEC",
+                   help="source spectrum: blackbody:T, powerlaw:ALPHA, flat (default) or file:PATH")
+    dust = p.add_mutually_exclusive_group(required=True)
+    dust.add_argument("--av", type=finite_float, metavar="A", help="A_V of the dust, mag")
+    dust.add_argument("--ebv", type=finite_float, metavar="E", help="E(B-V) of the dust, mag (A_V = R_V E(B-V))")
+    model = p.add_mutually_exclusive_group()
+    model.add_argument("--law", metavar="LAW", help="extinction law (see `redcorr curve --list`; default f99)")
+    model.add_argument("--grain", metavar="MODEL", help="grain model instead of a law")
+    p.add_argument("--rv", type=finite_float, metavar="R", help="R_V of the law (law default if omitted)")
+    goal = p.add_mutually_exclusive_group(required=True)
+    goal.add_argument("--snr", type=finite_float, metavar="S", help="target signal-to-noise ratio")
+    goal.add_argument("--time", type=finite_float, metavar="T", help="exposure time, s")
+    p.add_argument("--limit-snr", type=finite_float, default=5.0, metavar="S",
+                   help="S/N that defines limiting_mag (default 5)")
+    p.add_argument("--av-grid", nargs="+", type=finite_float, metavar="A",
+                   help="also tabulate the time needed (at --snr, else --limit-snr) at these A_V values")
+    p.add_argument("--extrapolate", action="store_true", help="let the law extrapolate outside its range, with a warning")
+    p.add_argument("--json", action="store_true",
+                   help="print one JSON object per band: " + ", ".join(JSON_KEYS))
+    p.add_argument("--plot", metavar="FILE.png", help="draw S/N against time, with and without the dust")
+    p.add_argument("--av-plot", metavar="FILE.png", help="draw the time needed against A_V, per band")
+    p.set_defaults(func=run)
+
+
+def _curve(args):
+    if args.grain:
+        if args.rv is not None:
+            raise InputError(f"--rv={args.rv:g} applies to a law; a grain model fixes its own R_V")
+        return load_curve(args.grain)
+    return load_curve(args.law or "f99", r_v=args.rv)
+
+
+def _mag_band(args, instrument):
+    if args.mag_band is None:
+        return None
+    if args.mag_band in instrument.channels:
+        return instrument.channels[args.mag_band].band
+    return load_band(args.mag_band)
+
+
+def run(args):
+    for path in (args.plot, args.av_plot):
+        if path:
+            check_output_path(path)
+    instrument = load_instrument(args.instrument)
+    curve = _curve(args)
+    sed = load_sed(args.sed)
+    if args.av is not None:
+        a_v = args.av
+    else:
+        if args.ebv < 0:
+            raise InputError(f"--ebv={args.ebv:g} is not allowed; E(B-V) must be >= 0")
+        a_v = args.ebv * curve.r_v
+    bands = args.band or instrument.band_names
+    mag_band = _mag_band(args, instrument)
+    common = dict(curve=curve, sed=sed, mag_band=mag_band, extrapolate=args.extrapolate)
+    plans = plan_exposure(instrument, bands, args.mag, a_v=a_v, snr=args.snr, time=args.time,
+                          limit_snr=args.limit_snr, **common)
+
+    where = f" in {args.mag_band}" if args.mag_band else ""
+    grid_snr = args.snr if args.snr is not None else args.limit_snr
+    table = None
+    if args.av_grid or args.av_plot:
+        grid = np.asarray(args.av_grid) if args.av_grid else np.linspace(0.0, max(2.0 * a_v, 2.0), 41)
+        table = time_vs_av(instrument, [p.band for p in plans], args.mag, a_v=grid, snr=grid_snr, **common)
+
+    if args.plot:
+        from redcorr.plotting import plot_snr_vs_time  # noqa: PLC0415 - matplotlib only when asked
+
+        t_hi = max(p.t_dust_s for p in plans if np.isfinite(p.t_dust_s)) * 4.0
+        t = np.geomspace(max(t_hi, 1.0) * 1e-4, max(t_hi, 1.0), 200)
+        plot_snr_vs_time(t, snr_vs_time(instrument, plans, t), args.plot, target=args.snr,
+                         title=f"{instrument.name}: AB {args.mag:g}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})")
+    if args.av_plot:
+        from redcorr.plotting import plot_time_vs_av  # noqa: PLC0415
+
+        plot_time_vs_av(table[0], table[1], args.av_plot, mark=a_v,
+                        title=f"{instrument.name}: AB {args.mag:g}{where} to S/N {grid_snr:g} "
+                              f"({curve.name}, R_V {curve.r_v:g})")
+
+    if args.json:
+        print_json([p.as_dict(JSON_KEYS) for p in plans])
+        print(CAUTION, file=sys.stderr)
+        return 0
+
+    print(f"# {instrument.name}; source AB {args.mag:g}{where or ' in each band'} (dust-free), SED {sed.name}")
+    print(f"# dust: A_V = {a_v:g} mag, {curve.name} R_V = {curve.r_v:g}; {curve.citation}")
+    goal = f"S/N {args.snr:g}" if args.snr is not None else f"{args.time:g} s exposures"
+    print(f"# goal: {goal}; limiting_mag = apparent AB mag at S/N {args.limit_snr:g} in t_dust_s")
+    rows = [
+        p.as_dict(("band", "mag", "A_band", "t_clear_s", "t_dust_s", "time_factor", "snr", "limiting_mag", "noise"))
+        for p in plans
+    ]
+    print_table(rows, list(rows[0]), formats={"mag": ".3f", "A_band": ".3f", "t_clear_s": ".4g", "t_dust_s": ".4g",
+                                             "time_factor": ".3g", "snr": ".1f", "limiting_mag": ".2f"})
+    order = "time needed" if args.snr is not None else "S/N reached"
+    print(f"Ranked by {order}: " + ", ".join(p.band for p in plans))
+    if table is not None and args.av_grid:
+        grid, times, a_bands = table
+        print(f"\nTime (s) to reach S/N {grid_snr:g} against A_V:")
+        av_rows = [{"A_V": float(a), **{b: float(times[b][i]) for b in times}} for i, a in enumerate(grid)]
+        print_table(av_rows, ["A_V", *times], formats={"A_V": ".2f", **{b: ".4g" for b in times}})
+    print(CAUTION)
+    return 0

@@ -1,0 +1,138 @@
+"""Tests of `redcorr plan` (in-process) and the planner's use of the band extinction."""
+
+import json
+
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+
+from redcorr.cli import main
+from redcorr.cli.plan import CAUTION
+from redcorr.extinction import band_extinction
+from redcorr.io import load_curve
+from redcorr.io.instrument import load_instrument
+from redcorr.io.spectra import load_sed
+
+KEYS = ["band", "A_band", "t_clear_s", "t_dust_s", "time_factor", "snr", "limiting_mag"]
+BASE = ["plan", "--instrument", "demo", "--mag", "19", "--av", "2.5", "--law", "f99", "--rv", "4.3"]
+
+
+def _json(capsys, argv):
+    assert main(argv) == 0
+    out = capsys.readouterr()
+    return json.loads(out.out), out.err
+
+
+def test_json_has_exactly_the_agreed_keys_one_object_per_band(capsys):
+    rows, err = _json(capsys, [*BASE, "--band", "kw-v", "--band", "kw-i", "--snr", "20", "--json"])
+    assert sorted(r["band"] for r in rows) == ["kw-i", "kw-v"]
+    for r in rows:
+        assert list(r) == KEYS
+        # Between the read/source-limited 10^(0.4 A) and the sky-limited 10^(0.8 A)
+        # (common practice, no source; see the CCD equation).
+        assert 10 ** (0.4 * r["A_band"]) * (1 - 1e-9) <= r["time_factor"] <= 10 ** (0.8 * r["A_band"]) * (1 + 1e-9)
+        assert r["snr"] == 20
+    assert [r["t_dust_s"] for r in rows] == sorted(r["t_dust_s"] for r in rows)  # ranked by time needed
+    assert CAUTION in err
+
+
+def test_planner_takes_a_band_from_band_extinction():
+    # The planner never re-derives extinction: its A_band is band_extinction's for the SED
+    # through the system throughput.
+    from redcorr.exposure import plan_exposure
+
+    inst = load_instrument("demo")
+    curve, sed = load_curve("f99", r_v=4.3), load_sed("blackbody:5800")
+    plans = plan_exposure(inst, ["kw-b", "kw-z"], 19.0, curve=curve, sed=sed, a_v=2.5, snr=10.0)
+    for p in plans:
+        expected = band_extinction(curve, inst.channel(p.band).band, sed, 2.5)
+        assert_allclose(p.A_band, expected, rtol=1e-12)
+    assert {p.band for p in plans} == {"kw-b", "kw-z"}
+    assert plans[0].t_dust_s <= plans[1].t_dust_s  # ranked by time needed
+
+
+def test_time_mode_reports_snr_and_depth(capsys):
+    rows, _ = _json(capsys, [*BASE, "--band", "kw-r", "--time", "600", "--json"])
+    (r,) = rows
+    assert r["t_dust_s"] == 600
+    assert r["snr"] > 0 and r["t_clear_s"] < 600
+    assert_allclose(r["time_factor"], 600 / r["t_clear_s"])
+
+
+def test_ebv_is_av_over_rv(capsys):
+    a, _ = _json(capsys, [*BASE, "--band", "kw-v", "--snr", "10", "--json"])
+    argv = [x for x in BASE if x not in ("--av", "2.5")] + ["--ebv", str(2.5 / 4.3), "--band", "kw-v", "--snr", "10", "--json"]
+    b, _ = _json(capsys, argv)
+    assert_allclose(a[0]["A_band"], b[0]["A_band"], rtol=1e-9)
+
+
+def test_mag_band_carries_the_magnitude_with_the_sed_colour(capsys):
+    # A flat F_nu source has the same AB magnitude in every band (AB definition, Oke & Gunn 1983).
+    flat, _ = _json(capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--mag-band", "kw-v", "--json"])
+    same, _ = _json(capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--json"])
+    assert_allclose(flat[0]["t_clear_s"], same[0]["t_clear_s"], rtol=1e-9)
+    red, _ = _json(capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--mag-band", "kw-v",
+                            "--sed", "blackbody:3500", "--json"])
+    assert red[0]["t_clear_s"] > flat[0]["t_clear_s"]  # a cool star is fainter in B than in V
+
+
+def test_text_output_table_ranking_av_grid_and_caution(capsys):
+    assert main([*BASE, "--snr", "30", "--av-grid", "0", "2.5", "5"]) == 0
+    out = capsys.readouterr().out
+    assert "Ranked by time needed:" in out
+    assert "against A_V" in out
+    assert out.rstrip().endswith(CAUTION)
+    for band in ("kw-b", "kw-v", "kw-r", "kw-i", "kw-z"):
+        assert band in out
+
+
+def test_plots_are_png(tmp_path, capsys):
+    snr_png, av_png = tmp_path / "snr.png", tmp_path / "av.png"
+    assert main([*BASE, "--snr", "10", "--plot", str(snr_png), "--av-plot", str(av_png)]) == 0
+    for path in (snr_png, av_png):
+        assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert not list(tmp_path.glob("*.part*"))
+
+
+@pytest.mark.parametrize(
+    ("extra", "message"),
+    [
+        (["--time", "-5"], "time=-5 s is not allowed"),
+        (["--snr", "0"], "snr=0 is not allowed"),
+        (["--snr", "-2"], "snr=-2 is not allowed"),
+        (["--snr", "5", "--band", "kw-q"], "band='kw-q' is not a band of instrument"),
+        (["--snr", "5", "--ebv", "0.1"], None),  # --av and --ebv together: argparse usage error
+        (["--snr", "5", "--limit-snr", "0"], "limit_snr=0 is not allowed"),
+    ],
+)
+def test_bad_input_exits_2_with_one_line(capsys, extra, message):
+    assert main([*BASE, *extra]) == 2
+    err = capsys.readouterr().err
+    if message:
+        assert message in err
+        assert len(err.strip().splitlines()) == 1
+
+
+def test_missing_sky_value_in_a_user_instrument(tmp_path, capsys):
+    text = (
+        "[telescope]\naperture_m = 1.0\n[camera]\npixel_scale_arcsec = 0.5\nread_noise_e = 5\n"
+        "dark_e_per_s = 0.0\ngain_e_per_adu = 1.0\n[site]\nseeing_fwhm_arcsec = 1.0\n"
+        "[photometry]\naperture_radius_arcsec = 1.5\n[bands.v]\nfilter = \"tophat:0.55:0.09\"\n"
+        "extinction_mag_per_airmass = 0.1\n"
+    )
+    path = tmp_path / "nosky.toml"
+    path.write_text(text)
+    assert main(["plan", "--instrument", str(path), "--mag", "18", "--av", "1", "--snr", "10"]) == 2
+    assert "sky_mag_arcsec2 is missing" in capsys.readouterr().err
+
+
+def test_demo_plans_the_brume_field_target(capsys):
+    assert main(["demo"]) == 0
+    out = capsys.readouterr().out
+    assert "Exposure planning" in out and CAUTION in out
+
+
+def test_grain_model_fixes_its_own_rv(capsys):
+    argv = ["plan", "--instrument", "demo", "--mag", "19", "--av", "1", "--grain", "x", "--rv", "3.1", "--snr", "5"]
+    assert main(argv) == 2
+    assert "--rv=3.1 applies to a law" in capsys.readouterr().err

@@ -1,0 +1,201 @@
+"""Tests of redcorr.exposure: photon rates, the CCD equation and its regimes."""
+
+import math
+import types
+
+import numpy as np
+import pytest
+from astropy import constants as const
+from astropy import units as u
+from numpy.testing import assert_allclose
+
+from redcorr.exceptions import InputError, UnknownNameError
+from redcorr.exposure import (
+    Channel,
+    Instrument,
+    ab_photon_rate,
+    ccd_snr,
+    ccd_source_rate,
+    ccd_time,
+    dominant_noise,
+    fnu_photon_rate,
+    gaussian_aperture_fraction,
+)
+
+
+def _box(lo, hi, value=1.0, n=4001):
+    """A top-hat sampled with its edges on the grid (plain arrays, no Band needed)."""
+    lam = np.linspace(lo, hi, n)
+    return types.SimpleNamespace(wave_um=lam, response=np.full(n, value), name="box", convention="photon")
+
+
+def _channel(**kw):
+    base = dict(
+        name="box",
+        band=_box(0.5, 0.6, 0.5),
+        area_m2=1.0,
+        pixel_scale_arcsec=0.4,
+        read_noise_e=5.0,
+        dark_e_per_s=0.01,
+        gain_e_per_adu=1.5,
+        sky_mag_arcsec2=21.0,
+        seeing_fwhm_arcsec=1.2,
+        aperture_radius_arcsec=1.5,
+        airmass=1.0,
+        extinction_mag_per_airmass=0.0,
+    )
+    base.update(kw)
+    return Channel(**base)
+
+
+# --- photon rates -------------------------------------------------------------------------
+
+def test_ab_rate_flat_fnu_tophat_matches_analytic_integral():
+    # AB definition F_nu = 3631 Jy 10^(-0.4 m) (Oke & Gunn 1983, ApJ 266, 713). For a flat F_nu
+    # through a top-hat of transmission T0 on [l1, l2]: N = A F_nu T0 / h * ln(l2/l1)
+    # (analytic integral of dlambda/lambda).
+    area, t0, mag, l1, l2 = 0.9, 0.37, 17.3, 0.48, 0.66
+    band = _box(l1, l2, t0)
+    expected = area * 3631e-26 * 10 ** (-0.4 * mag) * t0 / const.h.to_value(u.J * u.s) * math.log(l2 / l1)
+    assert_allclose(ab_photon_rate(mag, band.wave_um, band.response, area), expected, rtol=1e-6)
+    fnu = np.full(band.wave_um.size, 3631.0 * 10 ** (-0.4 * mag))
+    assert_allclose(fnu_photon_rate(band.wave_um, fnu, band.response, area * u.m**2), expected, rtol=1e-6)
+
+
+def test_ab_zero_point_photon_flux_density_near_one_thousand_per_angstrom():
+    # Fact of the trade (common practice, no source): an AB = 0 source delivers about
+    # 1000 photons s^-1 cm^-2 A^-1 at 5500 A. Cross-checked with astropy's own spectral-density
+    # conversion (a general reference library), independent of our integral.
+    lam = 0.55
+    band = _box(lam * (1 - 1e-4), lam * (1 + 1e-4))
+    width_aa = (band.wave_um[-1] - band.wave_um[0]) * 1e4
+    ours = ab_photon_rate(0.0, band.wave_um, band.response, 1e-4) / width_aa  # per cm^2 per A
+    astropy_value = (3631 * u.Jy).to_value(u.photon / u.s / u.cm**2 / u.AA, u.spectral_density(lam * u.um))
+    assert_allclose(ours, astropy_value, rtol=1e-6)
+    assert 950 < ours < 1050
+
+
+def test_gaussian_aperture_fraction_half_light_at_half_fwhm():
+    # A circular Gaussian encloses 1 - exp(-r^2 / 2 sigma^2); r = FWHM/2 gives exactly one half
+    # (common practice, no source: FWHM = 2 sqrt(2 ln 2) sigma).
+    assert_allclose(gaussian_aperture_fraction(1.0, 2.0), 0.5, rtol=1e-12)
+    assert_allclose(gaussian_aperture_fraction([0.0, 1e3], 1.0), [0.0, 1.0])
+
+
+# --- the CCD equation ---------------------------------------------------------------------
+
+def test_ccd_equation_full_form_hand_evaluated():
+    # Howell 2006, Handbook of CCD Astronomy 2nd ed., Sect. 4.4, eq. 4.4 (after Merline & Howell
+    # 1995): S/N = N* / sqrt(N* + n_pix (1 + n_pix/n_B)(N_S + N_D + N_R^2 + G^2 sigma_f^2)).
+    # The equation is from the book (from memory); the inputs are illustrative, NOT the book's
+    # worked example (whose numbers could not be checked here). Hand evaluation:
+    #   N* = 800 e/s * 300 s = 240000; n_pix = 200, n_B = 1000 -> weight 200 * 1.2 = 240
+    #   N_S = 2.0*300 = 600, N_D = 0.006*300 = 1.8, N_R^2 = 25, (G sigma_f)^2 = (5*0.289)^2 = 2.088025
+    #   variance = 240000 + 240 * 628.888025 = 390933.126 -> S/N = 240000/625.2464...= 383.85
+    snr = ccd_snr(300.0, 800.0, 2.0, 0.006, 5.0, 200, n_sky_pix=1000, digitisation_e=5 * 0.289)
+    assert_allclose(snr, 240000 / math.sqrt(390933.126), rtol=1e-9)
+    assert_allclose(snr, 383.85, atol=0.01)
+
+
+def test_ccd_equation_reduces_to_the_lecture_note_form():
+    # Dhillon, "the CCD equation" (Univ. of Sheffield PHY217 lecture notes, web page):
+    # SNR = S_obj / sqrt(S_obj + n_pix (S_sky + S_dark + R^2)) when the sky is known exactly (n_B
+    # infinite) and digitisation is neglected.
+    t, src, sky, dark, rn, npix = 120.0, 50.0, 3.0, 0.1, 7.0, 60.0
+    expected = src * t / math.sqrt(src * t + npix * (sky * t + dark * t + rn**2))
+    assert_allclose(ccd_snr(t, src, sky, dark, rn, npix), expected, rtol=1e-12)
+
+
+def test_time_solution_inverts_the_snr_and_broadcasts():
+    src = np.array([[10.0], [1000.0]])
+    snr = np.array([3.0, 10.0, 300.0])
+    kw = dict(sky_rate=4.0, dark_rate=0.01, read_noise=6.0, n_pix=80.0, n_sky_pix=900.0, digitisation_e=0.5)
+    t = ccd_time(snr, src, **kw)
+    assert t.shape == (2, 3)
+    assert_allclose(ccd_snr(t, src, **kw), np.broadcast_to(snr, (2, 3)), rtol=1e-10)
+    rate = ccd_source_rate(snr, t, **kw)
+    assert_allclose(rate, np.broadcast_to(src, (2, 3)), rtol=1e-10)
+    assert ccd_time(5.0, 0.0, **kw) == np.inf
+
+
+@pytest.mark.parametrize(
+    ("regime", "settings", "mag", "slope"),
+    [
+        # Facts of the trade (common practice, no source), derived from the CCD equation:
+        # source-limited t = S^2/R*, so t grows as 10^(0.4 A_b);
+        ("source", dict(sky_mag_arcsec2=35.0, dark_e_per_s=0.0, read_noise_e=0.0, gain_e_per_adu=1e-6), 5.0, 0.4),
+        # sky-limited t = S^2 n_pix R_sky / R*^2, so 10^(0.8 A_b);
+        ("sky", dict(sky_mag_arcsec2=6.0, dark_e_per_s=0.0, read_noise_e=0.0, gain_e_per_adu=1e-6), 24.0, 0.8),
+        # read-noise-limited t = S sqrt(n_pix) N_R / R*, so 10^(0.4 A_b).
+        ("read", dict(sky_mag_arcsec2=35.0, dark_e_per_s=0.0, read_noise_e=1e5, gain_e_per_adu=1e-6), 5.0, 0.4),
+    ],
+)
+def test_time_factor_in_each_noise_regime(regime, settings, mag, slope):
+    ch = _channel(**settings)
+    a_band = np.array([0.5, 1.0, 2.0, 3.0])
+    t0 = ch.time_for_snr(mag, 20.0)
+    assert ch.dominant_noise(mag, t0) == regime
+    factor = ch.time_for_snr(mag, 20.0, a_band) / t0
+    assert_allclose(factor, 10 ** (slope * a_band), rtol=2e-3)
+
+
+def test_dominant_noise_names_dark_when_dark_dominates():
+    assert dominant_noise(100.0, 1.0, 0.0, 50.0, 1.0, 10.0) == "dark"
+
+
+# --- the channel --------------------------------------------------------------------------
+
+def test_channel_limiting_mag_is_the_inverse_of_the_time():
+    ch = _channel(airmass=1.3, extinction_mag_per_airmass=0.2, sky_pixels=2000.0)
+    t = ch.time_for_snr(20.5, 10.0, a_band=1.2)
+    # A dust-free source of magnitude m behind A_band looks like an apparent m + A_band.
+    assert_allclose(ch.limiting_mag(t, 10.0), 21.7, rtol=1e-10)
+    assert_allclose(ch.snr(20.5, t, 1.2), 10.0, rtol=1e-10)
+
+
+def test_channel_sky_rate_from_surface_brightness():
+    # Sky per pixel = N_0 10^(-0.4 mu) p^2, the AB rate of mu spread over one arcsec^2.
+    ch = _channel()
+    band = ch.band
+    expected = ab_photon_rate(21.0, band.wave_um, band.response, 1.0) * 0.4**2
+    assert_allclose(ch.sky_rate, expected, rtol=1e-12)
+
+
+# --- bad input ----------------------------------------------------------------------------
+
+def test_negative_time_is_refused():
+    with pytest.raises(InputError, match=r"time=-5 s .*>= 0"):
+        _channel().snr(19.0, -5.0)
+    with pytest.raises(InputError, match="time"):
+        ccd_source_rate(5.0, [10.0, -1.0], 1.0, 0.0, 1.0, 10.0)
+
+
+@pytest.mark.parametrize("snr", [0.0, -3.0, np.inf])
+def test_nonpositive_snr_is_refused(snr):
+    with pytest.raises(InputError, match=r"snr=.* signal-to-noise ratio must be finite and > 0"):
+        _channel().time_for_snr(19.0, snr)
+
+
+def test_unknown_band_is_refused_with_the_instrument_bands():
+    inst = Instrument("test", {"box": _channel()})
+    with pytest.raises(UnknownNameError, match=r"band='kw-q' is not a band of instrument 'test'; choose from 'box'"):
+        inst.channel("kw-q")
+
+
+@pytest.mark.parametrize(
+    ("field", "value", "allowed"),
+    [
+        ("sky_mag_arcsec2", math.nan, "sky_mag_arcsec2"),
+        ("airmass", 0.8, r"airmass=0.8 is outside the allowed range \[1, 10\]"),
+        ("read_noise_e", -1.0, "read_noise_e"),
+        ("pixel_scale_arcsec", 0.0, r"pixel_scale_arcsec=0.0 must be > 0"),
+    ],
+)
+def test_channel_fields_are_validated(field, value, allowed):
+    with pytest.raises(InputError, match=allowed):
+        _channel(**{field: value})
+
+
+def test_throughput_above_one_is_refused():
+    with pytest.raises(InputError, match="between 0 and 1"):
+        _channel(band=_box(0.5, 0.6, 1.5))
