@@ -3,9 +3,10 @@
 import functools
 
 from redcorr.io.filters import load_band
+from redcorr.io.instrument import load_instrument
 from redcorr.io.spectra import load_sed
 
-__all__ = ["band", "sed"]
+__all__ = ["band", "instrument", "sed"]
 
 
 @functools.lru_cache(maxsize=128)
@@ -18,3 +19,9 @@ def band(spec):
 def sed(spec):
     """`redcorr.io.spectra.load_sed`, remembered by spec (errors are not remembered)."""
     return load_sed(spec)
+
+
+@functools.lru_cache(maxsize=8)
+def instrument(spec):
+    """`redcorr.io.instrument.load_instrument`, remembered by spec (errors are not remembered)."""
+    return load_instrument(spec)

@@ -3,7 +3,7 @@
 from textual.app import App
 from textual.binding import Binding
 
-from redcorr.tui.screens import BandsScreen, DustScreen, HelpScreen
+from redcorr.tui.screens import BandsScreen, DustScreen, HelpScreen, PlanScreen
 from redcorr.tui.state import Session
 
 __all__ = ["RedcorrApp"]
@@ -21,11 +21,12 @@ class RedcorrApp(App):
 
     TITLE = "redcorr"
     CSS_PATH = "redcorr.tcss"
-    MODES = {"dust": DustScreen, "bands": BandsScreen}
+    MODES = {"dust": DustScreen, "bands": BandsScreen, "plan": PlanScreen}
     BINDINGS = [
         Binding("f1", "help", "Help"),
         Binding("f2", "switch_mode('dust')", "Dust"),
         Binding("f3", "switch_mode('bands')", "Bands"),
+        Binding("f5", "switch_mode('plan')", "Plan"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 

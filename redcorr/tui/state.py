@@ -32,6 +32,8 @@ class Session:
         Source spectrum spec for `redcorr.io.spectra.load_sed`.
     band_output : str
         Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
+    plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr : str
+        The Plan screen's inputs (defaults: the demo's invented target).
     screen : str
         The screen shown last.
     """
@@ -43,6 +45,13 @@ class Session:
     bands: list = dataclasses.field(default_factory=lambda: ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"])
     sed: str = "blackbody:5800"
     band_output: str = "band_table.ecsv"
+    plan_instrument: str = "demo"
+    plan_mag: str = "19.0"
+    plan_mag_band: str = "kw-v"
+    plan_sed: str = "blackbody:5800"
+    plan_goal: str = "S/N"
+    plan_goal_value: str = "50"
+    plan_limit_snr: str = "5"
     screen: str = "dust"
 
     @classmethod

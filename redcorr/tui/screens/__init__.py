@@ -3,5 +3,6 @@
 from redcorr.tui.screens.bands import BandsScreen
 from redcorr.tui.screens.dust import DustScreen
 from redcorr.tui.screens.help import HelpScreen
+from redcorr.tui.screens.plan import PlanScreen
 
-__all__ = ["BandsScreen", "DustScreen", "HelpScreen"]
+__all__ = ["BandsScreen", "DustScreen", "HelpScreen", "PlanScreen"]

@@ -5,5 +5,6 @@ from redcorr.tui.widgets.curve_plot import CurvePlot
 from redcorr.tui.widgets.field import Field
 from redcorr.tui.widgets.name_picker import NamePicker
 from redcorr.tui.widgets.status import StatusLine
+from redcorr.tui.widgets.xy_plot import XYPlot
 
-__all__ = ["BandTable", "CurvePlot", "Field", "NamePicker", "StatusLine"]
+__all__ = ["BandTable", "CurvePlot", "Field", "NamePicker", "StatusLine", "XYPlot"]
