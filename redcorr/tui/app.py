@@ -3,6 +3,7 @@
 from textual.app import App
 from textual.binding import Binding
 
+from redcorr.tui._guard import capture_warnings
 from redcorr.tui.screens import BandsScreen, DustScreen, HelpScreen, PlanScreen
 from redcorr.tui.state import Session
 
@@ -34,6 +35,13 @@ class RedcorrApp(App):
         super().__init__()
         self.config_dir = config_dir
         self.session = Session.load(config_dir)
+
+    def on_load(self):
+        self._capture = capture_warnings()
+        self._capture.__enter__()
+
+    def on_unmount(self):
+        self._capture.__exit__(None, None, None)
 
     def on_mount(self):
         self.switch_mode(self.session.screen if self.session.screen in self.MODES else "dust")
