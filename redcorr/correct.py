@@ -1046,7 +1046,9 @@ def summarise_dask(result, correction, also=(), **compute_options):
     if "teff_iterations" in result.columns:
         extra["it_max"] = result["teff_iterations"].max()
         extra["it_sum"] = result["teff_iterations"].sum()
-    counts, extra, *_ = dask.compute(counts, extra, *also, **compute_options)
+    with warnings.catch_warnings():  # a delayed CSV write mixes graph types; harmless here
+        warnings.filterwarnings("ignore", message="Computing mixed collections", category=UserWarning)
+        counts, extra, *_ = dask.compute(counts, extra, *also, **compute_options)
     summary = RunSummary(correction.setup())
     summary.rows = int(extra["rows"])
     summary.flagged = {k: int(v) for k, v in counts.items()}

@@ -129,7 +129,7 @@ def _dask_input(input_path, in_format, delimiter, comment, numeric):
         raise InputError(f"input {text!r} matches no file")
     if detect_format(files[0], in_format) != "csv":
         raise InputError(f"input {text!r}: the dask engine reads Parquet datasets or CSV files/globs")
-    ddf = dd.read_csv(files, sep=delimiter, comment=comment or None, float_precision="round_trip",
+    ddf = dd.read_csv(files, sep=delimiter, comment=comment or None,
                       dtype={c: "float64" for c in numeric}, blocksize="64MB")
     return ddf, files
 

@@ -1,0 +1,72 @@
+"""Dask engine: a LocalCluster of 2 worker processes gives the single-process results."""
+
+import logging
+
+import pandas as pd
+import pyarrow as pa
+import pyarrow.parquet as pq
+import pytest
+from catalog_helpers import KW, intrinsic
+
+from redcorr.correct import Correction, correct_dask
+from redcorr.io.batch import correct_file, correct_file_dask
+from redcorr.io.catalogs import write_catalog
+
+dd = pytest.importorskip("dask.dataframe")
+distributed = pytest.importorskip("distributed")
+
+
+@pytest.fixture(scope="module")
+def cluster():
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None, silence_logs=logging.ERROR) as local:
+        yield local
+
+
+def _make(columns):
+    return Correction(KW, columns=columns, colours=[("kw-b", "kw-v")], rv_error=0.1)
+
+
+def _sorted(frame):
+    return frame.sort_values("id").reset_index(drop=True)
+
+
+def test_parquet_dataset_on_two_worker_processes(tmp_path, cluster):
+    frame = intrinsic(90, seed=21)
+    root = tmp_path / "ds"
+    root.mkdir()
+    for k in range(3):
+        pq.write_table(pa.Table.from_pandas(frame.iloc[k * 30:(k + 1) * 30], preserve_index=False),
+                       root / f"part-{k}.parquet")
+    single = tmp_path / "single.parquet"
+    correct_file(root, single, _make, chunk_rows=17)
+    out = tmp_path / "out_ds"
+    summary = correct_file_dask(root, out, _make, scheduler=cluster.scheduler_address)
+    assert out.is_dir() and summary.rows == 90
+    got = _sorted(pd.read_parquet(out))
+    want = _sorted(pd.read_parquet(single))
+    pd.testing.assert_frame_equal(got[want.columns], want, check_dtype=False, check_exact=True)
+    assert (tmp_path / "out_ds.summary.json").exists()
+
+
+def test_csv_glob_on_two_worker_processes(tmp_path, cluster):
+    frame = intrinsic(60, seed=22)
+    for k in range(2):
+        write_catalog(frame.iloc[k * 30:(k + 1) * 30], tmp_path / f"part-{k}.csv")
+    whole = write_catalog(frame, tmp_path / "whole.csv")
+    single = tmp_path / "single.parquet"
+    correct_file(whole, single, _make)
+    out = tmp_path / "out.csv"
+    correct_file_dask(str(tmp_path / "part-*.csv"), out, _make, scheduler=cluster.scheduler_address)
+    got = _sorted(pd.read_csv(out))
+    want = _sorted(pd.read_parquet(single))
+    pd.testing.assert_frame_equal(got[want.columns], want, check_dtype=False, check_exact=True)
+
+
+def test_dask_dataframe_api_matches_pandas(cluster):
+    frame = intrinsic(40, seed=23)
+    corr = _make(list(frame.columns))
+    ddf = dd.from_pandas(frame, npartitions=3)
+    with distributed.Client(cluster) as client:
+        got = correct_dask(ddf, corr).compute(scheduler=client)
+    pd.testing.assert_frame_equal(got, corr.correct(frame), check_exact=True)
