@@ -4,9 +4,10 @@ import functools
 
 from redcorr.io.filters import load_band
 from redcorr.io.instrument import load_instrument
+from redcorr.io.maps import open_map
 from redcorr.io.spectra import load_sed
 
-__all__ = ["band", "instrument", "sed"]
+__all__ = ["band", "dust_map", "instrument", "sed"]
 
 
 @functools.lru_cache(maxsize=128)
@@ -25,3 +26,9 @@ def sed(spec):
 def instrument(spec):
     """`redcorr.io.instrument.load_instrument`, remembered by spec (errors are not remembered)."""
     return load_instrument(spec)
+
+
+@functools.lru_cache(maxsize=4)
+def dust_map(spec):
+    """`redcorr.io.maps.open_map`, remembered by spec (errors are not remembered)."""
+    return open_map(spec)

@@ -4,7 +4,7 @@ from textual.app import App
 from textual.binding import Binding
 
 from redcorr.tui._guard import capture_warnings
-from redcorr.tui.screens import BandsScreen, DustScreen, HelpScreen, PlanScreen
+from redcorr.tui.screens import BandsScreen, CatalogScreen, DustScreen, HelpScreen, PlanScreen
 from redcorr.tui.state import Session
 
 __all__ = ["RedcorrApp"]
@@ -22,11 +22,12 @@ class RedcorrApp(App):
 
     TITLE = "redcorr"
     CSS_PATH = "redcorr.tcss"
-    MODES = {"dust": DustScreen, "bands": BandsScreen, "plan": PlanScreen}
+    MODES = {"dust": DustScreen, "bands": BandsScreen, "catalog": CatalogScreen, "plan": PlanScreen}
     BINDINGS = [
         Binding("f1", "help", "Help"),
         Binding("f2", "switch_mode('dust')", "Dust"),
         Binding("f3", "switch_mode('bands')", "Bands"),
+        Binding("f4", "switch_mode('catalog')", "Catalog"),
         Binding("f5", "switch_mode('plan')", "Plan"),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]

@@ -34,6 +34,10 @@ class Session:
         Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
     plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr : str
         The Plan screen's inputs (defaults: the demo's invented target).
+    cat_input, cat_dir, cat_bands, cat_colour, cat_red_kind, cat_red_value, cat_spectrum, cat_teff, \
+    cat_output, cat_overwrite
+        The Catalog screen's inputs: file, folder of the file tree, bands (comma-separated),
+        colour B1,B2, reddening source and value, source temperature, output and overwrite.
     screen : str
         The screen shown last.
     """
@@ -52,6 +56,16 @@ class Session:
     plan_goal: str = "S/N"
     plan_goal_value: str = "50"
     plan_limit_snr: str = "5"
+    cat_input: str = ""
+    cat_dir: str = ""
+    cat_bands: str = "kw-b,kw-v,kw-r,kw-i"
+    cat_colour: str = "kw-b,kw-v"
+    cat_red_kind: str = "ebv_column"
+    cat_red_value: str = ""
+    cat_spectrum: str = "fixed"
+    cat_teff: str = "7000"
+    cat_output: str = ""
+    cat_overwrite: bool = False
     screen: str = "dust"
 
     @classmethod

@@ -52,7 +52,7 @@ class XYPlot(PlotextPlot):
         if hline is not None:
             plt.horizontal_line(hline, color="gray")
         if invert_y:
-            plt.yreverse()
+            plt.yreverse(True)
         plt.xlabel(xlabel)
         plt.ylabel(ylabel)
         plt.title(title)
