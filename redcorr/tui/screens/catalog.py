@@ -1,5 +1,6 @@
 """The Catalog screen: open a catalog, map its columns, choose the reddening, preview, run, inspect."""
 
+import contextlib
 import threading
 from pathlib import Path
 
@@ -262,8 +263,9 @@ class CatalogScreen(Screen):
             status.show("open a catalog first (ctrl+o)", "error")
             return
         options = guarded(lambda: (self._bands(), self._options()))
-        if not options.ok:
-            status.show_outcome(options)
+        checked = guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
+        if not checked.ok:
+            status.show_outcome(checked)
             return
         bands, kwargs = options.value
         self.running = True
@@ -287,7 +289,10 @@ class CatalogScreen(Screen):
         def progress(rows, fraction):
             if self._cancel.is_set():
                 raise RunCancelled
-            self.app.call_from_thread(self._progress, rows, fraction)
+            try:
+                self.app.call_from_thread(self._progress, rows, fraction)
+            except RuntimeError:  # the app has closed: stop, leaving no output
+                raise RunCancelled from None
 
         def run():
             try:
@@ -299,7 +304,11 @@ class CatalogScreen(Screen):
                 return None
 
         outcome = guarded(run)
-        self.app.call_from_thread(self._finished, outcome, output_path, bands, options)
+        with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
+            self.app.call_from_thread(self._finished, outcome, output_path, bands, options)
+
+    def on_unmount(self):
+        self._cancel.set()  # quitting during a run stops it safely
 
     def _progress(self, rows, fraction):
         bar = self.query_one(ProgressBar)
