@@ -1,13 +1,18 @@
-"""Bands and source spectra loaded once per spec, so redrawing does not re-read files."""
+"""Bands, spectra, instruments, maps and grain models loaded once per spec, so redrawing is quick."""
 
 import functools
+import threading
 
+from redcorr.io import load_curve
 from redcorr.io.filters import load_band
 from redcorr.io.instrument import load_instrument
 from redcorr.io.maps import open_map
 from redcorr.io.spectra import load_sed
 
-__all__ = ["band", "dust_map", "instrument", "sed"]
+__all__ = ["band", "dust_map", "grain_curve", "grain_ready", "instrument", "sed"]
+
+_grains = {}
+_grains_lock = threading.Lock()
 
 
 @functools.lru_cache(maxsize=128)
@@ -32,3 +37,19 @@ def instrument(spec):
 def dust_map(spec):
     """`redcorr.io.maps.open_map`, remembered by spec (errors are not remembered)."""
     return open_map(spec)
+
+
+def grain_curve(spec):
+    """`redcorr.io.load_curve` for a grain model, computed once (Mie theory is slow the first time)."""
+    with _grains_lock:
+        if spec in _grains:
+            return _grains[spec]
+    curve = load_curve(spec)
+    with _grains_lock:
+        return _grains.setdefault(spec, curve)
+
+
+def grain_ready(spec):
+    """True when :func:`grain_curve` has the model already."""
+    with _grains_lock:
+        return spec in _grains

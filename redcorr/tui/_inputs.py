@@ -41,11 +41,14 @@ GOALS = ("S/N", "time [s]")
 def dust_state(law, r_v_text, amount_text, amount_kind):
     """``(curve, a_v, ebv)`` from the Dust inputs; `InputError` with the core's message if refused.
 
-    ``r_v_text`` empty means the law's default. ``amount_kind`` is ``"A_V"``
+    ``r_v_text`` empty means the law's default; a grain model ignores it.
+    ``amount_kind`` is ``"A_V"``
     or ``"E(B-V)"``; E(B-V) ≡ A_V/R_V with the curve's R_V.
     """
-    r_v = r_v_text.strip() or None
-    curve = load_curve(law, r_v=r_v)
+    if is_grain(law):
+        curve = _cache.grain_curve(law)  # its R_V follows from the grains
+    else:
+        curve = load_curve(law, r_v=r_v_text.strip() or None)
     amount = check_range(amount_kind, amount_text, 0.0, math.inf)
     if amount_kind == "A_V":
         return curve, amount, amount / curve.r_v
@@ -132,7 +135,7 @@ def law_r_v(law, r_v_text):
 
 
 def fixed_r_v(law):
-    """R_V of a registered law whose R_V cannot change; None otherwise."""
+    """R_V of a registered law whose R_V cannot change; None otherwise (also for grain models)."""
     return next((i["default_r_v"] for i in list_curves() if i["name"] == law and i["r_v_range"] is None), None)
 
 

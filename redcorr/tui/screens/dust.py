@@ -1,7 +1,10 @@
 """The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ."""
 
+import contextlib
+
 import numpy as np
 from astropy import units as u
+from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -9,8 +12,10 @@ from textual.screen import Screen
 from textual.widgets import Footer, Header, Input, Select, Static
 
 from redcorr.curves import list_curves
+from redcorr.grains import list_grain_models
 from redcorr.tui._guard import combine, guarded
-from redcorr.tui._inputs import band_rows, dust_state
+from redcorr.tui import _cache
+from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
 from redcorr.tui.widgets import BandTable, CurvePlot, Field, NamePicker, StatusLine
 
 __all__ = ["DustScreen", "dust_entries"]
@@ -19,12 +24,14 @@ AMOUNT_KINDS = ("A_V", "E(B-V)")
 
 
 def dust_entries():
-    """``(name, description)`` of every law the picker offers."""
+    """``(name, description)`` of every law and grain model the picker offers."""
     out = []
     for info in list_curves():
         r_v = f"R_V {info['default_r_v']:g}" + (" fixed" if info["r_v_range"] is None else "")
         lo, hi = info["wave_range_um"]
         out.append((info["name"], f"{r_v} · {lo:.3g}–{hi:.3g} µm"))
+    for info in list_grain_models():
+        out.append((info["name"], f"grain model · {info['description']}"))
     return out
 
 
@@ -94,19 +101,38 @@ class DustScreen(Screen):
             self.refresh_view()
 
     def _sync_r_v_field(self):
-        """A law with a fixed R_V shows it, greyed; otherwise the typed value is back."""
+        """A law with a fixed R_V (or a grain model) shows it, greyed; otherwise the typed value is back."""
+        law = self.session.law
         rv_input = self.query_one("#r-v", Input)
-        fixed = next((i["default_r_v"] for i in list_curves() if i["name"] == self.session.law
-                      and i["r_v_range"] is None), None)
+        fixed = fixed_r_v(law)
+        if is_grain(law):
+            fixed = _cache.grain_curve(law).r_v if _cache.grain_ready(law) else float("nan")
         with rv_input.prevent(Input.Changed):
             rv_input.disabled = fixed is not None
-            rv_input.value = f"{fixed:g}" if fixed is not None else self.session.r_v
+            rv_input.value = self.session.r_v if fixed is None else "" if fixed != fixed else f"{fixed:.4g}"
         return fixed is not None
+
+    @work(thread=True, exclusive=True, group="grain")
+    def compute_grain(self, law):
+        """Compute a grain model's curve (Mie theory) off the UI thread, then redraw."""
+        outcome = guarded(_cache.grain_curve, law)
+        with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
+            self.app.call_from_thread(self._grain_done, law, outcome)
+
+    def _grain_done(self, law, outcome):
+        if not outcome.ok:
+            self.query_one(StatusLine).show_outcome(outcome)
+        elif law == self.session.law:
+            self.refresh_view()
 
     def refresh_view(self):
         """Recompute from the inputs through the core and redraw; keep the old view on an error."""
         s = self.session
         fixed = self._sync_r_v_field()
+        if is_grain(s.law) and not _cache.grain_ready(s.law):
+            self.query_one(StatusLine).show(f"computing grain model {s.law} with Mie theory …", "warning")
+            self.compute_grain(s.law)
+            return
         outcome = guarded(dust_state, s.law, "" if fixed else s.r_v, s.amount, s.amount_kind)
         status = self.query_one(StatusLine)
         refused = outcome.error or ""
