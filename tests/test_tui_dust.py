@@ -6,9 +6,12 @@ import numpy as np
 import pytest
 from astropy import units as u
 
+from redcorr.band_table import band_table
 from redcorr.io import load_curve
+from redcorr.io.filters import load_band
+from redcorr.io.spectra import load_sed
 from redcorr.tui import RedcorrApp
-from redcorr.tui.widgets import CurvePlot, StatusLine
+from redcorr.tui.widgets import BandTable, CurvePlot, StatusLine
 
 
 @pytest.fixture(autouse=True)
@@ -114,5 +117,26 @@ def test_out_of_sample_r_v_warns_without_failing():
         status = app.screen.query_one(StatusLine)
         assert app.screen.curve.r_v == 6.0
         assert status.has_class("-warning") and "warning:" in status.message
+
+    run_app(script)
+
+
+def test_grain_model_is_computed_off_the_ui_thread_and_tabulated(tmp_path, monkeypatch):
+    monkeypatch.setenv("REDCORR_CACHE_DIR", str(tmp_path / "cache"))
+
+    async def script(app, pilot):
+        await type_into(pilot, "#dust-picker .picker-search", "mrn77")
+        await pilot.press("enter", "enter")
+        for _ in range(600):
+            await pilot.pause(0.05)
+            if app.screen.curve is not None and app.screen.curve.name == "mrn77":
+                break
+        screen = app.screen
+        curve = load_curve("mrn77")
+        assert screen.query_one("#r-v").disabled
+        assert screen.curve.r_v == curve.r_v
+        rows = screen.query_one(BandTable).rows_shown
+        bands = [load_band(r["band"]) for r in rows]
+        assert rows == band_table(curve, bands, load_sed("blackbody:5800"), 1.0)
 
     run_app(script)
