@@ -3,19 +3,13 @@
 import asyncio
 import json
 
-import pytest
+from tui_helpers import private_config, set_value  # noqa: F401
 
 from redcorr.cli import build_parser
 from redcorr.io.settings import config_dir, load_settings, save_settings
 from redcorr.tui import RedcorrApp
 from redcorr.tui.screens import HelpScreen
 from redcorr.tui.state import Session
-
-
-@pytest.fixture(autouse=True)
-def _config(tmp_path, monkeypatch):
-    """Never touch the user's real configuration folder."""
-    monkeypatch.setenv("REDCORR_CONFIG_DIR", str(tmp_path / "config"))
 
 
 def test_config_dir_is_redirected(tmp_path):
@@ -38,8 +32,15 @@ def test_last_settings_are_remembered_between_runs(tmp_path):
         app = RedcorrApp()
         async with app.run_test(size=(140, 42)) as pilot:
             await pilot.pause()
-            await pilot.click("#r-v")
-            await pilot.press("end", "ctrl+u", *"4.3")
+            await set_value(pilot, "#r-v", "4.3")
+            await pilot.press("f5")
+            await pilot.pause()
+            await pilot.press("f1")  # the help screen opens over any screen and closes again
+            await pilot.pause()
+            assert isinstance(app.screen, HelpScreen)
+            await pilot.press("escape")
+            await pilot.pause()
+            assert not isinstance(app.screen, HelpScreen)
             await pilot.press("ctrl+q")
             await pilot.pause()
 
@@ -47,27 +48,15 @@ def test_last_settings_are_remembered_between_runs(tmp_path):
         app = RedcorrApp()
         async with app.run_test(size=(140, 42)) as pilot:
             await pilot.pause()
+            assert app.current_mode == "plan"  # the last screen shown
+            await pilot.press("f2")
+            await pilot.pause()
             assert app.screen.query_one("#r-v").value == "4.3"
             assert app.screen.curve.r_v == 4.3
 
     asyncio.run(first())
     assert (tmp_path / "config" / "tui.json").is_file()
     asyncio.run(second())
-
-
-def test_help_screen_opens_and_closes():
-    async def go():
-        app = RedcorrApp()
-        async with app.run_test(size=(140, 42)) as pilot:
-            await pilot.pause()
-            await pilot.press("f1")
-            await pilot.pause()
-            assert isinstance(app.screen, HelpScreen)
-            await pilot.press("escape")
-            await pilot.pause()
-            assert not isinstance(app.screen, HelpScreen)
-
-    asyncio.run(go())
 
 
 def test_tui_command_is_registered():

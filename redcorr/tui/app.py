@@ -47,10 +47,6 @@ class RedcorrApp(App):
     def on_mount(self):
         self.switch_mode(self.session.screen if self.session.screen in self.MODES else "dust")
 
-    def watch_current_mode(self, mode):
-        if mode in self.MODES:
-            self.session.screen = mode
-
     def action_help(self):
         if isinstance(self.screen, HelpScreen):
             return
@@ -60,5 +56,6 @@ class RedcorrApp(App):
         self.push_screen(HelpScreen(screens, keys))
 
     async def action_quit(self):
+        self.session.screen = self.current_mode
         self.session.save(self.config_dir)
         self.exit()
