@@ -103,6 +103,18 @@ def test_e_bv_fixed_r_v_laws_grain_models_and_warnings(tmp_path, monkeypatch):
         assert screen.curve.r_v == 6.0
         assert status.has_class("-warning") and "warning:" in status.message
 
+        # a user's table: here CCM89 itself, tabulated by the core, read back through file:PATH
+        table = tmp_path / "mine.csv"
+        wave = np.linspace(0.3, 3.0, 28)
+        rows = "\n".join(f"{float(w)!r},{float(r)!r}" for w, r in zip(wave, load_curve("ccm89")(wave)))
+        table.write_text("wavelength_um,A_over_AV\n" + rows + "\n")
+        await set_value(pilot, "#r-v", "3.1")
+        await pick(pilot, f"file:{table}")
+        assert screen.curve.name == "file:mine.csv", status.message
+        assert app.session.law == f"file:{table}"
+        _, x, y = screen.query_one(CurvePlot).series
+        np.testing.assert_array_equal(y, load_curve(f"file:{table}", r_v=3.1)(np.asarray(x) * u.um**-1))
+
         await pick(pilot, "mrn77")
         await until(pilot, lambda: screen.curve.name == "mrn77", "the grain model")
         curve = load_curve("mrn77")

@@ -52,7 +52,10 @@ class BandsScreen(Screen):
         s = self.session
         yield Header()
         with Horizontal(id="bands-body"):
-            yield NamePicker(band_entries(), placeholder="search bands… (Enter adds)", id="bands-picker")
+            yield NamePicker(
+                band_entries(), placeholder="search bands… (Enter adds)", accept=("file:", "tophat:", "gauss:"),
+                id="bands-picker",
+            )
             with Vertical(id="bands-main"):
                 with Horizontal(classes="form"):
                     yield Field("add", "", input_id="band-spec", placeholder="file:PATH, tophat:C:W …", width=30)

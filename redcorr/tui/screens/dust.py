@@ -60,7 +60,10 @@ class DustScreen(Screen):
         s = self.session
         yield Header()
         with Horizontal(id="dust-body"):
-            yield NamePicker(dust_entries(), placeholder="search laws…", id="dust-picker")
+            yield NamePicker(
+                dust_entries(), placeholder="search, or file:PATH / grain:PATH.toml", accept=("file:", "grain:"),
+                id="dust-picker",
+            )
             with Vertical(id="dust-main"):
                 with Horizontal(id="dust-form", classes="form"):
                     yield Field("R_V", s.r_v, input_id="r-v", placeholder="law default")

@@ -16,6 +16,9 @@ class NamePicker(Vertical):
     ----------
     entries : list of (str, str)
         ``(name, description)`` pairs; the search matches either, case-insensitively.
+    accept : tuple of str
+        Prefixes (e.g. ``"file:"``) of specs that are not in the list but may be
+        typed in the search box and chosen with Enter.
     """
 
     DEFAULT_CSS = """
@@ -37,9 +40,10 @@ class NamePicker(Vertical):
         def control(self):
             return self.picker
 
-    def __init__(self, entries, *, placeholder="search…", **kwargs):
+    def __init__(self, entries, *, placeholder="search…", accept=(), **kwargs):
         super().__init__(**kwargs)
         self._entries = list(entries)
+        self._accept = tuple(accept)
         self._placeholder = placeholder
 
     def compose(self) -> ComposeResult:
@@ -78,6 +82,10 @@ class NamePicker(Vertical):
 
     def on_input_submitted(self, event):
         event.stop()
+        text = event.value.strip()
+        if self._accept and text.startswith(self._accept):
+            self.post_message(self.Picked(self, text, True))
+            return
         options = self.query_one(OptionList)
         if options.option_count and options.highlighted is None:
             options.highlighted = 0
