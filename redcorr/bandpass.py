@@ -22,11 +22,14 @@ Curves shipped by ``speclite`` are treated as photon-counting responses, as
 that package itself does.
 """
 
+import functools
+import warnings
+
 import numpy as np
 from astropy import units as u
 
 from redcorr._validate import check_positive
-from redcorr.exceptions import InputError
+from redcorr.exceptions import InputError, TruncatedBandWarning
 
 __all__ = ["Band", "CONVENTIONS", "tophat", "gaussian", "product"]
 
@@ -95,14 +98,14 @@ class Band:
     >>> from redcorr.bandpass import tophat
     >>> band = tophat(0.55, 0.1)
     >>> round(band.pivot_um, 4)
-    0.5485
+    0.5492
     """
 
     def __init__(self, wave, response, *, name, convention="photon", provenance=""):
         w = _to_um(wave, "wave")
-        t = np.asarray(response, dtype=float) if not isinstance(response, u.Quantity) else (
-            np.asarray(response.to_value(u.dimensionless_unscaled), dtype=float)
-        )
+        if isinstance(response, u.Quantity):
+            response = response.to_value(u.dimensionless_unscaled)
+        t = np.asarray(response, dtype=float)
         if w.ndim != 1 or t.shape != w.shape:
             raise InputError(
                 f"band {name!r}: wave and response must be 1-d of equal length; "
@@ -162,17 +165,17 @@ class Band:
             f = f * self.weight(lam)
         return float(np.sum(0.5 * (b - a)[:, None] * weights * f))
 
-    @property
+    @functools.cached_property
     def pivot_um(self):
         """float: pivot wavelength λ_p in µm (depends on the convention; see Notes)."""
         return float(np.sqrt(self._moment(0, True) / self._moment(-2, True)))
 
-    @property
+    @functools.cached_property
     def mean_um(self):
         """float: mean wavelength ∫λT dλ / ∫T dλ in µm."""
         return self._moment(1, False) / self._moment(0, False)
 
-    @property
+    @functools.cached_property
     def width_um(self):
         """float: width ∫T dλ / max T in µm."""
         return self._moment(0, False) / float(np.max(self.response))
@@ -203,6 +206,17 @@ class Band:
     def truncated(self):
         """bool: whether the response is above 1 % of its peak at either end."""
         return max(self.edge_fraction) > _EDGE_FRACTION
+
+    def warn_if_truncated(self):
+        """Issue a `TruncatedBandWarning` if the response is cut off at an end (see `truncated`)."""
+        if self.truncated:
+            blue, red = self.edge_fraction
+            warnings.warn(
+                f"band {self.name!r} is cut off: its response is {100 * blue:.3g}% (blue end) and "
+                f"{100 * red:.3g}% (red end) of its peak; redcorr takes it as zero beyond the last samples",
+                TruncatedBandWarning,
+                stacklevel=3,
+            )
 
     def describe(self):
         """dict with name, convention, range, pivot, mean and width (µm), and provenance."""

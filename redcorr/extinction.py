@@ -32,6 +32,7 @@ integrated exactly. The result converges to better than 10⁻⁴ mag for A_V
 up to 20 (tested).
 """
 
+import functools
 import math
 import warnings
 
@@ -43,7 +44,7 @@ from numpy.polynomial import polynomial as P
 
 from redcorr._validate import check_finite
 from redcorr.bandpass import Band
-from redcorr.exceptions import InputError, OutOfRangeWarning, TruncatedBandWarning
+from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.sed import SED, planck_log_flam
 
 __all__ = [
@@ -72,6 +73,14 @@ _LN10_04 = 0.4 * math.log(10.0)
 
 
 # --------------------------------------------------------------------------- quadrature
+@functools.lru_cache(maxsize=16)
+def _leggauss(n):
+    nodes, weights = L.leggauss(n)
+    nodes.setflags(write=False)
+    weights.setflags(write=False)
+    return nodes, weights
+
+
 def band_quadrature(band, *, order=_ORDER, max_dx=_MAX_DX, min_intervals=_MIN_INTERVALS):
     """Nodes and weights with ∫ T(λ) w(λ) g(λ) dλ ≈ Σ_j q_j g(λ_j) for smooth g.
 
@@ -110,7 +119,7 @@ def band_quadrature(band, *, order=_ORDER, max_dx=_MAX_DX, min_intervals=_MIN_IN
     k_int = max(int(min_intervals), int(math.ceil((x_hi - x_lo) / max_dx)))
     bounds = np.sort(1.0 / np.linspace(x_lo, x_hi, k_int + 1))
     bounds[0], bounds[-1] = lo, hi
-    xi, _ = L.leggauss(order)
+    xi, _ = _leggauss(order)
     mid = 0.5 * (bounds[1:] + bounds[:-1])
     half = 0.5 * (bounds[1:] - bounds[:-1])
     nodes = mid[:, None] + half[:, None] * xi
@@ -118,7 +127,7 @@ def band_quadrature(band, *, order=_ORDER, max_dx=_MAX_DX, min_intervals=_MIN_IN
     knots = band.wave_um[(band.wave_um > lo) & (band.wave_um < hi)]
     edges = np.unique(np.concatenate([bounds, knots]))
     a, b = edges[:-1], edges[1:]
-    t_ref, t_w = L.leggauss((order + 3) // 2)
+    t_ref, t_w = _leggauss((order + 3) // 2)
     pts = 0.5 * (a + b)[:, None] + 0.5 * (b - a)[:, None] * t_ref
     k = np.clip(np.searchsorted(bounds, 0.5 * (a + b)) - 1, 0, k_int - 1)
     ref = (pts - mid[k][:, None]) / half[k][:, None]
@@ -146,14 +155,7 @@ def _curve_at(curve, band, nodes, extrapolate):
 def _check_band(band):
     if not isinstance(band, Band):
         raise InputError(f"band must be a Band; got {type(band).__name__} (load names with redcorr.io.filters.load_band)")
-    if band.truncated:
-        blue, red = band.edge_fraction
-        warnings.warn(
-            f"band {band.name!r} is cut off: its response is {100 * blue:.3g}% (blue end) and "
-            f"{100 * red:.3g}% (red end) of its peak; redcorr takes it as zero beyond the last samples",
-            TruncatedBandWarning,
-            stacklevel=3,
-        )
+    band.warn_if_truncated()
 
 
 def _as_av(a_v):
@@ -282,6 +284,13 @@ def colour_excess_ratio(curve, band1, band2, sed, a_v, extrapolate=False):
 
 
 # --------------------------------------------------------------------------- grid
+def _as_kelvin(temperature):
+    """Temperatures in K as float64 (a Quantity in any temperature unit is converted)."""
+    if isinstance(temperature, u.Quantity):
+        temperature = temperature.to_value(u.K, equivalencies=u.temperature())
+    return np.asarray(temperature, dtype=float)
+
+
 def _axis(name, values, lo):
     arr = np.asarray(values, dtype=float)
     if arr.ndim != 1 or arr.size < 2:
@@ -300,10 +309,10 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
     ----------
     curve : ExtinctionCurve
     bands : sequence of Band
-    temperatures : array_like, optional
-        Increasing temperatures in K (> 0); default
+    temperatures : array_like or `~astropy.units.Quantity` ['temperature'], optional
+        Increasing temperatures (plain numbers in K, > 0); default
         :data:`DEFAULT_TEMPERATURES` (3000–50000 K).
-    a_v : array_like, optional
+    a_v : array_like or `~astropy.units.Quantity` ['mag'], optional
         Increasing A_V values in mag (>= 0); default :data:`DEFAULT_A_V`
         (0–20).
     extrapolate : bool
@@ -327,8 +336,8 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
     bands = list(bands)
     if not bands:
         raise InputError("bands is empty; give at least one band")
-    temps = _axis("temperatures", DEFAULT_TEMPERATURES if temperatures is None else temperatures, 1e-300)
-    avs = _axis("a_v", DEFAULT_A_V if a_v is None else a_v, 0.0)
+    temps = _axis("temperatures", DEFAULT_TEMPERATURES if temperatures is None else _as_kelvin(temperatures), 1e-300)
+    avs = _axis("a_v", DEFAULT_A_V if a_v is None else _as_av(a_v), 0.0)
     names = [b.name for b in bands]
     if len(set(names)) != len(names):
         raise InputError(f"band names must be distinct; got {names}")
@@ -390,8 +399,11 @@ class CoefficientGrid:
     Notes
     -----
     :meth:`a_band` interpolates ``ratio`` bilinearly in (ln T, A_V) and
-    multiplies by A_V. Points outside the grid take the value at the nearest
-    edge, with an `OutOfRangeWarning`; :meth:`inside` flags them.
+    multiplies by A_V. With the default axes this stays within 2e-3 mag of
+    direct integration between the nodes (tested on the KW-CAM bands; the
+    largest errors are for cool stars at large A_V). Points outside the grid
+    take the value at the nearest edge, with an `OutOfRangeWarning`;
+    :meth:`inside` flags them.
     """
 
     def __init__(self, bands, temperatures, a_v, ratio, mag0, *, meta=None):
@@ -405,12 +417,13 @@ class CoefficientGrid:
             raise InputError(f"grid shapes do not match: ratio {self.ratio.shape}, expected {expect}")
         self.meta = dict(meta or {})
         self._log_t = np.log(self.temperatures)
-        self._ratio_last = np.ascontiguousarray(np.moveaxis(self.ratio, 0, -1))  # (T, A, B)
+        # (T·A, B): one contiguous row of band ratios per grid node, for fast gathers.
+        self._ratio_flat = np.ascontiguousarray(np.moveaxis(self.ratio, 0, -1)).reshape(-1, len(self.bands))
 
     def inside(self, a_v, temperature):
         """bool ndarray: whether (a_v, temperature) lies inside the grid (NaN → False)."""
-        a = np.asarray(a_v, dtype=float)
-        t = np.asarray(temperature, dtype=float)
+        a = _as_av(a_v)
+        t = _as_kelvin(temperature)
         return (
             (a >= self.a_v[0]) & (a <= self.a_v[-1])
             & (t >= self.temperatures[0]) & (t <= self.temperatures[-1])
@@ -425,7 +438,7 @@ class CoefficientGrid:
     def ratio_at(self, a_v, temperature):
         """A_b/A_V interpolated; shape ``broadcast(a_v, temperature).shape + (n_band,)``."""
         a = _as_av(a_v)
-        t = np.asarray(temperature, dtype=float)
+        t = _as_kelvin(temperature)
         a, t = np.broadcast_arrays(a, t)
         if np.any(t <= 0):
             raise InputError(f"temperature={t[t <= 0].flat[0]:g} must be > 0 K")
@@ -443,14 +456,13 @@ class CoefficientGrid:
         lt = np.log(np.where(nan, self.temperatures[0], t))
         i, fi = self._locate(self._log_t, lt)
         j, fj = self._locate(self.a_v, a0)
-        g = self._ratio_last
-        fi, fj = fi[..., None], fj[..., None]
-        out = (
-            g[i, j] * (1 - fi) * (1 - fj)
-            + g[i + 1, j] * fi * (1 - fj)
-            + g[i, j + 1] * (1 - fi) * fj
-            + g[i + 1, j + 1] * fi * fj
-        )
+        g = self._ratio_flat
+        n_a = self.a_v.size
+        k = i * n_a + j
+        out = g.take(k, axis=0)
+        out *= ((1 - fi) * (1 - fj))[..., None]
+        for step, weight in ((n_a, fi * (1 - fj)), (1, (1 - fi) * fj), (n_a + 1, fi * fj)):
+            out += g.take(k + step, axis=0) * weight[..., None]
         out[nan] = np.nan
         return out
 

@@ -18,7 +18,7 @@ import sys
 import traceback
 import warnings
 
-from redcorr.exceptions import InputError
+from redcorr.exceptions import InputError, RedcorrWarning
 
 __all__ = ["main", "build_parser", "COMMANDS"]
 
@@ -58,6 +58,7 @@ def main(argv=None):
     except SystemExit as exc:  # argparse reports usage errors with status 2
         return int(exc.code or 0)
     with warnings.catch_warnings():
+        warnings.simplefilter("always", RedcorrWarning)
         warnings.showwarning = _show_warning
         try:
             return int(args.func(args) or 0)

@@ -40,7 +40,10 @@ def run(args):
         return _list(args.json)
     if not args.names:
         raise InputError("NAME is missing; give one or more bands, or --list")
-    rows = [load_band(spec).describe() for spec in args.names]
+    bands = [load_band(spec) for spec in args.names]
+    for band in bands:
+        band.warn_if_truncated()
+    rows = [band.describe() for band in bands]
     if args.json:
         print_json(rows)
     else:

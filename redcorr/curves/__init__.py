@@ -3,7 +3,7 @@
 Choose a law by its short name::
 
     >>> from redcorr.curves import get_curve
-    >>> curve = get_curve("F99", r_v=3.1)
+    >>> curve = get_curve("CCM89", r_v=3.1)
     >>> round(float(curve(0.55)), 2)
     1.0
 

@@ -115,8 +115,10 @@ class ExtinctionCurve(abc.ABC):
         """
         x = inverse_micron(wave)
         self._check_x(x, extrapolate)
-        out = np.full(x.shape, np.nan)
         ok = np.isfinite(x)
+        if ok.all():
+            return self._evaluate(x.ravel()).reshape(x.shape)[()]
+        out = np.full(x.shape, np.nan)
         out[ok] = self._evaluate(x[ok])
         return out[()]
 

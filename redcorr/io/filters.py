@@ -14,7 +14,9 @@ A band specification (``spec``) is one of
 * ``tophat:CENTRE_UM:WIDTH_UM`` — response 1 inside, 0 outside;
 * ``gauss:CENTRE_UM:FWHM_UM`` — a Gaussian of that FWHM;
 * several of the above joined by ``*`` — their product on a common grid,
-  e.g. ``kw-v*file:qe.ecsv`` (filter × detector QE × optics × atmosphere).
+  e.g. ``kw-v*file:qe.ecsv`` (filter × detector QE × optics × atmosphere);
+  so a file name containing ``*`` cannot be used in a specification
+  (call :func:`read_band_file` instead).
 
 An ECSV file may say ``convention: energy`` in its meta (default
 ``photon``) and name its origin in ``source``, ``description`` or ``url``.
