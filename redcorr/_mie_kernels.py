@@ -24,25 +24,38 @@ def _n_terms(x):
 
 
 @njit(cache=True)
+def _start_index(w):
+    """Start of the downward recurrence for |z| = w: n_stop(w) + 6 w^(1/3) + 16."""
+    return _n_terms(w) + int(6.0 * w ** (1.0 / 3.0)) + 16
+
+
+@njit(cache=True)
 def _coefficients(m, x, a, b, sz, sx):
     """Fill a[:nstop], b[:nstop] with a_n, b_n (n = 1..nstop); return nstop.
 
     ``sz`` (complex) and ``sx`` (float) are work arrays of length >= nstop + 1.
     """
     nstop = _n_terms(x)
-    nstart = max(nstop, _n_terms(abs(m) * x)) + 16
+    nstart = _start_index(max(abs(m), 1.0) * x)
     z = m * x
     z2 = z * z
     x2 = x * x
-    # downward recurrence s_(n-1) = -z^2 / (2n + 1 + s_n), from s = 0 at nstart
-    s = 0j
-    for n in range(nstart, nstop, -1):
-        s = -z2 / (2 * n + 1 + s)
-    sz[nstop] = s
-    for n in range(nstop, 0, -1):
-        sz[n - 1] = -z2 / (2 * n + 1 + sz[n])
+    # downward recurrence s_(n-1) = -z^2 / (2n + 1 + s_n), from s = 0 at nstart,
+    # in real arithmetic: |2n + 1 + s|^2 stays far from overflow (|s| ~ |z|)
+    pr = -z2.real
+    pi = -z2.imag
+    sr = 0.0
+    si = 0.0
+    for n in range(nstart, 0, -1):
+        wr = 2 * n + 1 + sr
+        wi = si
+        inv = 1.0 / (wr * wr + wi * wi)
+        sr = (pr * wr + pi * wi) * inv
+        si = (pi * wr - pr * wi) * inv
+        if n <= nstop + 1:
+            sz[n - 1] = complex(sr, si)
     t = 0.0
-    for n in range(nstart, nstop, -1):
+    for n in range(_start_index(x), nstop, -1):
         t = -x2 / (2 * n + 1 + t)
     sx[nstop] = t
     for n in range(nstop, 0, -1):

@@ -2,7 +2,7 @@
 
 Both are normalized over the sphere, ∫ p dΩ = 1 (sr⁻¹), so they can be
 compared directly. Plain angles are radians; an astropy Quantity may carry
-any angle unit.
+any angle unit. Equation numbers of Bohren & Huffman (1983) are cited from memory.
 """
 
 from dataclasses import dataclass
@@ -41,7 +41,7 @@ def henyey_greenstein(theta, g):
 
     References
     ----------
-    .. [1] Henyey, L. G. & Greenstein, J. L. 1941, ApJ 93, 70, eq. 3.
+    .. [1] Henyey, L. G. & Greenstein, J. L. 1941, ApJ 93, 70.
 
     Examples
     --------
@@ -56,7 +56,7 @@ def henyey_greenstein(theta, g):
         raise InputError(f"g={g!r} is not a number") from None
     bad = ~np.isfinite(g) | (np.abs(g) >= 1)
     if np.any(bad):
-        raise InputError(f"g={g[bad].flat[0]!r} is outside the allowed range (-1, 1)")
+        raise InputError(f"g={float(g[bad].flat[0])!r} is outside the allowed range (-1, 1)")
     return (1 - g**2) / (4 * np.pi * (1 + g**2 - 2 * g * mu) ** 1.5)
 
 
@@ -171,7 +171,10 @@ def population_phase_function(m, radius, weight, wavelength, theta, *, conventio
        Light by Small Particles (Wiley), §3.4, §4.4.
     """
     a = _lengths_um("radius", radius)
-    w = np.asarray(weight, dtype=float)
+    try:
+        w = np.asarray(weight, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"weight={weight!r} is not numeric") from None
     lam = _lengths_um("wavelength", wavelength)
     if a.ndim != 1 or a.size == 0:
         raise InputError(f"radius must be a non-empty 1-d array, not shape {a.shape}")
@@ -179,14 +182,16 @@ def population_phase_function(m, radius, weight, wavelength, theta, *, conventio
         raise InputError(f"weight of shape {w.shape} must match radius of shape {a.shape}")
     bad = ~np.isfinite(a) | (a <= 0)
     if np.any(bad):
-        raise InputError(f"radius={a[bad][0]!r} must be a finite length > 0")
+        raise InputError(f"radius={float(a[bad][0])!r} must be a finite length > 0")
     bad = ~np.isfinite(w) | (w < 0)
     if np.any(bad):
-        raise InputError(f"weight={w[bad][0]!r} must be finite and >= 0")
+        raise InputError(f"weight={float(w[bad][0])!r} must be finite and >= 0")
     if not np.sum(w) > 0:
         raise InputError("weight must have at least one value > 0")
     if lam.ndim or not np.isfinite(lam) or lam <= 0:
         raise InputError(f"wavelength={wavelength!r} must be a single length > 0")
+    if np.ndim(m) and np.shape(m) != a.shape:
+        raise InputError(f"m of shape {np.shape(m)} must be one value or one per radius, shape {a.shape}")
     th = _angles(theta)
     k = 2 * np.pi / float(lam)
     x = k * a

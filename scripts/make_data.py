@@ -3,8 +3,7 @@
 The sdist carries, as plain data files, Draine's dielectric tables, the
 Weingartner & Draine (2001) Table 1 and tabulated size distributions, and
 Draine's published extinction tables for the WD01 Milky Way mixtures. This
-script reads those data files straight from the tarball (it never builds or
-imports the package) and writes
+script reads those data files straight from the tarball and writes
 
 * ``redcorr/data/optical_*.ecsv``: optical constants (wavelength, n, k),
 * ``redcorr/data/wd01_table1.ecsv``: WD01 Table 1 size-distribution parameters,
@@ -12,6 +11,10 @@ imports the package) and writes
 * ``tests/data/wd01_sizes.ecsv``: WD01 (1/n_H) dn/da sampled on 100 radii,
 
 each with units and a citation (paper and DOI) in its header.
+
+It never builds, installs or imports the package and reads none of its
+code (``pip download`` itself may run the sdist's setup script to read its
+metadata; pass ``--sdist`` to avoid even that).
 
 Usage::
 

@@ -69,7 +69,7 @@ def test_carbon_count_and_hydrogenation():
     # Li & Draine (2001 §2) quote N_C ≈ 460 (a/10 Å)³ (from memory); we use the graphite density,
     # 2.24 g cm⁻³, which gives 471.
     assert n_carbon(0.001) == pytest.approx(460, rel=0.03)
-    # H/C = 0.5 (N_C ≤ 25), 0.5/√(N_C/25) up to 100, 0.25 beyond (Li & Draine 2001, eq. 4, from memory).
+    # H/C = 0.5 (N_C ≤ 25), 0.5/√(N_C/25) up to 100, 0.25 beyond (Li & Draine 2001 §2, from memory).
     np.testing.assert_allclose(h_to_c([20, 100, 400]), [0.5, 0.25, 0.25])
 
 

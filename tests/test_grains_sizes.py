@@ -160,3 +160,18 @@ def test_unknown_size_type():
 
     with pytest.raises(UnknownNameError, match="sizes.type='powerlaw'"):
         build_component({"material": "silicate-d03", "sizes": {"type": "powerlaw"}})
+
+
+def test_tabulated_sizes_range_must_lie_inside_the_table():
+    table = TabulatedSizes([0.01, 0.1, 1.0], [1.0, 1e-3, 1e-6], a_min=0.02, a_max=0.5)
+    assert table(0.015) == 0.0 and table(0.05) > 0
+    with pytest.raises(InputError, match=r"a_max=2 µm lies outside the radii of size table table, \[0.01, 1\]"):
+        TabulatedSizes([0.01, 0.1, 1.0], [1.0, 1e-3, 1e-6], a_max=2.0)
+
+
+def test_wd01_explicit_and_named_parameters_conflict():
+    from redcorr.grains import build_component
+
+    spec = {"type": "wd01-silicate", "r_v": 3.1, "alpha": -1.5}
+    with pytest.raises(InputError, match="not both"):
+        build_component({"material": "silicate-d03", "sizes": spec})

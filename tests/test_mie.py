@@ -1,40 +1,381 @@
-"""Tests of redcorr.mie against outside references."""
+"""Tests of redcorr.mie against outside references.
+
+References used below:
+* Bohren, C. F. & Huffman, D. R. 1983, Absorption and Scattering of Light by
+  Small Particles (Wiley) -- "BH83"; its equation numbers are cited from memory.
+* van de Hulst, H. C. 1957, Light Scattering by Small Particles (Wiley); section
+  numbers from memory.
+* scipy.special spherical Bessel functions (a general reference library).
+* miepython (PyPI), a general-purpose Mie code, as a test peer; it writes
+  m = n - ik, so its indices are the complex conjugates of ours.
+"""
+
+import os
+import subprocess
+import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
+from astropy import units as u
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy.integrate import trapezoid
+from scipy.special import spherical_jn, spherical_yn
 
+import redcorr
+import redcorr.mie as mie_module
 from redcorr.exceptions import InputError
-from redcorr.mie import mie
+from redcorr.mie import amplitudes, mie, mie_coefficients, n_terms, phase_function
+
+ROOT = Path(__file__).resolve().parents[1]
+
+# refractive indices spanning weak to strong absorption and |m| up to 10
+M_GRID = np.array([1.33, 1.05 + 0.001j, 1.5 + 0.01j, 1.7 + 0.6j, 2.0 + 1.0j, 3.0 + 4.0j, 10.0 + 0.1j, 10.0 + 10.0j])
 
 
-def test_rayleigh_limit():
-    # Bohren & Huffman 1983, eqs. 5.8 (Q_abs) and 5.7 (Q_sca), from memory:
-    # Q_abs = 4x Im[(m²-1)/(m²+2)], Q_sca = (8/3) x⁴ |(m²-1)/(m²+2)|²
-    m = np.array([1.5 + 0.01j, 1.33 + 0j, 3.0 + 4.0j, 1.7 + 0.6j])
-    x = 1e-4
-    pol = (m**2 - 1) / (m**2 + 2)
+@pytest.fixture(params=["numba", "numpy"])
+def path(request, monkeypatch):
+    """Run a test on the numba kernel and on the numpy fallback."""
+    monkeypatch.setattr(mie_module, "USE_NUMBA", request.param == "numba")
+    return request.param
+
+
+def direct_series(m, x):
+    """Q_ext, Q_sca, Q_back, g summed from scipy's spherical Bessel functions.
+
+    a_n and b_n from BH83 eq. 4.53 (with the medium's permeability equal to
+    the sphere's), psi_n(z) = z j_n(z), xi_n(z) = z h_n^(1)(z); the sums from
+    BH83 eqs. 4.61, 4.62, 4.82 and the g formula below eq. 4.92 (BH83 p. 120).
+    Independent of redcorr's recurrences: no logarithmic derivative is used.
+    """
+    nstop = int(x + 4.05 * x ** (1 / 3) + 2)
+    n = np.arange(1, nstop + 1)
+    mx = m * x
+
+    def psi(z):
+        return z * spherical_jn(n, z)
+
+    def dpsi(z):
+        return spherical_jn(n, z) + z * spherical_jn(n, z, derivative=True)
+
+    h = spherical_jn(n, x) + 1j * spherical_yn(n, x)
+    dh = spherical_jn(n, x, derivative=True) + 1j * spherical_yn(n, x, derivative=True)
+    xi, dxi = x * h, h + x * dh
+    a = (m * psi(mx) * dpsi(x) - psi(x) * dpsi(mx)) / (m * psi(mx) * dxi - xi * dpsi(mx))
+    b = (psi(mx) * dpsi(x) - m * psi(x) * dpsi(mx)) / (psi(mx) * dxi - m * xi * dpsi(mx))
+    f = 2 * n + 1
+    qext = 2 / x**2 * np.sum(f * (a + b).real)
+    qsca = 2 / x**2 * np.sum(f * (abs(a) ** 2 + abs(b) ** 2))
+    qback = abs(np.sum(f * (-1.0) ** n * (a - b))) ** 2 / x**2
+    nn = n[:-1]
+    cross = np.sum(nn * (nn + 2) / (nn + 1) * (a[:-1] * a[1:].conj() + b[:-1] * b[1:].conj()).real)
+    cross += np.sum(f / (n * (n + 1)) * (a * b.conj()).real)
+    return qext, qsca, qback, 4 / x**2 * cross / qsca
+
+
+@pytest.mark.parametrize("m", [1.33, 1.5 + 0.01j, 2.0 + 1.0j, 3.0 + 4.0j, 1.2 + 0.05j])
+@pytest.mark.parametrize("x", [0.3, 1.0, 4.0, 12.0, 30.0])
+def test_direct_bessel_series(path, m, x):
+    # scipy.special spherical Bessel functions, direct series (BH83 eq. 4.53);
+    # moderate x and |m|x where the direct evaluation itself is accurate
     r = mie(m, x)
+    ref = direct_series(m, x)
+    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], ref, rtol=1e-9)
+
+
+# 60-digit mpmath 1.3.0 evaluation of the direct series (a_n, b_n of BH83 eq. 4.53
+# with psi_n, chi_n from mpmath.besselj/bessely of half-integer order, the same
+# n_stop = int(x + 4.05 x^(1/3) + 2) terms), computed once for this file:
+# (m, x): (Q_ext, Q_sca, Q_back, g)
+HIGH_PRECISION = {
+    (1.5 + 0.01j, 1e-6): (1.993074066512726e-08, 2.30775833111006e-25, 3.461637496663456e-25, 1.983297511090096e-13),
+    (1.001 + 1e-7j, 1e-3): (
+        2.6657760171475935e-10, 1.1847891693955675e-18, 1.7771830430301698e-18, 1.600587114880609e-07
+    ),
+    (10 + 10j, 0.05): (0.006352619992340213, 1.6720032146542233e-05, 2.5100822991024322e-05, -0.0004975049086287714),
+    (1.33, 0.3): (0.0008924603817483723, 0.0008924603817483723, 0.0012859856110277888, 0.016435545442861087),
+    (3 + 4j, 30.0): (2.258304476890548, 1.7517323857083749, 0.6035417164918788, 0.6367843563733393),
+    (5.52, 120.0): (2.0562137546701633, 2.0562137546701633, 71.54332760175558, 0.5032819578120913),
+}
+
+
+@pytest.mark.parametrize(("m", "x"), list(HIGH_PRECISION))
+def test_high_precision_reference(path, m, x):
+    # tiny x, m close to 1, |m| = 14, a large real index: all to ~1e-14
+    r = mie(m, x)
+    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], HIGH_PRECISION[(m, x)], rtol=2e-13)
+
+
+def test_peer_miepython_grid():
+    # miepython 3 (PyPI), used only as a test peer; agreement where |m|x >= 0.1,
+    # below which the peer switches to its own small-particle approximation
+    miepython = pytest.importorskip("miepython")
+    x = np.logspace(-1.5, 3, 16)
+    mm, xx = np.meshgrid(M_GRID, x, indexing="ij")
+    keep = np.abs(mm) * xx >= 0.1
+    m, x = mm[keep], xx[keep]
+    qext, qsca, qback, g = miepython.efficiencies_mx(np.conj(m), x)
+    r = mie(m, x)
+    np.testing.assert_allclose(r.qext, qext, rtol=1e-9)
+    np.testing.assert_allclose(r.qsca, qsca, rtol=1e-9)
+    np.testing.assert_allclose(r.g, g, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(r.qback, qback, rtol=1e-6)
+
+
+def test_peer_at_largest_sizes():
+    # miepython 3 (PyPI) as peer at x = 1e4, including |m| < 1 and a real index,
+    # where too low a start of the D_n recurrence shows up first
+    miepython = pytest.importorskip("miepython")
+    m = np.array([1.33, 0.8 + 0.01j, 1.5 + 0.01j])
+    qext, qsca, qback, g = miepython.efficiencies_mx(np.conj(m), np.full(3, 1e4))
+    r = mie(m, 1e4)
+    np.testing.assert_allclose(r.qext, qext, rtol=1e-11)
+    np.testing.assert_allclose(r.qsca, qsca, rtol=1e-11)
+    np.testing.assert_allclose(r.g, g, rtol=1e-11)
+
+
+def test_peer_documented_example():
+    # miepython 3.3 docstring of efficiencies_mx: m = 1.5 - 0.01j (its convention), x = 2
+    # gives "1.812597 1.724396 0.266214 0.630214"
+    r = mie(1.5 - 0.01j, 2.0, convention="n-ik")
+    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], [1.812597, 1.724396, 0.266214, 0.630214], atol=6e-7)
+
+
+def test_rayleigh_limit(path):
+    # BH83 eqs. 5.7 and 5.8 (Rayleigh limit), from memory:
+    # Q_abs = 4x Im[(m²-1)/(m²+2)], Q_sca = (8/3) x⁴ |(m²-1)/(m²+2)|²;
+    # corrections are O(|m|²x²) relative, below 2e-8 here
+    x = 1e-5
+    pol = (M_GRID**2 - 1) / (M_GRID**2 + 2)
+    r = mie(M_GRID, x)
     np.testing.assert_allclose(r.qsca, 8 / 3 * x**4 * np.abs(pol) ** 2, rtol=1e-6)
-    absorbing = m.imag > 0
+    absorbing = M_GRID.imag > 0
     np.testing.assert_allclose(r.qabs[absorbing], 4 * x * pol.imag[absorbing], rtol=1e-6)
 
 
-def test_energy_conservation_and_shape():
-    # Q_ext = Q_sca + Q_abs by definition (common practice, no source)
-    r = mie(np.array([[1.5 + 0.01j], [2.0 + 1.0j]]), np.array([0.5, 5.0, 50.0]))
-    assert r.qext.shape == (2, 3)
+def test_rayleigh_power_laws_down_to_smallest_size(path):
+    # Rayleigh limit (BH83 eqs. 5.7, 5.8 and, for Q_back = 4x⁴|(m²-1)/(m²+2)|²,
+    # BH83 §5.2, from memory): Q_abs ∝ x, Q_sca and Q_back ∝ x⁴, and g ∝ x²
+    # (lowest-order a_1 a_2* and a_1 b_1* terms, from memory); exact scaling
+    # from x = 1e-6 down to the smallest accepted x = 1e-30
+    m = np.array([1.5 + 0.01j, 10.0 + 10.0j, 1.001, 0.5 + 0.001j])
+    x = np.array([1e-6, 1e-30])
+    r = mie(m[:, None], x)
+    pol = (m**2 - 1) / (m**2 + 2)
+    np.testing.assert_allclose(r.qback / x**4, (4 * np.abs(pol) ** 2)[:, None] * [1, 1], rtol=1e-6)
+    for q, power in ((r.qext, 1), (r.qsca, 4), (r.g, 2)):
+        scaled = q / x**power if power != 1 else np.where(m.imag[:, None] > 0, q / x, q / x**4)
+        # (corrections at x = 1e-6 are O(|m|²x²) ~ 2e-10, a few times that for g)
+        np.testing.assert_allclose(scaled[:, 1], scaled[:, 0], rtol=5e-9)
+
+
+@pytest.mark.parametrize("x", [1e-6, 1e-3])
+def test_tiny_spheres_keep_precision(path, x):
+    # Rayleigh limit (BH83 eqs. 5.7, 5.8, from memory) holds to relative O(x²),
+    # i.e. to ~1e-12 or better here; g of a Rayleigh sphere is O(x²) and
+    # its forward/backward balance must still add up (Q_ext = Q_sca + Q_abs).
+    m = np.array([1.5 + 0.01j, 1.5, 10.0 + 10.0j, 1.001])
+    pol = (m**2 - 1) / (m**2 + 2)
+    r = mie(m, x)
+    np.testing.assert_allclose(r.qsca, 8 / 3 * x**4 * np.abs(pol) ** 2, rtol=max(10 * x**2, 1e-12))
+    assert np.all(np.abs(r.g) < 10 * x**2)
+    # a real index scatters without absorbing: Q_ext equals Q_sca to full precision
+    real = m.imag == 0
+    np.testing.assert_allclose(r.qext[real], r.qsca[real], rtol=1e-12)
+
+
+def test_small_absorbing_grains_depend_on_volume_only(path):
+    # fact of the trade (common practice, no source): for absorbing grains with
+    # x << 1, C_ext ∝ volume, so one grain split into 1000 of the same total
+    # volume gives the same extinction
+    # (corrections are O(|m|²x²) relative, below 1e-6 here)
+    m = np.array([1.7 + 0.6j, 3.0 + 4.0j, 1.5 + 0.01j])
+    x_big = 2e-4
+    x_small = x_big / 1000 ** (1 / 3)
+    c_big = mie(m, x_big).qext * x_big**2  # C_ext ∝ Q_ext x² at fixed wavelength
+    c_many = 1000 * mie(m, x_small).qext * x_small**2
+    np.testing.assert_allclose(c_many, c_big, rtol=1e-5)
+
+
+def test_extinction_paradox(path):
+    # van de Hulst 1957, §8.22 (extinction paradox): Q_ext -> 2 for x -> infinity
+    r = mie(M_GRID[:, None], np.array([300.0, 3000.0]))
+    assert np.all(np.abs(r.qext[:, 1] - 2) < 0.02)
+    assert np.all(np.abs(r.qext[:, 1] - 2) < np.abs(r.qext[:, 0] - 2))
+
+
+def test_extinction_paradox_at_largest_sizes():
+    # van de Hulst 1957, §8.22: Q_ext -> 2; x = 1e4 with |m| up to 14 (numba kernel)
+    r = mie(M_GRID, 1e4)
+    assert np.all(np.abs(r.qext - 2) < 0.01)
+
+
+def test_energy_conservation_and_shape(path):
+    # Q_ext = Q_sca + Q_abs with Q_abs >= 0 (BH83 eq. 3.25; common practice)
+    r = mie(M_GRID[:, None], np.logspace(-6, 3, 10))
+    assert r.qext.shape == (M_GRID.size, 10)
     np.testing.assert_allclose(r.qext, r.qsca + r.qabs, rtol=1e-12)
+    assert np.all(r.qabs >= 0)
+    assert np.all(r.qabs[M_GRID.imag == 0] == 0)
+    assert np.all((r.g > -1) & (r.g < 1))
 
 
-@pytest.mark.parametrize("x", [-1.0, np.nan, 0.0, np.inf])
-def test_bad_size(x):
-    with pytest.raises(InputError, match="x="):
-        mie(1.5, x)
+def test_numba_and_numpy_paths_agree(monkeypatch):
+    # same formulas compiled and in numpy (common practice, no source)
+    # (the numpy path is slow for |m|x ~ 1e5, so the largest x only for |m| <= 1.5)
+    m = np.append(M_GRID[:, None] + np.zeros(10), [1.5 + 0.01j] * 10)
+    x = np.append(np.tile(np.append(np.logspace(-6, 2, 9), 1234.5), M_GRID.size), np.logspace(-6, 4, 10))
+    theta = np.linspace(0, np.pi, 5)
+    monkeypatch.setattr(mie_module, "USE_NUMBA", True)
+    a = mie(m, x)
+    s_a = amplitudes(M_GRID[:, None], x[:8], theta)
+    monkeypatch.setattr(mie_module, "USE_NUMBA", False)
+    b = mie(m, x)
+    s_b = amplitudes(M_GRID[:, None], x[:8], theta)
+    for name in ("qext", "qsca", "qabs", "qback", "g"):
+        # Q_back sums alternating terms: relative rounding ~1e-8 at x ~ 1e4
+        rtol = 1e-7 if name == "qback" else 1e-10
+        np.testing.assert_allclose(getattr(a, name), getattr(b, name), rtol=rtol, atol=1e-300, err_msg=name)
+    np.testing.assert_allclose(s_a, s_b, rtol=1e-10)
 
 
-def test_sign_convention():
-    with pytest.raises(InputError, match="negative imaginary part"):
-        mie(1.5 - 0.1j, 1.0)
-    a = mie(1.5 - 0.1j, 1.0, convention="n-ik")
-    b = mie(1.5 + 0.1j, 1.0)
-    assert a.qext == b.qext
+@settings(max_examples=60, deadline=None)
+@given(
+    n=st.floats(0.1, 10.0),
+    log_k=st.floats(-8.0, 1.0),
+    absorbing=st.booleans(),
+    log_x=st.floats(-6.0, 2.0),
+)
+def test_physical_bounds_on_random_spheres(n, log_k, absorbing, log_x):
+    # common practice, no source: efficiencies are finite and >= 0, |g| < 1,
+    # Q_ext = Q_sca + Q_abs, and both code paths give the same numbers
+    m = complex(n, 10**log_k if absorbing else 0.0)
+    x = 10**log_x
+    a = mie(m, x)
+    before, mie_module.USE_NUMBA = mie_module.USE_NUMBA, False
+    try:
+        b = mie(m, x)
+    finally:
+        mie_module.USE_NUMBA = before
+    for r in (a, b):
+        assert np.isfinite([r.qext, r.qsca, r.qback, r.g]).all()
+        assert r.qsca >= 0 and r.qback >= 0 and r.qabs >= -1e-13 * r.qext
+        assert abs(r.g) < 1
+    np.testing.assert_allclose([a.qext, a.qsca, a.g], [b.qext, b.qsca, b.g], rtol=1e-10, atol=1e-300)
+
+
+def test_environment_variable_forces_numpy():
+    code = "import redcorr.mie as M; r = M.mie(1.5, 2.0); print(M.USE_NUMBA, float(r.qext))"
+    env = dict(os.environ, REDCORR_MIE_NUMPY="1")
+    out = subprocess.run([sys.executable, "-c", code], cwd=ROOT, env=env, capture_output=True, text=True, check=True)
+    used, qext = out.stdout.split()
+    assert used == "False"
+    # scipy direct series as reference (BH83 eq. 4.53)
+    np.testing.assert_allclose(float(qext), direct_series(1.5, 2.0)[0], rtol=1e-12)
+
+
+def test_scalar_and_quantity_input():
+    r = mie(1.5 + 0.01j, 2.0 * u.dimensionless_unscaled)
+    assert r.qext.shape == ()
+    assert isinstance(r.qext, np.ndarray)
+    np.testing.assert_allclose(r.albedo, r.qsca / r.qext)
+
+
+def test_module_is_callable():
+    # the issue's entry point redcorr.mie(m, x) and the contract's redcorr.mie.mie(m, x)
+    assert redcorr.mie(1.5, 2.0).qext == redcorr.mie.mie(1.5, 2.0).qext
+
+
+def test_term_count():
+    # Wiscombe 1980, Appl. Opt. 19, 1505, eq. 3 (8 < x < 4200): x + 4.05 x^(1/3) + 2
+    assert n_terms(100.0) == int(100 + 4.05 * 100 ** (1 / 3) + 2)
+    a, b = mie_coefficients(1.5, 100.0)
+    assert a.size == b.size == n_terms(100.0)
+
+
+# ------------------------------------------------------------ amplitudes
+
+
+def test_optical_theorem_and_backscatter(path):
+    # BH83 eq. 4.76 (optical theorem): Q_ext = (4/x²) Re S(0°), with S1(0) = S2(0);
+    # BH83 eq. 4.82 with 4.74: Q_back = 4 |S1(180°)|² / x²
+    m, x = M_GRID[:, None], np.array([0.2, 3.0, 40.0])
+    s1, s2 = amplitudes(m, x, [0.0, np.pi])
+    r = mie(m, x)
+    np.testing.assert_allclose(s1[..., 0], s2[..., 0], rtol=1e-12)
+    np.testing.assert_allclose(4 / x**2 * s1[..., 0].real, r.qext, rtol=1e-10)
+    np.testing.assert_allclose(4 / x**2 * np.abs(s1[..., 1]) ** 2, r.qback, rtol=1e-8)
+
+
+def test_amplitudes_against_peer(path):
+    # miepython 3 S1_S2 with norm="wiscombe" returns the unnormalized amplitudes
+    # in its exp(+iωt) convention: the complex conjugates of BH83's
+    miepython = pytest.importorskip("miepython")
+    theta = np.linspace(0, np.pi, 13)
+    for m, x in [(1.5 + 0.01j, 2.0), (3.0 + 4.0j, 25.0), (1.33, 0.7)]:
+        p1, p2 = miepython.S1_S2(np.conj(m), x, np.cos(theta), norm="wiscombe")
+        s1, s2 = amplitudes(m, x, theta)
+        np.testing.assert_allclose(s1, np.conj(p1), rtol=1e-9, atol=1e-12 * np.abs(p1).max())
+        np.testing.assert_allclose(s2, np.conj(p2), rtol=1e-9, atol=1e-12 * np.abs(p2).max())
+
+
+def test_phase_function_normalized_with_mean_cosine_g(path):
+    # ∫ p dΩ = 1 and ⟨cos θ⟩ = g (BH83 eqs. 3.13-3.14): the amplitude route
+    # must agree with the efficiency route
+    theta = np.linspace(0, np.pi, 20001)
+    m, x = np.array([1.5 + 0.01j, 2.0 + 1.0j]), np.array([[0.5], [5.0]])
+    p = phase_function(m, x, theta)
+    assert p.shape == (2, 2, theta.size)
+    w = 2 * np.pi * np.sin(theta)
+    np.testing.assert_allclose(trapezoid(p * w, theta, axis=-1), 1, rtol=1e-6)
+    g = trapezoid(p * w * np.cos(theta), theta, axis=-1)
+    np.testing.assert_allclose(g, mie(m, x).g, rtol=1e-5)
+
+
+def test_phase_function_rayleigh_shape():
+    # Rayleigh phase function 3(1 + cos²θ)/(16π) for x << 1 (BH83 §5.2, from memory)
+    theta = np.linspace(0, np.pi, 7)
+    p = phase_function(1.5 + 0.1j, 1e-4, theta)
+    np.testing.assert_allclose(p, 3 * (1 + np.cos(theta) ** 2) / (16 * np.pi), rtol=1e-6)
+
+
+def test_angles_as_quantity():
+    a = amplitudes(1.5, 2.0, 90 * u.deg)
+    b = amplitudes(1.5, 2.0, np.pi / 2)
+    np.testing.assert_allclose(a, b, rtol=1e-14)
+
+
+# ------------------------------------------------------------ bad input
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "match"),
+    [
+        ({"m": 1.5, "x": -1.0}, r"x=-1\.0 is outside the allowed range \[1e-30, 1e\+06\]"),
+        ({"m": 1.5, "x": 1e-31}, r"x=1e-31 is outside the allowed range"),
+        ({"m": 1.5, "x": np.nan}, r"x=nan is outside the allowed range"),
+        ({"m": 1.5, "x": 0.0}, r"x=0\.0 is outside"),
+        ({"m": 1.5, "x": 2e6}, r"x=2000000\.0 is outside"),
+        ({"m": 1.5, "x": "big"}, r"x='big' is not a real number"),
+        ({"m": complex(np.nan, 0), "x": 1.0}, r"m=.*must be a finite complex number"),
+        ({"m": -1.5 + 0.1j, "x": 1.0}, r"m=\(-1\.5\+0\.1j\) must have a real part > 0"),
+        ({"m": [1.5 + 0.1j, 1.5 - 0.1j], "x": 1.0}, r"m=\(1\.5-0\.1j\) has a negative imaginary part"),
+        ({"m": 1.5 + 0.1j, "x": 1.0, "convention": "n-ik"}, r"m=\(1\.5\+0\.1j\) has a positive imaginary part"),
+        ({"m": 1.5, "x": 1.0, "convention": "n+ki"}, r"convention='n\+ki' is not known"),
+        ({"m": [1.5, 1.6], "x": [1.0, 2.0, 3.0]}, r"m of shape \(2,\) and x of shape \(3,\) do not broadcast"),
+        ({"m": 1.5, "x": 2.0 * u.um}, r"x has unit um"),
+    ],
+)
+def test_bad_input(kwargs, match):
+    with pytest.raises(InputError, match=match):
+        mie(**kwargs)
+
+
+def test_bad_angles():
+    with pytest.raises(InputError, match=r"theta=4\.0 is outside the allowed range \[0, π\]"):
+        amplitudes(1.5, 1.0, [0.0, 4.0])
+    with pytest.raises(InputError, match="theta has unit m"):
+        amplitudes(1.5, 1.0, 1.0 * u.m)
+    with pytest.raises(InputError, match="must be single numbers"):
+        mie_coefficients([1.5, 1.6], 1.0)

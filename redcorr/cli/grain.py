@@ -7,6 +7,7 @@ from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_tabl
 from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM
 from redcorr.exceptions import InputError
 from redcorr.grains import get_grain_model, list_grain_models, list_materials
+from redcorr.grains.model import r_v_from_cross_sections
 
 __all__ = ["add_parser", "run", "grain_rows"]
 
@@ -54,7 +55,7 @@ def grain_rows(model, wave_um, *, cache=True):
         }
         for w, c, alb, g, k in zip(wave_um, optics.c_ext, optics.albedo, optics.g, optics.kappa_ext)
     ]
-    return float(c_v / (c_b - c_v)), rows
+    return r_v_from_cross_sections(c_b, c_v, model.name), rows
 
 
 def _list(as_json):
@@ -123,12 +124,15 @@ def _plot(model, path, *, cache):
     ax3.set_ylabel(r"$g = \langle\cos\theta\rangle$")
     for ax in (ax1, ax2, ax3):
         ax.set_xlabel(r"$1/\lambda$ [$\mu$m$^{-1}$]")
-    theta = np.linspace(0.0, np.pi, 361)
-    for lam in (0.2, B_WAVE_UM, V_WAVE_UM, 2.2):
+    theta = np.linspace(0.0, np.pi, 181)
+    for lam, colour in ((0.2, "C0"), (V_WAVE_UM, "C1"), (2.2, "C3")):
         g = float(np.interp(1 / lam, x[::-1], optics.g[::-1]))
-        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), label=f"{lam:g} µm, g={g:.2f}")
+        ax4.semilogy(np.degrees(theta), model.phase_function(lam, theta), color=colour,
+                     label=f"{lam:g} µm Mie, g={g:.2f}")
+        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), color=colour, ls="--", lw=0.9)
     ax4.set_xlabel("scattering angle [deg]")
-    ax4.set_ylabel(r"phase function [sr$^{-1}$] (Henyey–Greenstein)")
+    ax4.set_ylabel(r"phase function [sr$^{-1}$]")
+    ax4.set_title("Mie (solid) and Henyey–Greenstein with the same g (dashed)", fontsize=8)
     ax4.legend(frameon=False, fontsize=8)
     fig.suptitle(f"{model.name}: R_V = {curve.r_v:.3f}", fontsize=10)
     with atomic_path(path, suffix=".png") as tmp:

@@ -232,7 +232,7 @@ _SIZE_KEYS = {
     "log-normal": ({"a0", "sigma"}, {"amplitude", "volume", "a_min", "a_max"}),
     "wd01-silicate": (set(), {"r_v", "b_c", "case", "scale", "alpha", "beta", "a_t", "a_c", "c"}),
     "wd01-carbonaceous": (set(), {"r_v", "b_c", "case", "scale", "alpha", "beta", "a_t", "a_c", "c"}),
-    "table": ({"file"}, set()),
+    "table": ({"file"}, {"a_min", "a_max"}),
 }
 
 
@@ -261,12 +261,14 @@ def _build_sizes(spec, base_dir):
     if kind == "table":
         from redcorr.io.grains import read_size_table  # noqa: PLC0415
 
-        return read_size_table(Path(base_dir) / args["file"])
+        return read_size_table(Path(base_dir) / args["file"], args.get("a_min"), args.get("a_max"))
     scale = args.pop("scale", 1.0)
     if "r_v" in args:
         extra = set(args) - {"r_v", "b_c", "case"}
         if extra:
-            raise InputError(f"sizes of type {kind!r}: give r_v/b_c/case or explicit parameters, not both ({sorted(extra)})")
+            raise InputError(
+                f"sizes of type {kind!r}: give r_v/b_c/case or explicit parameters, not both ({sorted(extra)})"
+            )
         carbon, silicate = wd01_sizes(args["r_v"], args.get("b_c", 0.0), args.get("case", "A"), scale=scale)
         return carbon if kind == "wd01-carbonaceous" else silicate
     explicit = {"alpha", "beta", "a_t", "a_c", "c"}

@@ -17,13 +17,14 @@ Conventions
 """
 
 import math
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 
 from redcorr._validate import check_positive, check_range, inverse_micron
 from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM, TabulatedCurve
-from redcorr.exceptions import InputError
+from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.grains.materials import Material
 from redcorr.grains.pah import n_carbon, pah_cross_section, pah_fraction
 from redcorr.grains.sizes import SizeDistribution
@@ -36,6 +37,7 @@ __all__ = [
     "GrainCurve",
     "DEFAULT_WAVE_UM",
     "CACHE_VERSION",
+    "r_v_from_cross_sections",
 ]
 
 DEFAULT_WAVE_UM = np.geomspace(0.1, 100.0, 200)
@@ -43,6 +45,26 @@ DEFAULT_WAVE_UM = np.geomspace(0.1, 100.0, 200)
 
 CACHE_VERSION = 1
 """Bumped whenever the computation changes, so old cache entries are not reused."""
+
+
+def r_v_from_cross_sections(c_b, c_v, name="grain model"):
+    """Monochromatic R_V = C_ext(0.55)/[C_ext(0.44) − C_ext(0.55)].
+
+    Follows from R_V = A_V/E(B−V) with A ∝ C_ext, B = 0.44 µm and V = 0.55 µm
+    (definition; common practice, no source). When the extinction does not
+    rise from V to B (grey or blue-flat dust), the value is infinite or
+    negative and an `OutOfRangeWarning` says that R_V means nothing there.
+    """
+    c_b, c_v = float(c_b), float(c_v)
+    if not c_b > c_v:
+        warnings.warn(
+            f"{name}: extinction at 0.44 µm ({c_b:.4g}) is not above that at 0.55 µm ({c_v:.4g}) "
+            "per H, so R_V = A(V)/E(B-V) is infinite or negative and should not be used",
+            OutOfRangeWarning,
+            stacklevel=3,
+        )
+        return math.inf if c_b == c_v else c_v / (c_b - c_v)
+    return c_v / (c_b - c_v)
 
 
 @dataclass(frozen=True)
@@ -167,6 +189,21 @@ class Component:
         cabs, csca, gsca = (arr @ w for arr in (cabs, csca, gsca))
         return {"c_ext": cabs + csca, "c_sca": csca, "c_abs": cabs, "g_sca": gsca}
 
+    def scattering_populations(self, wave_um):
+        """(m, radii, weights) of every population that scatters at one wavelength.
+
+        The weights are grains per H times the orientation weight, times
+        1 − ξ(a) when PAHs are blended in (the PAH part absorbs only).
+        """
+        a, w = self.radii()
+        if self.pah is not None:
+            w = w * (1 - pah_fraction(a, self.pah.q_gra, self.pah.a_xi_um))
+        out = []
+        for mask, parts in self.material.pieces(a):
+            for weight, table in parts:
+                out.append((complex(table(wave_um)), a[mask], weight * w[mask]))
+        return out
+
     def __repr__(self):
         return f"<Component {self.material.name} × {self.sizes.label} × {self.abundance:g}>"
 
@@ -221,6 +258,23 @@ class GrainModel:
     citation : str
         Where the model comes from.
     description : str, optional
+
+    Notes
+    -----
+    Per H nucleon, C(λ) = Σ_c A_c ∫ (1/n_H)(dn_c/da) πa² Q(m_c(λ), 2πa/λ) da,
+    summed over components c (abundance A_c) and, for anisotropic materials,
+    over orientations with their weights. The size integral is a trapezoid in
+    ln a on ``n_sizes`` log-spaced radii (150 by default: 0.05% from a
+    600-radius integral for the WD01 models). g = Σ g C_sca / Σ C_sca;
+    A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm); the mass opacity is C divided by the
+    dust mass per H, Σ_c A_c ρ_c ∫ (4π/3) a³ (1/n_H)(dn_c/da) da.
+
+    References
+    ----------
+    .. [1] Bohren, C. F., & Huffman, D. R. 1983, Absorption and Scattering of
+       Light by Small Particles (Wiley), ch. 4.
+    .. [2] Weingartner, J. C., & Draine, B. T. 2001, ApJ, 548, 296.
+       doi:10.1086/318651
 
     Examples
     --------
@@ -299,10 +353,46 @@ class GrainModel:
             mass_per_h=sum(c.mass_per_h() for c in self.components),
         )
 
+    def phase_function(self, wave, theta):
+        """Exact Mie phase function of the whole model at one wavelength.
+
+        Parameters
+        ----------
+        wave : float or Quantity
+            One wavelength (plain numbers in µm).
+        theta : array_like or Quantity ['angle']
+            Scattering angles in [0, π]; plain numbers are radians.
+
+        Returns
+        -------
+        ndarray
+            p(θ) in sr⁻¹, normalized so that ∫ p dΩ = 1.
+
+        Notes
+        -----
+        p = Σ_j C_sca,j p_j / Σ_j C_sca,j over every component, grain-radius
+        set and orientation j, each p_j from
+        :func:`redcorr.phase.population_phase_function` (Bohren & Huffman
+        1983, §3.4 and §4.4).
+        """
+        from redcorr.phase import population_phase_function  # noqa: PLC0415
+
+        wave_um = 1.0 / inverse_micron(wave)
+        if np.ndim(wave_um) != 0 or not np.isfinite(wave_um):
+            raise InputError(f"wave={wave!r} must be one finite wavelength")
+        num, den = 0.0, 0.0
+        for comp in self.components:
+            for m, a, w in comp.scattering_populations(float(wave_um)):
+                pop = population_phase_function(m, a, w, float(wave_um), theta)
+                c_sca = pop.c_sca * np.sum(w)
+                num = num + c_sca * pop.p
+                den += c_sca
+        return num / den
+
     def r_v(self, *, cache=True):
         """Monochromatic R_V = A(0.55 µm)/[A(0.44 µm) − A(0.55 µm)]."""
         c_b, c_v = self.optics([B_WAVE_UM, V_WAVE_UM], cache=cache).c_ext
-        return float(c_v / (c_b - c_v))
+        return r_v_from_cross_sections(c_b, c_v, self.name)
 
     def a_over_av(self, wave, *, cache=True):
         """A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm) at ``wave``; scalar in, scalar out."""
@@ -372,12 +462,14 @@ class GrainCurve(TabulatedCurve):
         if i_b.size == 0 or i_v.size == 0:
             raise InputError("a grain curve needs cross sections at 0.44 and 0.55 µm")
         c_b, c_v = optics.c_ext[i_b[0]], optics.c_ext[i_v[0]]
+        r_v = r_v_from_cross_sections(c_b, c_v, model.name)
         super().__init__(
             w,
             optics.c_ext / c_v,
-            r_v=float(c_v / (c_b - c_v)),
+            r_v=r_v if 0 < r_v < math.inf else None,
             name=model.name,
             citation=model.citation or "grain model",
         )
+        self._r_v = self.default_r_v = r_v  # exact, even where meaningless (warned above)
         self.model = model
         self.optics = optics

@@ -65,7 +65,7 @@ DRUDE_BANDS = (
 """Drude bands: wavelength (µm), FWHM/λ_j, integrated strengths (10⁻²⁰ cm per C atom)."""
 
 X_GRAPHITE = 17.25
-"""Above this wavenumber (µm⁻¹) PAHs absorb as graphite does (Li & Draine 2001, eq. 5)."""
+"""Above this wavenumber (µm⁻¹) PAHs absorb as graphite does (Li & Draine 2001, §2, from memory)."""
 
 
 def n_carbon(a_um):
@@ -79,7 +79,7 @@ def n_carbon(a_um):
 
 
 def h_to_c(n_c):
-    """H/C ratio: 0.5 for N_C ≤ 25, 0.5/√(N_C/25) up to 100, 0.25 above (Li & Draine 2001, eq. 4)."""
+    """H/C ratio: 0.5 for N_C ≤ 25, 0.5/√(N_C/25) up to 100, 0.25 above (Li & Draine 2001, §2, from memory)."""
     n_c = np.asarray(n_c, dtype=float)
     return np.where(n_c <= 25, 0.5, np.where(n_c <= 100, 0.5 / np.sqrt(n_c / 25.0), 0.25))
 
@@ -160,7 +160,7 @@ def pah_cross_section(wave_um, a_um, ionized_fraction=0.5):
     ndarray
         σ = (1 − f_ion) σ_neutral + f_ion σ_ion in cm² per C atom; NaN for
         λ < 1/17.25 µm, where the caller should use graphite (Li & Draine
-        2001, eq. 5).
+        2001, §2, from memory).
 
     Notes
     -----
@@ -196,7 +196,7 @@ def pah_cross_section(wave_um, a_um, ionized_fraction=0.5):
 def pah_fraction(a_um, q_gra=0.01, a_xi_um=0.005):
     """Fraction of a carbonaceous grain's absorption taken as PAH.
 
-    ξ(a) = (1 − q_gra) min[1, (a_ξ/a)³] (Li & Draine 2001, eq. 12, from memory),
+    ξ(a) = (1 − q_gra) min[1, (a_ξ/a)³] (Li & Draine 2001, §2.3, from memory),
     with q_gra = 0.01 and a_ξ = 50 Å by default.
     """
     if not 0.0 <= float(q_gra) <= 1.0:

@@ -12,6 +12,7 @@ Conventions
 * Amplitudes are per H nucleon, so cross sections integrate to cm² per H.
 """
 
+import abc
 import math
 
 import numpy as np
@@ -56,7 +57,7 @@ def as_radius(a, name="a"):
         raise InputError(f"{name}={a!r} is not numeric") from None
 
 
-class SizeDistribution:
+class SizeDistribution(abc.ABC):
     """Base class: (1/n_H) dn/da in µm⁻¹ on ``[a_min, a_max]`` (µm).
 
     Subclasses implement ``_dnda(a)`` for a 1-d array of radii inside the
@@ -98,8 +99,9 @@ class SizeDistribution:
         """A JSON-able description used to key the cross-section cache."""
         return {"type": type(self).__name__, **{k: v for k, v in vars(self).items() if not k.startswith("_")}}
 
-    def _dnda(self, a):  # pragma: no cover - abstract
-        raise NotImplementedError
+    @abc.abstractmethod
+    def _dnda(self, a):
+        """(1/n_H) dn/da in µm⁻¹ at radii ``a`` (1-d, µm) inside the range."""
 
 
 class PowerLaw(SizeDistribution):
@@ -354,14 +356,17 @@ class TabulatedSizes(SizeDistribution):
         (1/n_H) dn/da in µm⁻¹, finite and ≥ 0.
     name : str, optional
         Shown in labels.
+    a_min, a_max : float, optional
+        Use only this part of the table (µm); it must lie inside the
+        tabulated radii. By default the whole table.
 
     Notes
     -----
-    Zeros are interpolated as zero; the table is never extrapolated, so its
-    range is that of the radii.
+    Zeros are interpolated as zero; the table is never extrapolated, so a
+    range reaching outside the tabulated radii is an error.
     """
 
-    def __init__(self, a, dnda, name="table"):
+    def __init__(self, a, dnda, name="table", *, a_min=None, a_max=None):
         a = as_radius(a)
         y = np.asarray(dnda, dtype=float)
         if a.ndim != 1 or y.shape != a.shape or a.size < 2:
@@ -377,7 +382,15 @@ class TabulatedSizes(SizeDistribution):
         if np.any(np.diff(a) <= 0):
             raise InputError(f"a has a repeated value {a[1:][np.diff(a) <= 0][0]:g} µm")
         self._a, self._y = a, y
-        self._set_range(a[0], a[-1])
+        lo = a[0] if a_min is None else check_positive("a_min", a_min)
+        hi = a[-1] if a_max is None else check_positive("a_max", a_max)
+        for label, value in (("a_min", lo), ("a_max", hi)):
+            if not a[0] <= value <= a[-1]:
+                raise InputError(
+                    f"{label}={value:g} µm lies outside the radii of size table {name}, "
+                    f"[{a[0]:g}, {a[-1]:g}] µm; a size table is never extrapolated"
+                )
+        self._set_range(lo, hi)
         self.label = f"table {name}"
         self.name = name
 
@@ -386,4 +399,9 @@ class TabulatedSizes(SizeDistribution):
         return np.exp(np.interp(np.log(a), np.log(self._a), logy))
 
     def key(self):
-        return {"type": "TabulatedSizes", "a": self._a.tolist(), "dnda": self._y.tolist()}
+        return {
+            "type": "TabulatedSizes",
+            "a": self._a.tolist(),
+            "dnda": self._y.tolist(),
+            "range": [self.a_min, self.a_max],
+        }

@@ -126,8 +126,10 @@ def wd01_table():
         return _read_table(path, "packaged table")
 
 
-def read_size_table(path):
+def read_size_table(path, a_min=None, a_max=None):
     """Read a user size distribution: columns ``a_um`` (or ``a`` with a unit) and ``dnda``.
+
+    ``a_min`` and ``a_max`` (µm) optionally restrict it to part of its radii.
 
     Returns
     -------
@@ -141,7 +143,7 @@ def read_size_table(path):
     a = _column(table, path, what, "a_um", "a", u.um)
     dnda = _numeric(table, "dnda", path, what)
     try:
-        return TabulatedSizes(a, dnda, name=Path(path).name)
+        return TabulatedSizes(a, dnda, name=Path(path).name, a_min=a_min, a_max=a_max)
     except InputError as exc:
         raise InputError(f"{what} {str(path)!r}: {exc}") from None
 
@@ -175,7 +177,8 @@ def read_grain_model(path):
         a_min, a_max optional); ``log-normal`` (a0, sigma, amplitude or
         volume, a_min and a_max optional); ``wd01-silicate`` and
         ``wd01-carbonaceous`` (r_v, b_c, case = "A", scale = 1; or explicit
-        alpha, beta, a_t, a_c, c [, b_c]); ``table`` (file = PATH).
+        alpha, beta, a_t, a_c, c [, b_c]); ``table`` (file = PATH; a_min and
+        a_max optional, inside the table's radii).
         Relative paths are taken from the TOML file's folder.
 
     Returns
@@ -201,7 +204,7 @@ def read_grain_model(path):
         try:
             components.append(build_component(spec, base_dir=path.parent))
         except InputError as exc:
-            raise InputError(f"grain-model file {str(path)!r}, component {i}: {exc}") from None
+            raise type(exc)(f"grain-model file {str(path)!r}, component {i}: {exc}") from None
     return GrainModel(
         components,
         name=str(doc.get("name", f"grain:{path.name}")),

@@ -1,0 +1,76 @@
+"""Tests of the ``redcorr mie`` command (in-process through redcorr.cli.main)."""
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from redcorr.cli import main
+from redcorr.mie import mie
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def test_json_keys_and_values(capsys):
+    assert main(["mie", "--m", "1.5+0.01j", "--x", "0.1", "1", "10", "--json"]) == 0
+    rows = json.loads(capsys.readouterr().out)
+    assert [list(r) for r in rows] == [["x", "qext", "qsca", "qabs", "qback", "g"]] * 3
+    assert [r["x"] for r in rows] == [0.1, 1.0, 10.0]
+    ref = mie(1.5 + 0.01j, [0.1, 1.0, 10.0])
+    for name in ("qext", "qsca", "qabs", "qback", "g"):
+        np.testing.assert_allclose([r[name] for r in rows], getattr(ref, name), rtol=1e-15)
+
+
+def test_documented_peer_value_through_the_cli(capsys):
+    # miepython 3.3 docstring of efficiencies_mx: m = 1.5 - 0.01j (n - ik), x = 2
+    # gives Q_ext 1.812597, Q_sca 1.724396, Q_back 0.266214, g 0.630214
+    assert main(["mie", "--m", "1.5-0.01i", "--convention", "n-ik", "--x", "2", "--json"]) == 0
+    (row,) = json.loads(capsys.readouterr().out)
+    np.testing.assert_allclose(
+        [row["qext"], row["qsca"], row["qback"], row["g"]], [1.812597, 1.724396, 0.266214, 0.630214], atol=6e-7
+    )
+
+
+def test_table_is_aligned(capsys):
+    assert main(["mie", "--m", "2+1j", "--x", "0.5", "50"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0].startswith("# Mie") and "m = 2+1i" in lines[0]
+    assert lines[1].split() == ["x", "qext", "qsca", "qabs", "qback", "g"]
+    assert len({len(line) for line in lines[2:]}) == 1  # header rule and rows share one width
+
+
+@pytest.mark.parametrize(
+    ("argv", "message"),
+    [
+        (["--m", "1.5", "--x", "-1"], "x=-1.0 is outside the allowed range"),
+        (["--m", "1.5-0.1j", "--x", "1"], "--convention n-ik"),
+        (["--m", "one", "--x", "1"], "--m='one' is not a complex number"),
+        (["--m", "0+1j", "--x", "1"], "must have a real part > 0"),
+    ],
+)
+def test_bad_input_exit_2(capsys, argv, message):
+    assert main(["mie", *argv]) == 2
+    err = capsys.readouterr().err
+    assert message in err
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_nan_is_refused_by_the_parser(capsys):
+    assert main(["mie", "--m", "1.5", "--x", "nan"]) == 2
+    assert "not a finite number" in capsys.readouterr().err
+
+
+def test_subprocess_entry_point():
+    out = subprocess.run(
+        [sys.executable, "-m", "redcorr", "mie", "--m", "1.33", "--x", "3", "--json"],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    (row,) = json.loads(out.stdout)
+    assert row["qabs"] == 0.0  # a real index does not absorb (common practice, no source)
+    assert row["qext"] == pytest.approx(float(mie(1.33, 3.0).qext), rel=1e-15)
