@@ -47,8 +47,9 @@ def test_galactic_input_and_table_output(capsys, map_file):
     assert lines[0].startswith("# map m.fits (healpix, E(B-V), bilinear")
     assert lines[1].split() == KEYS
     gc = lines[3].split()
-    # galactic centre in ICRS: RA 266.40499°, Dec -28.93617° (J2000 realisation of the IAU 1958
-    # system, Hipparcos Vol. 1 Sect. 1.5.3 transformation; from memory)
+    # galactic centre (IAU 1958 system, Blaauw et al. 1960, MNRAS 121, 123) in ICRS:
+    # RA 266.40499°, Dec -28.93617°, as implied by the J2000 pole and node of ESA 1997, The
+    # Hipparcos and Tycho Catalogues, Vol. 1, Sect. 1.5.3 (values from memory)
     assert float(gc[0]) == pytest.approx(266.40499, abs=2e-5) and float(gc[1]) == pytest.approx(-28.93617, abs=2e-5)
 
 

@@ -106,15 +106,26 @@ def test_image_plate_carree_recovers_smooth_function():
     for step in (2.0, 1.0):
         wcs, shape = car_wcs(step)
         image = ImageMap([ImageTile(image_values(wcs, shape), wcs)])
+        assert image.tiles[0].wraps  # 360° of longitude: neighbours wrap across l = 180°
         got, flags = image.lookup(ra, dec, frame="icrs")
-        ok = flags == 0
-        # only the half-pixel strip at the longitude seam (l = 180°) lacks neighbours
-        assert np.all(flags[~ok] == FLAG_PARTIAL) and ok.mean() > 0.98
-        err[step] = np.max(np.abs(got[ok] - smooth(lon, lat)[ok]))
+        assert not flags.any()
+        err[step] = np.max(np.abs(got - smooth(lon, lat)))
         assert err[step] < 2 * np.radians(step) ** 2
         near, _ = image.lookup(ra, dec, frame="icrs", interpolation="nearest")
         assert np.max(np.abs(near - smooth(lon, lat))) < np.radians(step)
     assert 3.0 < err[2.0] / err[1.0] < 5.5
+    seam, flag = image.lookup([179.9, -179.9], [10.0, 10.0], frame="galactic")
+    assert not flag.any()
+    np.testing.assert_allclose(seam, smooth(np.array([179.9, 180.1]), 10.0), atol=2 * np.radians(1.0) ** 2)
+
+
+def test_partial_longitude_image_does_not_wrap():
+    wcs, shape = car_wcs(10.0)
+    wcs.wcs.cdelt = [-5.0, 10.0]  # 36 columns of 5°: half the sky in longitude
+    tile = ImageTile(np.ones(shape), wcs)
+    assert not tile.wraps
+    values, flags = ImageMap([tile]).lookup([0.0, 120.0], [0.0, 0.0], frame="galactic")
+    assert flags[0] == 0 and flags[1] == FLAG_OUTSIDE
 
 
 def test_zenithal_hemisphere_pair_covers_the_sky():
@@ -340,3 +351,18 @@ def test_unit_and_scale_are_checked():
         HealpixMap(np.ones(12), 1, scale=-1)
     with pytest.raises(InputError, match="give r_v"):
         HealpixMap(np.ones(12), 1, unit="A_V").ebv(0.0, 0.0)
+
+
+def test_gnomonic_image_far_side_and_all_nan_chunk():
+    # A gnomonic (TAN) projection has no image of the far hemisphere (Calabretta & Greisen
+    # 2002, A&A 395, 1077, Sect. 5.1.3): such positions are outside, not errors.
+    wcs = WCS(naxis=2)
+    wcs.wcs.ctype = ["RA---TAN", "DEC--TAN"]
+    wcs.wcs.crval = [101.25, -27.4]
+    wcs.wcs.crpix = [5.5, 5.5]
+    wcs.wcs.cdelt = [-0.1, 0.1]
+    image = ImageMap([ImageTile(np.ones((10, 10)), wcs)])
+    values, flags = image.lookup([281.25, 101.25], [27.4, -27.4])
+    assert np.isnan(values[0]) and flags[0] == FLAG_OUTSIDE and flags[1] == 0
+    values, flags = image.lookup([np.nan, np.nan], [0.0, 0.0])
+    assert list(flags) == [FLAG_NO_POSITION, FLAG_NO_POSITION]
