@@ -24,7 +24,7 @@ For each band with magnitude column ``MAG`` (``SUFFIX`` defaults to
 
 For each requested colour pair (MAG1, MAG2): ``MAG1-MAG2_dered`` and
 ``MAG1-MAG2_dered_err``. Per row: ``ebv_used`` and ``av_used`` (the
-reddening applied), ``rv_used``, ``teff_used`` (source temperature, K, when
+reddening applied), ``rv_used`` (with a per-row R_V), ``teff_used`` (source temperature, K, when
 it varies per row), ``teff_iterations`` (when solved from a colour) and the
 flag column ``dered_flags``, whose bits are :data:`FLAG_BITS`.
 
@@ -38,8 +38,8 @@ bit  value  name                  meaning
 2    4      negative_reddening    E(B-V) < 0; corrected as given (odd extension)
 3    8      outside_grid          A_V or temperature outside the coefficient
                                   grid; the nearest grid edge was used
-4    16     outside_curve         R_V outside the law's range (outputs NaN), or
-                                  a band evaluated beyond the law's wavelengths
+4    16     outside_curve         R_V outside the law's range or missing (outputs
+                                  NaN), or a band beyond the law's wavelengths
 5    32     map_coverage          the dust map has no value here (outputs NaN)
 6    64     not_converged         the colour–temperature iteration did not
                                   converge within ``max_iterations``
@@ -178,13 +178,12 @@ def _short_name(label):
 
 
 def _mag_candidates(label):
-    names = [label, band_label(label)]
+    out = []
+    for stem in (label, band_label(label)):
+        out += [stem, f"{stem}_mag", f"mag_{stem}"]
     short = _short_name(label)
     if short:
-        names += [f"{short}mag", f"{short}_mag", f"mag_{short}", short]
-    out = []
-    for n in names:
-        out += [n, f"{n}_mag", f"mag_{n}"] if n not in (short,) else [n]
+        out += [f"{short}mag", f"{short}_mag", f"mag_{short}", short]
     return list(dict.fromkeys(out))
 
 
@@ -525,6 +524,9 @@ class Correction:
                 mag = _require(self.columns, mag_columns[label], f"magnitude column of {label}")
             else:
                 mag = _find(self.columns, _mag_candidates(label))
+                if mag is not None and mag.lower() in ("l", "b") and _find(self.columns, ("l",)) \
+                        and _find(self.columns, ("b",)):
+                    mag = None  # columns l and b are Galactic coordinates, not magnitudes
                 if mag is None:
                     raise InputError(
                         f"no magnitude column found for band {label!r}; name it (e.g. --mag "
@@ -679,7 +681,9 @@ class Correction:
             names.append(base)
             if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
                 names.append(base + "_err")
-        names += ["ebv_used", "av_used", "rv_used"]
+        names += ["ebv_used", "av_used"]
+        if self.rv_col is not None:
+            names.append("rv_used")
         if self.spectrum != "fixed":
             names.append("teff_used")
         if self.spectrum == "colour":
@@ -849,6 +853,7 @@ class Correction:
         red, red_err = self._reddening(frame, flags)
         if self.rv_col is not None:
             rv = self._numeric(frame, self.rv_col, flags)
+            flags[~np.isfinite(rv)] |= FLAG_BITS["missing"]
         else:
             rv = np.full(n, self.r_v)
         rv_err = self._numeric(frame, self.rv_err_col, flags) if self.rv_err_col else np.full(n, self.rv_err_const)
@@ -906,7 +911,8 @@ class Correction:
         valid = np.isfinite(red) & rv_ok
         result["ebv_used"] = np.where(valid, ebv, np.nan)
         result["av_used"] = np.where(valid, red * rv if self.red_quantity == "ebv" else red, np.nan)
-        result["rv_used"] = np.where(rv_ok, rv, np.nan)
+        if self.rv_col is not None:
+            result["rv_used"] = np.where(rv_ok, rv, np.nan)
         if self.spectrum != "fixed":
             result["teff_used"] = temperature
         if self.spectrum == "colour":
@@ -944,8 +950,7 @@ class Correction:
             idx = np.flatnonzero(active)
             colour = (mags[idx, i] - a_band[idx, i]) - (mags[idx, j] - a_band[idx, j]) - self.colour_offset
             t_new, c_in = self._colour_table.temperature_at(colour)
-            rv_sub = rv[idx]
-            a_new, s_new, in_new, _ = self._extinction(red[idx], rv_sub, t_new)
+            a_new, s_new, in_new, _ = self._extinction(red[idx], rv[idx], t_new)
             change = np.max(np.abs(a_new - a_band[idx]), axis=1)
             temperature[idx] = t_new
             a_band[idx] = a_new

@@ -15,6 +15,7 @@ __all__ = [
     "ExtrapolationWarning",
     "OutOfRangeWarning",
     "TruncatedBandWarning",
+    "ThroughputWarning",
 ]
 
 
@@ -47,3 +48,7 @@ class OutOfRangeWarning(RedcorrWarning):
 
 class TruncatedBandWarning(RedcorrWarning):
     """A band's response does not fall to (near) zero at an end of its wavelength range."""
+
+
+class ThroughputWarning(RedcorrWarning):
+    """An instrument's system throughput looks normalised rather than absolute (exposure planning)."""

@@ -47,6 +47,7 @@ from scipy.integrate import trapezoid
 
 from redcorr._validate import check_choice, check_finite, check_positive, check_range
 from redcorr.exceptions import InputError, UnknownNameError
+from redcorr.extinction import band_extinction
 
 __all__ = [
     "AB_ZERO_JY",
@@ -55,6 +56,7 @@ __all__ = [
     "Instrument",
     "BandPlan",
     "ab_color",
+    "ab_mag_of_spectrum",
     "ab_photon_rate",
     "fnu_photon_rate",
     "gaussian_aperture_fraction",
@@ -223,6 +225,39 @@ def ab_color(sed, band_from, band_to):
             "cannot convert the magnitude between them"
         )
     return float(-2.5 * np.log10(ratio))
+
+
+def ab_mag_of_spectrum(sed, band):
+    """AB magnitude in ``band`` of a flux-calibrated spectrum.
+
+    Parameters
+    ----------
+    sed : object with ``flam(wave_um)``
+        F_λ in erg s⁻¹ cm⁻² Å⁻¹ (as :func:`redcorr.io.spectra.read_sed_file`
+        returns for a table with units).
+    band : Band
+        Photon-counting response (``wave_um``, ``response``).
+
+    Notes
+    -----
+    .. math:: m_{AB} = -2.5 \\log_{10} \\frac{\\int F_\\nu T\\, d\\lambda/\\lambda}
+              {3631\\,\\mathrm{Jy} \\int T\\, d\\lambda/\\lambda},
+              \\qquad F_\\nu = F_\\lambda \\lambda^2 / c
+
+    References
+    ----------
+    Oke & Gunn 1983, ApJ 266, 713 (AB); the photon-weighted band average as in
+    Fukugita et al. 1996, AJ 111, 1748, eq. 7 (from memory).
+    """
+    lam, thr = _curve_arrays(band.wave_um, band.response)
+    flam = np.asarray(sed.flam(lam), dtype=float)  # erg s^-1 cm^-2 A^-1
+    fnu_jy = flam * (lam * 1e4) ** 2 / const.c.to_value(u.AA / u.s) * 1e23
+    mean = trapezoid(fnu_jy * thr / lam, lam) / trapezoid(thr / lam, lam)
+    if not mean > 0:
+        raise InputError(
+            f"the spectrum {getattr(sed, 'name', sed)!r} has no flux in band {getattr(band, 'name', '?')!r}"
+        )
+    return float(-2.5 * np.log10(mean / AB_ZERO_JY))
 
 
 def gaussian_aperture_fraction(radius_arcsec, fwhm_arcsec):
@@ -587,12 +622,17 @@ class BandPlan:
 
 
 def _band_extinction(curve, band, sed, a_v, extrapolate):
-    from redcorr.extinction import band_extinction  # noqa: PLC0415 - one owner of band extinction
-
     return np.asarray(band_extinction(curve, band, sed, a_v, extrapolate=extrapolate), dtype=float)
 
 
 def _band_mags(instrument, bands, mag, sed, mag_band):
+    if isinstance(mag, dict):
+        if mag_band is not None:
+            raise InputError("mag_band applies to a single magnitude; mag already gives one per band")
+        missing = [b for b in bands if b not in mag]
+        if missing:
+            raise InputError(f"mag has no value for band {missing[0]!r}; it gives {', '.join(map(repr, mag))}")
+        return [check_finite(f"mag[{b!r}]", mag[b]) for b in bands]
     m0 = check_finite("mag", mag)
     if mag_band is None:
         return [m0] * len(bands)
@@ -620,9 +660,11 @@ def plan_exposure(
     instrument : Instrument
     bands : sequence of str
         Band names of the instrument.
-    mag : float
+    mag : float or dict
         Dust-free AB magnitude of the source: in each band if ``mag_band`` is
-        None, else in ``mag_band`` and carried to each band with the SED's AB colour.
+        None, else in ``mag_band`` and carried to each band with the SED's AB
+        colour; or a dict band name → magnitude (e.g. from
+        :func:`ab_mag_of_spectrum` for a flux-calibrated spectrum).
     curve : ExtinctionCurve
         Law or grain model (from :func:`redcorr.io.load_curve`).
     sed : SED
@@ -646,7 +688,8 @@ def plan_exposure(
     Returns
     -------
     list of BandPlan
-        Ordered by ``t_dust_s`` (shortest first).
+        Ranked: by ``t_dust_s`` (shortest first) for a target ``snr``, by the
+        S/N reached (highest first) for a given ``time``.
 
     Notes
     -----

@@ -42,6 +42,8 @@ Conventions
   seam, other images flag their last half pixel `FLAG_PARTIAL`.
 """
 
+import abc
+
 import numpy as np
 from astropy import units as u
 from astropy.coordinates import BaseCoordinateFrame, UnitSphericalRepresentation, frame_transform_graph
@@ -172,7 +174,7 @@ def _combine(values, good, weights):
         return (np.where(good, values, 0.0) * w).sum(axis=0) / total
 
 
-class DustMap:
+class DustMap(abc.ABC):
     """A reddening map: values on the sky in magnitudes of E(B-V) or A_V.
 
     Subclasses implement ``_sample(lon_deg, lat_deg, frame, method)`` for
@@ -316,8 +318,9 @@ class DustMap:
             "sources": list(self.sources),
         }
 
-    def _sample(self, lon_deg, lat_deg, frame, method):  # pragma: no cover - abstract
-        raise NotImplementedError
+    @abc.abstractmethod
+    def _sample(self, lon_deg, lat_deg, frame, method):
+        """Values and flags at positions already validated by :meth:`lookup`."""
 
 
 class HealpixMap(DustMap):

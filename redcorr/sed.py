@@ -6,6 +6,8 @@ Quantity in any spectral unit). Band extinction only uses the shape of F_λ,
 so the normalisation is arbitrary unless a class says otherwise.
 """
 
+import abc
+
 import numpy as np
 from astropy import constants as const
 from astropy import units as u
@@ -54,7 +56,7 @@ def planck_log_flam(wave_um, temperature_k):
     return _LOG_2HC2 - 5.0 * np.log(lam) - (y + np.log(-np.expm1(-y)))
 
 
-class SED:
+class SED(abc.ABC):
     """A source spectrum: ``flam(wave)`` gives F_λ; ``name`` describes it.
 
     Subclasses implement ``_flam(wave_um)`` on a float64 array of
@@ -82,8 +84,9 @@ class SED:
             )
         return self._flam(lam)
 
+    @abc.abstractmethod
     def _flam(self, wave_um):
-        raise NotImplementedError
+        """F_λ at a float64 array of wavelengths in µm."""
 
     def __repr__(self):
         return f"<{type(self).__name__} {self.name!r}>"

@@ -1,10 +1,8 @@
 """Tests of ``redcorr correct`` (in-process, and one subprocess for the exit status)."""
 
 import json
-import subprocess
 import sys
 import warnings
-from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -14,7 +12,6 @@ from redcorr.cli import main
 from redcorr.exceptions import OutOfRangeWarning
 from redcorr.io.catalogs import write_catalog
 
-ROOT = Path(__file__).resolve().parent.parent
 BANDS = ["--band", "kw-b", "--band", "kw-v"]
 
 
@@ -75,14 +72,6 @@ def test_missing_column_lists_available_and_writes_nothing(tmp_path, capsys):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["in.csv"]
 
 
-def test_exit_status_in_a_subprocess(tmp_path):
-    src = _src(tmp_path)
-    assert main(["correct", str(src), str(tmp_path / "o.csv"), *BANDS, "--quiet"]) == 0
-    again = subprocess.run([sys.executable, "-m", "redcorr", "correct", str(src), str(tmp_path / "o.csv"),
-                            *BANDS], cwd=ROOT, capture_output=True, text=True)
-    assert again.returncode == 2 and "exists" in again.stderr
-
-
 def test_unexpected_failure_exits_1(tmp_path, capsys, monkeypatch):
     import redcorr.correct
 
@@ -105,3 +94,23 @@ def test_demo_section_corrects_the_brume_catalog(capsys):
     s40_catalog.section(load_toml(demo / "scenario.toml", what="demo scenario"), demo)
     text = capsys.readouterr().out
     assert "BF-0001" in text and "b-v_0" in text and "HEALPix map" in text
+
+
+def test_progress_bar_on_a_terminal_only(tmp_path, monkeypatch, capsys):
+    import io
+
+    from redcorr.cli.correct import _Progress
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    assert not _Progress(True).enabled  # pytest's captured stderr is not a terminal
+    fake = Terminal()
+    monkeypatch.setattr(sys, "stderr", fake)
+    with _Progress(True) as bar:
+        assert bar.enabled
+        bar(500, 0.5)
+        assert bar._bar.tasks[0].completed == 500.0 and bar._bar.tasks[0].fields["rows"] == 500
+    with _Progress(False) as quiet:
+        assert not quiet.enabled

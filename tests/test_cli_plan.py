@@ -136,3 +136,39 @@ def test_grain_model_fixes_its_own_rv(capsys):
     argv = ["plan", "--instrument", "demo", "--mag", "19", "--av", "1", "--grain", "x", "--rv", "3.1", "--snr", "5"]
     assert main(argv) == 2
     assert "--rv=3.1 applies to a law" in capsys.readouterr().err
+
+
+def test_flux_calibrated_spectrum_gives_the_ab_magnitude(tmp_path, capsys):
+    # AB definition (Oke & Gunn 1983): a flat F_nu = 3631 Jy 10^(-0.4 m) has AB magnitude m in every
+    # band, so --calibrated with such a spectrum must plan exactly like --mag m.
+    from astropy import units as u
+    from astropy.table import Table
+
+    lam = np.linspace(0.3, 1.2, 901) * u.um
+    path = tmp_path / "flat18.ecsv"
+    Table({"wavelength": lam, "flux": np.full(lam.size, 3631 * 10 ** (-0.4 * 18.0)) * u.Jy}).write(path)
+    common = ["plan", "--instrument", "demo", "--av", "1", "--snr", "20", "--json", "--sed", f"file:{path}"]
+    calibrated, _ = _json(capsys, [*common, "--calibrated"])
+    given, _ = _json(capsys, [*common, "--mag", "18"])
+    for a, b in zip(calibrated, given):
+        assert a["band"] == b["band"]
+        assert_allclose(a["t_dust_s"], b["t_dust_s"], rtol=1e-4)  # linear interpolation of the table
+    assert main([*common[:-2], "--sed", "flat", "--calibrated"]) == 2
+    assert "--calibrated needs file:PATH" in capsys.readouterr().err
+
+
+def test_time_vs_av_table_starts_at_the_clear_time_and_grows(capsys):
+    from redcorr.exposure import plan_exposure, time_vs_av
+
+    inst = load_instrument("demo")
+    curve, sed = load_curve("f99", r_v=4.3), load_sed("blackbody:5800")
+    grid, times, a_band = time_vs_av(inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed,
+                                     a_v=[0.0, 1.0, 2.5, 6.0], snr=50.0)
+    plans = {p.band: p for p in plan_exposure(inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed, a_v=2.5, snr=50.0)}
+    for band in ("kw-v", "kw-i"):
+        assert_allclose(times[band][0], plans[band].t_clear_s, rtol=1e-12)
+        assert_allclose(times[band][2], plans[band].t_dust_s, rtol=1e-9)
+        assert np.all(np.diff(times[band]) > 0) and a_band[band][0] == 0
+    # In time mode the bands are ranked by the S/N they reach.
+    rows, _ = _json(capsys, [*BASE, "--time", "300", "--json"])
+    assert [r["snr"] for r in rows] == sorted((r["snr"] for r in rows), reverse=True)

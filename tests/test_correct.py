@@ -273,3 +273,13 @@ def test_header_only_frame_gives_empty_output_with_all_columns():
     out, summary = correct_dataframe(frame, ["kw-v"])
     assert len(out) == 0 and {"kw_v_dered", "A_kw_v", "dered_flags"} <= set(out.columns)
     assert summary["rows"] == 0
+
+
+def test_guessing_columns_and_galactic_b_is_not_a_magnitude():
+    frame = pd.DataFrame({"Vmag": [15.0], "e_Vmag": [0.02], "E(B-V)": [0.1], "B": [16.0]})
+    corr = Correction(["kw-v", "kw-b"], columns=list(frame.columns))
+    assert corr.mag_cols == ["Vmag", "B"] and corr.err_cols == ["e_Vmag", None]
+    assert corr.red_col == "E(B-V)" and corr.red_quantity == "ebv"
+    coords = pd.DataFrame({"l": [240.0], "b": [-13.0], "kw_v": [15.0], "ebv": [0.1]})
+    with pytest.raises(InputError, match="no magnitude column found for band 'kw-b'"):
+        Correction(["kw-b"], columns=list(coords.columns))

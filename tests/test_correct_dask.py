@@ -9,6 +9,7 @@ import pytest
 from catalog_helpers import KW, intrinsic
 
 from redcorr.correct import Correction, correct_dask
+from redcorr.exceptions import InputError
 from redcorr.io.batch import correct_file, correct_file_dask
 from redcorr.io.catalogs import write_catalog
 
@@ -70,3 +71,15 @@ def test_dask_dataframe_api_matches_pandas(cluster):
     with distributed.Client(cluster) as client:
         got = correct_dask(ddf, corr).compute(scheduler=client)
     pd.testing.assert_frame_equal(got, corr.correct(frame), check_exact=True)
+
+
+def test_text_in_a_number_column_is_a_user_error_with_dask(tmp_path):
+    # local threaded scheduler: no cluster needed for an error path
+    src = tmp_path / "in.csv"
+    frame = intrinsic(5)
+    frame["kw_v"] = frame["kw_v"].astype(object)
+    frame.loc[2, "kw_v"] = "bad"
+    frame.to_csv(src, index=False)
+    with pytest.raises(InputError, match="stream engine flags"):
+        correct_file_dask(str(src), tmp_path / "out", _make)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["in.csv"]

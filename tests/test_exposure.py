@@ -97,10 +97,10 @@ def test_ccd_equation_full_form_hand_evaluated():
     assert_allclose(snr, 383.85, atol=0.01)
 
 
-def test_ccd_equation_reduces_to_the_lecture_note_form():
-    # Dhillon, "the CCD equation" (Univ. of Sheffield PHY217 lecture notes, web page):
-    # SNR = S_obj / sqrt(S_obj + n_pix (S_sky + S_dark + R^2)) when the sky is known exactly (n_B
-    # infinite) and digitisation is neglected.
+def test_ccd_equation_reduces_to_its_simple_form():
+    # Merline & Howell (1995, Exp. Astron. 6, 163), the CCD equation without the sky-estimate and
+    # digitisation terms (from memory): SNR = N* / sqrt(N* + n_pix (N_S + N_D + N_R^2)), which is
+    # what it must reduce to when the sky is known exactly (n_B infinite).
     t, src, sky, dark, rn, npix = 120.0, 50.0, 3.0, 0.1, 7.0, 60.0
     expected = src * t / math.sqrt(src * t + npix * (sky * t + dark * t + rn**2))
     assert_allclose(ccd_snr(t, src, sky, dark, rn, npix), expected, rtol=1e-12)

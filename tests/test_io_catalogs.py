@@ -2,6 +2,8 @@
 
 import gzip
 import json
+import tempfile
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -9,11 +11,13 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 from catalog_helpers import KW, intrinsic
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from redcorr.correct import Correction
 from redcorr.exceptions import InputError
 from redcorr.io.batch import correct_file
-from redcorr.io.catalogs import open_catalog, read_catalog, write_catalog
+from redcorr.io.catalogs import CatalogWriter, open_catalog, read_catalog, write_catalog
 
 
 def _make(columns, **options):
@@ -89,10 +93,11 @@ class _Boom(Exception):
     pass
 
 
+@pytest.mark.parametrize("suffix", ["csv", "fits", "parquet"])
 @pytest.mark.parametrize("error", [_Boom, KeyboardInterrupt])
-def test_error_or_interrupt_leaves_no_partial_output(tmp_path, error):
+def test_error_or_interrupt_leaves_no_partial_output(tmp_path, error, suffix):
     src = _csv(tmp_path, n=50)
-    out = tmp_path / "out.csv"
+    out = tmp_path / f"out.{suffix}"
     calls = []
 
     def progress(rows, fraction):
@@ -200,3 +205,43 @@ def test_unknown_format_and_missing_input(tmp_path):
         open_catalog(_csv(tmp_path), fmt="xlsx")
     with pytest.raises(InputError, match="does not exist"):
         open_catalog(tmp_path / "nope.csv")
+
+
+_CHUNK_SRC = intrinsic(37, seed=12)
+
+
+@settings(max_examples=8, deadline=None)
+@given(st.integers(min_value=1, max_value=40))
+def test_file_output_does_not_depend_on_chunk_rows(chunk_rows):
+    # Chunk-size invariance through the whole file path (reader re-batching + writer).
+    with tempfile.TemporaryDirectory() as tmp:
+        tmp = Path(tmp)
+        src = write_catalog(_CHUNK_SRC, tmp / "in.csv")
+        correct_file(src, tmp / "one.csv", _make, chunk_rows=1000)
+        correct_file(src, tmp / "many.csv", _make, chunk_rows=chunk_rows)
+        assert (tmp / "many.csv").read_bytes() == (tmp / "one.csv").read_bytes()
+
+
+def test_fits_output_streams_chunks_of_varying_strings_and_missing_integers(tmp_path):
+    from astropy.table import Table
+
+    frame = pd.DataFrame({
+        "name": ["a", "bb", None, "a much longer name", "é"] * 3,
+        "count": pd.array([1, None, 3, 4, 5] * 3, dtype="Int64"),
+        "n": np.arange(15),
+        "x": np.linspace(0.0, 1.0, 15),
+        "ok": [True, False, True] * 5,
+    })
+    out = tmp_path / "out.fits"
+    with CatalogWriter(out) as writer:
+        for start in range(0, 15, 4):
+            writer.write(frame.iloc[start:start + 4])
+    table = Table.read(out)
+    assert len(table) == 15 and list(table["n"]) == list(range(15))
+    names = read_catalog(out)["name"].tolist()
+    assert names[:5] == ["a", "bb", "", "a much longer name", "é"] and names[5:10] == names[:5]
+    back = read_catalog(out)
+    assert np.isnan(back["count"].iloc[1]) and back["count"].iloc[2] == 3  # integers with gaps become floats
+    assert list(table["ok"][:3]) == [True, False, True]
+    np.testing.assert_array_equal(table["x"], frame["x"])
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out.fits"]  # spool removed

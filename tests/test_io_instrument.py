@@ -2,11 +2,10 @@
 
 import math
 
-import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from redcorr.exceptions import InputError
+from redcorr.exceptions import InputError, ThroughputWarning
 from redcorr.io.instrument import load_instrument
 
 GOOD = """
@@ -132,6 +131,7 @@ seeing_fwhm_arcsec = 1.0
 aperture_radius_arcsec = 1.5
 [bands.b]
 filter = "tophat:0.44:0.09"
+peak_throughput = 0.5
 sky_mag_arcsec2 = {sky}
 extinction_mag_per_airmass = 0.0
 """
@@ -161,3 +161,12 @@ def test_regimes_through_the_planner(tmp_path, read, sky, mag, slope, regime):
         assert p.noise == regime
         assert p.A_band > 1.0 * a_v  # B is more extinguished than V (any R_V law)
         assert_allclose(p.time_factor, 10 ** (slope * p.A_band), rtol=2e-3)
+
+
+def test_a_throughput_normalised_to_one_is_flagged(tmp_path):
+    # Fact of the trade (common practice, no source): no real telescope + filter + detector detects
+    # every photon, so a system throughput peaking at 1 is a normalised curve, not an absolute one.
+    text = GOOD.replace("qe_wave_um = [0.3, 1.2]\nqe = [0.9, 0.9]\n", "").replace("optics_efficiency = 0.8\n", "")
+    with pytest.warns(ThroughputWarning, match=r"\[bands.[vi]\]: the system throughput peaks at 1") as record:
+        load_instrument(_write(tmp_path, text))
+    assert len(record) == 2

@@ -6,6 +6,7 @@ from astropy import units as u
 from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table
 from redcorr.curves import list_curves
 from redcorr.exceptions import InputError
+from redcorr.grains import list_grain_models
 from redcorr.io import load_curve
 
 __all__ = ["add_parser", "run"]
@@ -45,11 +46,15 @@ def _list(as_json):
                 "citation": info["citation"],
             }
         )
+    models = list_grain_models()
     if as_json:
-        print_json(list_curves())
+        print_json({"laws": list_curves(), "grain_models": models})
     else:
         print_table(rows, ["name", "R_V", "R_V_range", "wave_um", "citation"])
-        print("Also: file:PATH, a tabulated curve (ECSV or CSV: wavelength_um, A_over_AV).")
+        print("\nGrain models (Mie theory; details with redcorr grain --list):")
+        print_table(models, ["name", "description"])
+        print("\nAlso: file:PATH, a tabulated curve (ECSV or CSV: wavelength_um, A_over_AV),")
+        print("and grain:PATH.toml, a grain model of your own.")
     return 0
 
 

@@ -6,7 +6,7 @@ import numpy as np
 
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.exposure import plan_exposure, snr_vs_time, time_vs_av
+from redcorr.exposure import ab_mag_of_spectrum, plan_exposure, snr_vs_time, time_vs_av
 from redcorr.io import check_output_path, load_curve
 from redcorr.io.filters import load_band
 from redcorr.io.instrument import load_instrument
@@ -35,7 +35,11 @@ def add_parser(sub):
     p.add_argument("--instrument", required=True, metavar="FILE|demo", help="instrument description (TOML) or 'demo'")
     p.add_argument("--band", action="append", metavar="NAME",
                    help="band of the instrument (repeat for several; default: all of them)")
-    p.add_argument("--mag", type=finite_float, required=True, metavar="M", help="dust-free AB magnitude of the source")
+    source = p.add_mutually_exclusive_group(required=True)
+    source.add_argument("--mag", type=finite_float, metavar="M", help="dust-free AB magnitude of the source")
+    source.add_argument("--calibrated", action="store_true",
+                        help="take the magnitudes from the --sed file, a flux-calibrated dust-free spectrum "
+                             "(ECSV or FITS with units)")
     p.add_argument("--mag-band", metavar="BAND",
                    help="band --mag is measured in (an instrument band or any band spec); "
                         "default: --mag holds in every planned band")
@@ -93,17 +97,29 @@ def run(args):
             raise InputError(f"--ebv={args.ebv:g} is not allowed; E(B-V) must be >= 0")
         a_v = args.ebv * curve.r_v
     bands = args.band or instrument.band_names
+    if args.calibrated:
+        if not args.sed.lower().endswith((".ecsv", ".fits", ".fit")) or not args.sed.startswith("file:"):
+            raise InputError(
+                f"--sed={args.sed!r}: --calibrated needs file:PATH to an ECSV or FITS spectrum whose flux "
+                "column carries its unit"
+            )
+        if args.mag_band:
+            raise InputError("--mag-band applies to --mag; a calibrated spectrum gives every band's magnitude")
+        mag = {instrument.channel(b).name: ab_mag_of_spectrum(sed, instrument.channel(b).band) for b in bands}
+    else:
+        mag = args.mag
     mag_band = _mag_band(args, instrument)
     common = dict(curve=curve, sed=sed, mag_band=mag_band, extrapolate=args.extrapolate)
-    plans = plan_exposure(instrument, bands, args.mag, a_v=a_v, snr=args.snr, time=args.time,
+    plans = plan_exposure(instrument, bands, mag, a_v=a_v, snr=args.snr, time=args.time,
                           limit_snr=args.limit_snr, **common)
 
     where = f" in {args.mag_band}" if args.mag_band else ""
+    label = "from the spectrum" if args.calibrated else f"{args.mag:g}"
     grid_snr = args.snr if args.snr is not None else args.limit_snr
     table = None
     if args.av_grid or args.av_plot:
         grid = np.asarray(args.av_grid) if args.av_grid else np.linspace(0.0, max(2.0 * a_v, 2.0), 41)
-        table = time_vs_av(instrument, [p.band for p in plans], args.mag, a_v=grid, snr=grid_snr, **common)
+        table = time_vs_av(instrument, [p.band for p in plans], mag, a_v=grid, snr=grid_snr, **common)
 
     if args.plot:
         from redcorr.plotting import plot_snr_vs_time  # noqa: PLC0415 - matplotlib only when asked
@@ -111,12 +127,12 @@ def run(args):
         t_hi = max(p.t_dust_s for p in plans if np.isfinite(p.t_dust_s)) * 4.0
         t = np.geomspace(max(t_hi, 1.0) * 1e-4, max(t_hi, 1.0), 200)
         plot_snr_vs_time(t, snr_vs_time(instrument, plans, t), args.plot, target=args.snr,
-                         title=f"{instrument.name}: AB {args.mag:g}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})")
+                         title=f"{instrument.name}: AB {label}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})")
     if args.av_plot:
         from redcorr.plotting import plot_time_vs_av  # noqa: PLC0415
 
         plot_time_vs_av(table[0], table[1], args.av_plot, mark=a_v,
-                        title=f"{instrument.name}: AB {args.mag:g}{where} to S/N {grid_snr:g} "
+                        title=f"{instrument.name}: AB {label}{where} to S/N {grid_snr:g} "
                               f"({curve.name}, R_V {curve.r_v:g})")
 
     if args.json:
@@ -124,7 +140,7 @@ def run(args):
         print(CAUTION, file=sys.stderr)
         return 0
 
-    print(f"# {instrument.name}; source AB {args.mag:g}{where or ' in each band'} (dust-free), SED {sed.name}")
+    print(f"# {instrument.name}; source AB {label}{where or ' in each band'} (dust-free), SED {sed.name}")
     print(f"# dust: A_V = {a_v:g} mag, {curve.name} R_V = {curve.r_v:g}; {curve.citation}")
     goal = f"S/N {args.snr:g}" if args.snr is not None else f"{args.time:g} s exposures"
     print(f"# goal: {goal}; limiting_mag = apparent AB mag at S/N {args.limit_snr:g} in t_dust_s")

@@ -14,6 +14,13 @@ __all__ = [
     "check_output_path",
     "load_curve",
     "read_curve_table",
+    "load_band",
+    "list_bands",
+    "load_sed",
+    "read_coefficient_grid",
+    "write_coefficient_grid",
+    "load_instrument",
+    "open_map",
     "read_grain_model",
     "read_optical_constants",
     "read_size_table",
@@ -21,3 +28,4 @@ __all__ = [
 __all__ += ["load_band", "list_bands", "load_sed", "read_coefficient_grid", "write_coefficient_grid"]
 __all__ += ["open_map"]
 __all__ += ["load_instrument"]
+

@@ -14,6 +14,7 @@ everything succeeded, and write the run summary beside the output as
 ``OUTPUT.summary.json``.
 """
 
+import contextlib
 import glob
 from pathlib import Path
 
@@ -170,20 +171,13 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
         except OSError as exc:
             raise InputError(f"scheduler={scheduler!r} could not be reached: {exc}") from None
     try:
-        columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
-        correction = make_correction(columns)
-        ddf, _ = _dask_input(input_path, in_format, delimiter, comment, correction.numeric_columns())
-        result = correct_dask(ddf, correction)
-        scheduler_kw = {"scheduler": client} if client is not None else {}
-        if out_fmt == "parquet":
-            with atomic_folder(output_path, overwrite=overwrite) as tmp:
-                write = result.to_parquet(str(tmp), write_index=False, compute=False)
-                summary = summarise_dask(result, correction, also=[write], **scheduler_kw)
-        else:
-            with atomic_path(output_path) as tmp:
-                write = result.to_csv(str(tmp), single_file=True, index=False, compute=False)
-                summary = summarise_dask(result, correction, also=write if isinstance(write, list) else [write],
-                                         **scheduler_kw)
+        with _text_in_numbers(input_path):
+            columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
+            correction = make_correction(columns)
+            ddf, _ = _dask_input(input_path, in_format, delimiter, comment, correction.numeric_columns())
+            result = correct_dask(ddf, correction)
+            scheduler_kw = {"scheduler": client} if client is not None else {}
+            summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw)
     finally:
         if client is not None:
             client.close()
@@ -192,3 +186,30 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
         write_summary(summary.to_dict(), output_path)
     warn_summary(summary)
     return summary
+
+
+@contextlib.contextmanager
+def _text_in_numbers(input_path):
+    """Turn pandas' complaint about text in a float column into a user error."""
+    try:
+        yield
+    except ValueError as exc:
+        if "could not convert" not in str(exc):
+            raise
+        reason = str(exc).splitlines()[-1].replace("Original Message: ", "")
+        raise InputError(
+            f"input {str(input_path)!r}: {reason}; the dask engine needs numbers in the magnitude and "
+            "reddening columns (the stream engine flags such rows instead)"
+        ) from None
+
+
+def _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw):
+    """Write ``result`` atomically and summarise it in the same pass over the partitions."""
+    if out_fmt == "parquet":
+        with atomic_folder(output_path, overwrite=overwrite) as tmp:
+            write = result.to_parquet(str(tmp), write_index=False, compute=False)
+            return summarise_dask(result, correction, also=[write], **scheduler_kw)
+    with atomic_path(output_path) as tmp:
+        write = result.to_csv(str(tmp), single_file=True, index=False, compute=False)
+        return summarise_dask(result, correction, also=write if isinstance(write, list) else [write],
+                              **scheduler_kw)

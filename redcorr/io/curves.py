@@ -6,7 +6,8 @@ import numpy as np
 from astropy import units as u
 from astropy.table import Table
 
-from redcorr.curves import TabulatedCurve, get_curve
+from redcorr._validate import check_choice
+from redcorr.curves import LAWS, TabulatedCurve, get_curve
 from redcorr.exceptions import InputError
 
 __all__ = ["read_curve_table", "load_curve"]
@@ -99,13 +100,15 @@ def load_curve(spec, r_v=None):
     """
     from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
 
-    if isinstance(spec, str) and (
-        spec.startswith(_GRAIN_PREFIX) or spec.strip().lower() in GRAIN_MODELS
-    ):
-        return _grain_curve(spec.strip() if not spec.startswith(_GRAIN_PREFIX) else spec, r_v)
+    if isinstance(spec, str) and spec.startswith(_GRAIN_PREFIX):
+        return _grain_curve(spec, r_v)
     if isinstance(spec, str) and spec.startswith(_FILE_PREFIX):
         curve = read_curve_table(spec[len(_FILE_PREFIX):])
         if r_v is not None:
             curve = TabulatedCurve(*curve.table, r_v=r_v, name=curve.name, citation=curve.citation)
         return curve
-    return get_curve(spec, r_v=r_v)
+    # One namespace for laws and grain models, so a typo gets suggestions from both.
+    key = check_choice("law", spec, sorted(LAWS) + sorted(GRAIN_MODELS))
+    if key in GRAIN_MODELS:
+        return _grain_curve(key, r_v)
+    return get_curve(key, r_v=r_v)

@@ -47,14 +47,17 @@ QE table and set ``peak_throughput``.
 """
 
 import math
+import warnings
 from pathlib import Path
 
 import numpy as np
 
 from redcorr._paths import project_dir
-from redcorr.exceptions import InputError
+from redcorr.bandpass import Band
+from redcorr.exceptions import InputError, ThroughputWarning
 from redcorr.exposure import Channel, Instrument
 from redcorr.io._toml import load_toml
+from redcorr.io.filters import load_band
 
 __all__ = ["load_instrument", "instrument_from_dict", "DEMO_INSTRUMENT"]
 
@@ -170,9 +173,6 @@ def _qe_table(camera, source):
 
 
 def _system_band(name, table, base, qe, optics, source):
-    from redcorr.bandpass import Band  # noqa: PLC0415 - keep the module importable for the docs
-    from redcorr.io.filters import load_band  # noqa: PLC0415
-
     section = f"bands.{name}"
     spec = _spec(_get(table, "filter", None, source, section), base, "filter", source, section)
     try:
@@ -198,6 +198,14 @@ def _system_band(name, table, base, qe, optics, source):
         peak = _number(peak, "peak_throughput", source, section, lo=0.0, lo_open=True, hi=1.0)
         response *= peak / response.max()
         parts.append(f"rescaled to a peak of {peak:g}")
+    elif response.max() > 0.98:
+        warnings.warn(
+            f"{_where(source, section)}: the system throughput peaks at {response.max():.3g}, which looks like a "
+            "curve normalised to 1 rather than the fraction of photons detected; set peak_throughput (or a QE "
+            "table and optics_efficiency), or the times will be too short",
+            ThroughputWarning,
+            stacklevel=3,
+        )
     return Band(lam, response, name=name, convention="photon", provenance=" × ".join(parts))
 
 

@@ -1,0 +1,161 @@
+"""Benchmark: catalog correction against plain pyarrow read + write of the same file.
+
+Targets (issue 5): 1 M rows x 5 bands, CSV -> CSV within 1.3x of pyarrow's read + write of the
+same file; Parquet -> Parquet within 1.5x; peak memory for 5 M rows about the same as for a
+smaller file (streaming). Everything is written to a temporary folder and removed.
+
+    python benchmarks/bench_catalog.py [--rows 1000000] [--big-rows 5000000] [--skip-memory]
+
+The catalog is invented (uniform random magnitudes); the law is f99 with R_V = 3.1, default
+nonlinear mode with a fixed 7000 K source, E(B-V) and its error from columns.
+"""
+
+import argparse
+import json
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.csv as pacsv
+import pyarrow.parquet as pq
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+BANDS = ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"]
+
+
+def make_table(n, seed=0):
+    rng = np.random.default_rng(seed)
+    cols = {"id": np.arange(n), "ra": rng.uniform(100.75, 101.75, n), "dec": rng.uniform(-27.9, -26.9, n)}
+    for band in BANDS:
+        col = band.replace("-", "_")
+        cols[col] = rng.uniform(12.0, 20.0, n)
+        cols["e_" + col] = rng.uniform(0.005, 0.1, n)
+    cols["ebv"] = rng.uniform(0.0, 2.0, n)
+    cols["e_ebv"] = rng.uniform(0.0, 0.05, n)
+    return pa.table(cols)
+
+
+def best_of(fn, repeat):
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return min(times)
+
+
+def _make(columns, linear=False):
+    from redcorr.correct import Correction
+
+    return Correction(BANDS, columns=columns, nonlinear=not linear)
+
+
+def run_redcorr(src, dst, linear=False):
+    from redcorr.io.batch import correct_file
+
+    if Path(dst).exists():
+        Path(dst).unlink()
+        Path(str(dst) + ".summary.json").unlink()
+    correct_file(src, dst, lambda c: _make(c, linear), chunk_rows=250_000)
+
+
+def time_pair(tmp, n, repeat):
+    table = make_table(n)
+    csv_in, pq_in = tmp / "in.csv", tmp / "in.parquet"
+    pacsv.write_csv(table, csv_in)
+    pq.write_table(table, pq_in)
+    _make(table.column_names)  # warm the filter and coefficient caches once, as a long run would
+    results = {}
+
+    def base_csv():
+        pacsv.write_csv(pacsv.read_csv(csv_in), tmp / "base.csv")
+
+    def base_pq():
+        pq.write_table(pq.read_table(pq_in), tmp / "base.parquet")
+
+    results["csv_baseline_s"] = best_of(base_csv, repeat)
+    results["csv_redcorr_s"] = best_of(lambda: run_redcorr(csv_in, tmp / "out.csv"), repeat)
+    results["csv_redcorr_linear_s"] = best_of(lambda: run_redcorr(csv_in, tmp / "out.csv", True), repeat)
+    results["parquet_baseline_s"] = best_of(base_pq, repeat)
+    results["parquet_redcorr_s"] = best_of(lambda: run_redcorr(pq_in, tmp / "out.parquet"), repeat)
+    out_table = pq.read_table(tmp / "out.parquet")
+    results["columns_in_out"] = [table.num_columns, out_table.num_columns]
+
+    # The I/O floor: pyarrow reading the input and writing a table as wide as redcorr's output
+    # (input columns + corrected magnitudes, errors, A_b, E(B-V) used, flags).
+    def floor_csv():
+        pacsv.read_csv(csv_in)
+        pacsv.write_csv(out_table, tmp / "floor.csv")
+
+    def floor_pq():
+        pq.read_table(pq_in)
+        pq.write_table(out_table, tmp / "floor.parquet")
+
+    results["csv_floor_s"] = best_of(floor_csv, repeat)
+    results["parquet_floor_s"] = best_of(floor_pq, repeat)
+    return results
+
+
+def peak_rss(tmp, n):
+    """Peak RSS (MB) of a fresh process correcting an n-row CSV file to Parquet."""
+    src = tmp / f"mem_{n}.csv"
+    writer = None
+    for start in range(0, n, 1_000_000):
+        part = make_table(min(1_000_000, n - start), seed=start)
+        if writer is None:
+            writer = pacsv.CSVWriter(src, part.schema)
+        writer.write_table(part)
+    writer.close()
+    code = (
+        "import resource, sys; sys.path.insert(0, %r);"
+        "from benchmarks.bench_catalog import run_redcorr;"
+        "run_redcorr(%r, %r);"
+        "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024)"
+    ) % (str(ROOT), str(src), str(tmp / f"mem_{n}.parquet"))
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
+    src.unlink()
+    return float(out.stdout.strip().splitlines()[-1]), src
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--rows", type=int, default=1_000_000)
+    parser.add_argument("--big-rows", type=int, default=5_000_000)
+    parser.add_argument("--small-rows", type=int, default=1_000_000)
+    parser.add_argument("--repeat", type=int, default=2)
+    parser.add_argument("--skip-memory", action="store_true")
+    args = parser.parse_args()
+    with tempfile.TemporaryDirectory() as tmpdir:
+        tmp = Path(tmpdir)
+        res = time_pair(tmp, args.rows, args.repeat)
+        res["rows"] = args.rows
+        res["csv_ratio"] = res["csv_redcorr_s"] / res["csv_baseline_s"]
+        res["csv_linear_ratio"] = res["csv_redcorr_linear_s"] / res["csv_baseline_s"]
+        res["parquet_ratio"] = res["parquet_redcorr_s"] / res["parquet_baseline_s"]
+        res["csv_ratio_floor"] = res["csv_redcorr_s"] / res["csv_floor_s"]
+        res["parquet_ratio_floor"] = res["parquet_redcorr_s"] / res["parquet_floor_s"]
+        print(f"{args.rows:,} rows x {len(BANDS)} bands (columns in/out {res['columns_in_out']})")
+        print(f"CSV -> CSV:         redcorr {res['csv_redcorr_s']:.2f} s, pyarrow read+write "
+              f"{res['csv_baseline_s']:.2f} s, ratio {res['csv_ratio']:.2f} (target <= 1.3)")
+        print(f"  linear mode:      redcorr {res['csv_redcorr_linear_s']:.2f} s, ratio {res['csv_linear_ratio']:.2f}")
+        print(f"Parquet -> Parquet: redcorr {res['parquet_redcorr_s']:.2f} s, pyarrow read+write "
+              f"{res['parquet_baseline_s']:.2f} s, ratio {res['parquet_ratio']:.2f} (target <= 1.5)")
+        print(f"Against pyarrow reading the input and writing a table as wide as the output: "
+              f"CSV {res['csv_ratio_floor']:.2f}, Parquet {res['parquet_ratio_floor']:.2f}")
+        if not args.skip_memory:
+            small, _ = peak_rss(tmp, args.small_rows)
+            big, _ = peak_rss(tmp, args.big_rows)
+            res.update(rss_small_mb=small, rss_big_mb=big, rss_ratio=big / small)
+            print(f"Peak RSS: {args.small_rows:,} rows {small:.0f} MB, {args.big_rows:,} rows {big:.0f} MB, "
+                  f"ratio {big / small:.2f} (target: flat, about 1)")
+        print(json.dumps(res))
+
+
+if __name__ == "__main__":
+    main()
