@@ -48,54 +48,6 @@ def plot_curve(curve, path, *, marks=None, extrapolate=False):
     plt.close(fig)
 
 
-def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate=False):
-    """Draw the bands over A(λ)/A(V), and A_b/A_V against A_V for each band.
-
-    Parameters
-    ----------
-    curve : ExtinctionCurve
-    bands : list of Band
-    sed : SED
-        Source spectrum used for A_b/A_V.
-    path : path-like
-        PNG file to write (atomically).
-    a_v_max : float
-        Upper end of the A_V axis of the right panel.
-    extrapolate : bool
-        Passed to the band integration.
-    """
-    from redcorr.extinction import band_extinction, band_ratio  # noqa: PLC0415
-
-    plt = _figure()
-    wmin, wmax = curve.wave_range.to_value(u.um)
-    lo = max(min(b.wave_range_um[0] for b in bands) * 0.9, wmin)
-    hi = min(max(b.wave_range_um[1] for b in bands) * 1.1, wmax)
-    lam = np.geomspace(lo, hi, 500)
-    fig, (left, right) = plt.subplots(1, 2, figsize=(11, 4.2), layout="constrained")
-    left.plot(lam, curve(lam), color="k", lw=1.6, label=f"{curve.name} (R_V={curve.r_v:.2f})")
-    left.set_xlabel(r"$\lambda$ [$\mu$m]")
-    left.set_ylabel(r"$A(\lambda)/A(V)$")
-    twin = left.twinx()
-    a_v = np.linspace(0.0, a_v_max, 81)[1:]
-    for band in bands:
-        line = twin.fill_between(band.wave_um, band.response / band.response.max(), alpha=0.25, label=band.name)
-        colour = line.get_facecolor()[0]
-        ratio = band_extinction(curve, band, sed, a_v, extrapolate) / a_v
-        right.plot(np.r_[0.0, a_v], np.r_[band_ratio(curve, band, sed, extrapolate), ratio], color=colour[:3], label=band.name)
-    left.set_zorder(twin.get_zorder() + 1)  # the curve above the filled bands
-    left.patch.set_visible(False)
-    twin.set_ylim(0, 1.05)
-    twin.set_ylabel("response (peak 1)")
-    twin.legend(frameon=False, fontsize=8, loc="upper right")
-    left.set_title(curve.citation, fontsize=8)
-    right.set_xlabel(r"$A_V$ [mag]")
-    right.set_ylabel(r"$A_b/A_V$")
-    right.set_title(f"source: {sed.name}", fontsize=9)
-    right.legend(frameon=False, fontsize=8, loc="best")
-    with atomic_path(path, suffix=".png") as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
-    plt.close(fig)
-
 def plot_snr_vs_time(t, snr_by_band, path, *, title="", target=None):
     """Draw S/N against exposure time, without (dashed) and with (solid) the dust.
 
@@ -155,8 +107,6 @@ def plot_time_vs_av(a_v, times_by_band, path, *, title="", mark=None):
     ax.set_ylabel("exposure time needed [s]")
     ax.set_title(title, fontsize=8)
     ax.legend(frameon=False)
-
-
     with atomic_path(path, suffix=".png") as tmp:
         fig.savefig(tmp, format="png", dpi=110)
     plt.close(fig)

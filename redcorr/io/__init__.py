@@ -25,7 +25,3 @@ __all__ = [
     "read_optical_constants",
     "read_size_table",
 ]
-__all__ += ["load_band", "list_bands", "load_sed", "read_coefficient_grid", "write_coefficient_grid"]
-__all__ += ["open_map"]
-__all__ += ["load_instrument"]
-
