@@ -9,7 +9,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Button, Checkbox, DataTable, DirectoryTree, Footer, Header, Label, ProgressBar, Select, Static
+from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
 
 from redcorr.correct import Correction
 from redcorr.io.batch import correct_file
@@ -27,7 +27,7 @@ from redcorr.tui._inputs import (
     preview_correction,
     split_list,
 )
-from redcorr.tui.widgets import ColumnMapping, Field, StatusLine, XYPlot
+from redcorr.tui.widgets import ColumnMapping, Field, FileTree, StatusLine, XYPlot
 
 __all__ = ["CatalogScreen", "RunCancelled"]
 
@@ -82,7 +82,7 @@ class CatalogScreen(Screen):
         s = self.session
         yield Header()
         with Horizontal(id="cat-body"):
-            yield DirectoryTree(Path(s.cat_dir if Path(s.cat_dir).is_dir() else Path.cwd()), id="cat-tree")
+            yield FileTree(Path(s.cat_dir if Path(s.cat_dir).is_dir() else Path.cwd()), id="cat-tree")
             with VerticalScroll(id="cat-main"):
                 with Horizontal(classes="form"):
                     yield Field("input", s.cat_input, input_id="cat-input", placeholder="catalog file", width=44)

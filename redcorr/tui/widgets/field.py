@@ -10,8 +10,8 @@ __all__ = ["Field"]
 class Field(Horizontal):
     """``label`` beside an `Input` whose id is ``input_id``.
 
-    The screen validates the text through the core and calls
-    :meth:`mark` to colour the input when the value is refused.
+    The screen validates the text through the core and gives the input the
+    class ``-refused`` (outlined in red) while the value is refused.
     """
 
     DEFAULT_CSS = """
@@ -35,12 +35,3 @@ class Field(Horizontal):
         if self._width:
             field.styles.width = self._width
         yield field
-
-    @property
-    def input(self):
-        """The `Input` widget."""
-        return self.query_one(Input)
-
-    def mark(self, refused):
-        """Colour the input as refused (True) or accepted (False)."""
-        self.input.set_class(refused, "-refused")

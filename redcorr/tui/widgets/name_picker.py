@@ -58,11 +58,6 @@ class NamePicker(Vertical):
             if not text or text in name.lower() or text in desc.lower()
         ]
 
-    def set_entries(self, entries):
-        """Replace the list of names, keeping the current search."""
-        self._entries = list(entries)
-        self._refilter()
-
     def _refilter(self):
         options = self.query_one(OptionList)
         options.clear_options()
