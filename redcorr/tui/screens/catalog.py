@@ -7,7 +7,7 @@ from pathlib import Path
 from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
 
@@ -19,7 +19,6 @@ from redcorr.tui._inputs import (
     RED_KINDS,
     SPECTRA,
     catalog_probe,
-    colour_pair,
     correction_options,
     guess_mapping,
     guess_reddening,
