@@ -114,3 +114,13 @@ def test_progress_bar_on_a_terminal_only(tmp_path, monkeypatch, capsys):
         assert bar._bar.tasks[0].completed == 500.0 and bar._bar.tasks[0].fields["rows"] == 500
     with _Progress(False) as quiet:
         assert not quiet.enabled
+
+
+def test_keep_only_some_input_columns(tmp_path, capsys):
+    src = _src(tmp_path)
+    out = tmp_path / "o.parquet"
+    assert main(["correct", str(src), str(out), *BANDS, "--keep", "id", "--quiet"]) == 0
+    columns = list(pd.read_parquet(out).columns)
+    assert columns[0] == "id" and "Bmag" not in columns and "Bmag_dered" in columns
+    assert main(["correct", str(src), str(tmp_path / "o2.csv"), *BANDS, "--keep", "nope"]) == 2
+    assert "nope" in capsys.readouterr().err

@@ -28,6 +28,11 @@ def _pair(text):
     return tuple(parts)
 
 
+def _names(text):
+    """argparse type: comma-separated column names ('' for none)."""
+    return [n for n in text.split(",") if n]
+
+
 def _positive_int(text):
     try:
         value = int(text)
@@ -100,6 +105,8 @@ def add_parser(sub):
     f.add_argument("--comment", default="#", metavar="C", help="CSV comment character (default #)")
     f.add_argument("--hdu", metavar="N", help="FITS extension number or name (default: first table)")
     f.add_argument("--chunk-rows", type=_positive_int, default=250_000, metavar="N", help="rows per chunk")
+    f.add_argument("--keep", type=_names, metavar="COLS",
+                   help="input columns to copy to OUTPUT, comma-separated (default all; '' for none)")
     f.add_argument("--suffix", default="_dered", help="suffix of corrected columns (default _dered)")
     f.add_argument("--overwrite", action="store_true", help="replace an existing OUTPUT")
     f.add_argument("--strict", action="store_true", help="fail on text in a number column instead of flagging")
@@ -177,6 +184,8 @@ def run(args):
         return Correction(args.band, columns=columns, **options)
 
     if args.engine == "dask":
+        if args.keep is not None:
+            raise InputError("--keep works with the stream engine only")
         summary = correct_file_dask(
             args.input, args.output, make, in_format=args.in_format, out_format=args.out_format,
             delimiter=args.delimiter, comment=args.comment, overwrite=args.overwrite,
@@ -190,7 +199,7 @@ def run(args):
             summary = correct_file(
                 args.input, args.output, make, in_format=args.in_format, out_format=args.out_format,
                 chunk_rows=args.chunk_rows, delimiter=args.delimiter, comment=args.comment, hdu=hdu,
-                overwrite=args.overwrite, progress=progress,
+                overwrite=args.overwrite, progress=progress, keep_columns=args.keep,
             )
     if args.json:
         print_json(summary.to_dict())

@@ -16,6 +16,8 @@ everything succeeded, and write the run summary beside the output as
 
 import contextlib
 import glob
+import queue
+import threading
 from pathlib import Path
 
 from redcorr.correct import correct_dask, summarise_dask, warn_summary
@@ -47,7 +49,7 @@ def _check_targets(output, overwrite, inputs):
 
 def correct_file(input_path, output_path, make_correction, *, in_format=None, out_format=None,
                  chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=",", comment="#", hdu=None,
-                 overwrite=False, progress=None, summary_file=True):
+                 overwrite=False, progress=None, summary_file=True, keep_columns=None):
     """Correct a catalog file in chunks and write the result atomically.
 
     Parameters
@@ -72,6 +74,9 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
         ``progress(rows_done, fraction_or_None)`` after each chunk.
     summary_file : bool
         Write ``OUTPUT.summary.json``.
+    keep_columns : list of str, optional
+        Input columns to copy to the output before the new ones (default
+        all; ``[]`` writes the new columns only).
 
     Returns
     -------
@@ -83,6 +88,7 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
     with open_catalog(input_path, **options) as probe:
         columns, fmt_in = probe.columns, probe.format
     correction = make_correction(columns)
+    keep = _keep(columns, keep_columns)
     if out_format is None and not output_path.suffix:
         out_format = fmt_in
     text_columns = set()
@@ -90,7 +96,7 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
         correction.summary = type(correction.summary)(correction.setup())
         try:
             _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
-                    overwrite, progress)
+                    overwrite, progress, keep)
             break
         except ColumnTypeError as exc:  # text in a CSV column read as numbers: read it as text
             if exc.column in text_columns:
@@ -103,17 +109,74 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
     return summary
 
 
+def _keep(columns, keep_columns):
+    """The input columns to copy, checked against the input."""
+    if keep_columns is None:
+        return list(columns)
+    missing = [c for c in keep_columns if c not in columns]
+    if missing:
+        raise InputError(f"keep_columns: {missing} are not columns of the input; the columns are {list(columns)}")
+    return list(dict.fromkeys(keep_columns))
+
+
 def _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
-            overwrite, progress):
+            overwrite, progress, keep):
     numeric = [c for c in correction.numeric_columns() if c not in text_columns]
     with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, **options) as reader:
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
                            delimiter=delimiter, meta=meta) as writer:
-            for chunk in reader:
-                writer.write(correction.correct(chunk))
+            selection = keep + correction.output_columns
+            for chunk in _prefetch(reader):
+                writer.write(correction.correct(chunk)[selection])
                 if progress is not None:
                     progress(correction.summary.rows, reader.fraction_done())
+
+
+def _prefetch(iterable, depth=2):
+    """Iterate ``iterable`` in a background thread, at most ``depth`` items ahead.
+
+    Reading (pyarrow parses outside the GIL) then overlaps with correcting
+    and writing the previous chunk; memory grows by ``depth`` chunks only.
+    An exception in the reader is raised here; leaving the loop early (an
+    error or Ctrl-C in the caller) stops the thread.
+    """
+    items = queue.Queue(maxsize=depth)
+    stop = threading.Event()
+    done = object()
+
+    def put(item):
+        while not stop.is_set():
+            try:
+                items.put(item, timeout=0.1)
+                return True
+            except queue.Full:
+                continue
+        return False
+
+    def work():
+        try:
+            for item in iterable:
+                if not put((item, None)):
+                    return
+        except BaseException as exc:  # handed to the consumer, re-raised there
+            put((None, exc))
+            return
+        put((done, None))
+
+    thread = threading.Thread(target=work, name="redcorr-reader", daemon=True)
+    thread.start()
+    try:
+        while True:
+            item, exc = items.get()
+            if exc is not None:
+                raise exc
+            if item is done:
+                return
+            yield item
+    finally:
+        stop.set()
+        thread.join()
 
 
 def _dask_input(input_path, in_format, delimiter, comment, numeric):

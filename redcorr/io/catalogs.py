@@ -34,6 +34,7 @@ Reading and writing every format holds one chunk at a time (plus pyarrow's
 read-ahead blocks), so memory does not grow with file size.
 """
 
+import abc
 import contextlib
 import gzip
 import io
@@ -183,7 +184,7 @@ def _rebatch(batches, chunk_rows):
         yield pa.Table.from_batches(pending)
 
 
-class CatalogReader:
+class CatalogReader(abc.ABC):
     """A catalog file opened for reading in chunks.
 
     Use :func:`open_catalog` to make one. Iterating yields pandas DataFrames
@@ -211,14 +212,15 @@ class CatalogReader:
         """Fraction of the input consumed so far, in [0, 1], or None if unknown."""
         return None
 
-    def _tables(self):
-        raise NotImplementedError
+    @abc.abstractmethod
+    def _frames(self):
+        """Yield the non-empty chunks as DataFrames."""
 
     def __iter__(self):
         empty = True
-        for table in self._tables():
+        for frame in self._frames():
             empty = False
-            yield table.to_pandas(types_mapper=_int_as_nullable)
+            yield frame
         if empty:
             yield pd.DataFrame({name: pd.Series(dtype=float) for name in self.columns})
 
@@ -331,8 +333,9 @@ class _CsvReader(CatalogReader):
                 raise self._read_error(exc) from None
             yield batch
 
-    def _tables(self):
-        return _rebatch(self._batches(), self.chunk_rows)
+    def _frames(self):
+        for table in _rebatch(self._batches(), self.chunk_rows):
+            yield table.to_pandas(types_mapper=_int_as_nullable)
 
     def close(self):
         self._raw.close()
@@ -406,11 +409,8 @@ class _FitsReader(CatalogReader):
     def fraction_done(self):
         return self._done / self.n_rows if self.n_rows else 1.0
 
-    def __iter__(self):
+    def _frames(self):
         data = self._hdu.data
-        if not self.n_rows:
-            yield pd.DataFrame({name: pd.Series(dtype=float) for name in self.columns})
-            return
         for start in range(0, self.n_rows, self.chunk_rows):
             rows = data[start : start + self.chunk_rows]
             out = {}
@@ -466,10 +466,10 @@ class _ParquetReader(CatalogReader):
     def fraction_done(self):
         return self._done / self.n_rows if self.n_rows else 1.0
 
-    def _tables(self):
+    def _frames(self):
         for table in _rebatch(self._dataset.to_batches(batch_size=self.chunk_rows), self.chunk_rows):
             self._done += table.num_rows
-            yield table
+            yield table.to_pandas(types_mapper=_int_as_nullable)
 
 
 def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=",", comment="#",
