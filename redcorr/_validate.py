@@ -13,6 +13,7 @@ from astropy import units as u
 from redcorr.exceptions import InputError, UnknownNameError
 
 __all__ = [
+    "as_float_array",
     "check_choice",
     "check_finite",
     "check_positive",
@@ -68,6 +69,34 @@ def check_choice(name, value, choices):
     else:
         hint = f"{len(lookup)} names are known; list them with --list"
     raise UnknownNameError(f"{name}={value!r} is not known; {hint}")
+
+
+def as_float_array(name, value, unit=None, what="a number"):
+    """``value`` as a float64 array, converting a Quantity to ``unit`` first.
+
+    Parameters
+    ----------
+    name : str
+        Argument name used in error messages.
+    value : float, array_like or `~astropy.units.Quantity`
+        Plain numbers are taken to be in ``unit`` already.
+    unit : `~astropy.units.Unit`, optional
+        Unit of the returned numbers; a Quantity in another unit of the same
+        physical type is converted, any other unit is refused.
+    what : str
+        What the value is, for the unit error ("a length", "an angle", ...).
+    """
+    if isinstance(value, u.Quantity):
+        if unit is None:
+            unit = u.dimensionless_unscaled
+        try:
+            value = value.to_value(unit)
+        except u.UnitConversionError:
+            raise InputError(f"{name} has unit {value.unit!s}; {what} is needed") from None
+    try:
+        return np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}={value!r} is not numeric") from None
 
 
 def inverse_micron(wave, name="wave"):

@@ -45,7 +45,7 @@ from astropy import constants as const
 from astropy import units as u
 from scipy.integrate import trapezoid
 
-from redcorr._validate import check_choice, check_finite, check_positive, check_range
+from redcorr._validate import as_float_array, check_choice, check_finite, check_positive, check_range
 from redcorr.exceptions import InputError, UnknownNameError
 from redcorr.extinction import band_extinction
 
@@ -81,15 +81,7 @@ _JY = 1e-26  # W m⁻² Hz⁻¹
 
 def _seconds(t, name):
     """Float64 array of times in s (a Quantity of time accepted), checked ≥ 0."""
-    if isinstance(t, u.Quantity):
-        try:
-            t = t.to_value(u.s)
-        except u.UnitConversionError:
-            raise InputError(f"{name} has unit {t.unit!s}; a unit of time is needed") from None
-    try:
-        arr = np.asarray(t, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}={t!r} is not numeric") from None
+    arr = as_float_array(name, t, u.s, "a unit of time")
     bad = ~np.isnan(arr) & ~(arr >= 0)
     bad |= np.isinf(arr)
     if np.any(bad):

@@ -48,7 +48,7 @@ import numpy as np
 from astropy import units as u
 from astropy.coordinates import BaseCoordinateFrame, UnitSphericalRepresentation, frame_transform_graph
 
-from redcorr._validate import check_choice, check_finite, check_positive
+from redcorr._validate import as_float_array, check_choice, check_finite, check_positive
 from redcorr.exceptions import InputError
 
 __all__ = [
@@ -139,15 +139,7 @@ def transform_lonlat(lon_deg, lat_deg, from_frame, to_frame):
 
 def _angle_array(value, name):
     """Degrees as a float64 array from numbers or an angle Quantity."""
-    if isinstance(value, u.Quantity):
-        try:
-            return np.asarray(value.to_value(u.deg), dtype=float)
-        except u.UnitConversionError:
-            raise InputError(f"{name} has unit {value.unit!s}; an angle is needed") from None
-    try:
-        return np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}={value!r} is not numeric; give angles in degrees") from None
+    return as_float_array(name, value, u.deg, "an angle (plain numbers are degrees)")
 
 
 def _blank_mask(values, blank_value):

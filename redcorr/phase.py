@@ -11,6 +11,7 @@ import numpy as np
 from astropy import units as u
 from scipy.integrate import trapezoid
 
+from redcorr._validate import as_float_array
 from redcorr.exceptions import InputError
 from redcorr.mie import _angles, amplitudes, mie
 
@@ -118,15 +119,7 @@ class PopulationPhase:
 
 
 def _lengths_um(name, value):
-    if isinstance(value, u.Quantity):
-        try:
-            value = value.to_value(u.um)
-        except u.UnitConversionError:
-            raise InputError(f"{name} has unit {value.unit!s}; a length is needed") from None
-    try:
-        return np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}={value!r} is not numeric") from None
+    return as_float_array(name, value, u.um, "a length")
 
 
 def population_phase_function(m, radius, weight, wavelength, theta, *, convention="n+ik"):

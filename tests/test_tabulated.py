@@ -85,7 +85,8 @@ def test_csv(tmp_path):
         ("wavelength_um,other\n0.5,1\n", "no 'A_over_AV'"),
         ("lam,A_over_AV\n0.5,1\n", "wavelength_um"),
         ("wavelength_um,A_over_AV\n0.5,1\n0.6,0.9\n", "at least 4"),
-        ("wavelength_um,A_over_AV\n0.5,x\n0.6,0.9\n0.7,1\n0.8,1\n", "not numeric"),
+        ("wavelength_um,A_over_AV\n0.5,x\n0.6,0.9\n0.7,1\n0.8,1\n", "'A_over_AV' is not numeric"),
+        ("wavelength_um,A_over_AV\nx,1\n0.6,0.9\n0.7,1\n0.8,1\n", "'wavelength_um' is not numeric"),
     ],
 )
 def test_malformed_files(tmp_path, text, match):

@@ -4,15 +4,10 @@ import sys
 
 import numpy as np
 
+from redcorr.band_table import band_table
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.extinction import (
-    band_extinction,
-    band_ratio,
-    coefficient_grid,
-    colour_excess_ratio,
-    effective_wavelength,
-)
+from redcorr.extinction import coefficient_grid, colour_excess_ratio
 from redcorr.io import check_output_path, load_curve
 from redcorr.io.filters import load_band
 from redcorr.io.grids import write_coefficient_grid
@@ -78,23 +73,6 @@ def _a_v(args, curve):
     return float(a_v)
 
 
-def _rows(curve, bands, sed, a_v, extrapolate):
-    rows = []
-    for band in bands:
-        a_band = float(band_extinction(curve, band, sed, a_v, extrapolate))
-        ratio = a_band / a_v if a_v > 0 else band_ratio(curve, band, sed, extrapolate)
-        rows.append(
-            {
-                "band": band.name,
-                "lambda_eff_um": float(effective_wavelength(curve, band, sed, a_v, extrapolate)),
-                "A_band": a_band,
-                "A_over_AV": ratio,
-                "A_over_EBV": ratio * curve.r_v,
-            }
-        )
-    return rows
-
-
 def _write_grid(curve, bands, path, extrapolate, out):
     grid = coefficient_grid(curve, bands, extrapolate=extrapolate)
     poly = grid.fit_polynomial() if len(bands) >= 2 else None
@@ -121,7 +99,7 @@ def run(args):
     bands = [load_band(spec) for spec in args.band]
     sed = load_sed(args.sed)
     a_v = _a_v(args, curve)
-    rows = _rows(curve, bands, sed, a_v, args.extrapolate)
+    rows = band_table(curve, bands, sed, a_v, args.extrapolate)
     info = sys.stderr if args.json else sys.stdout
     if args.json:
         print_json(rows)

@@ -19,7 +19,7 @@ import numpy as np
 from astropy import units as u
 from scipy.special import erf
 
-from redcorr._validate import check_finite, check_positive
+from redcorr._validate import as_float_array, check_finite, check_positive
 from redcorr.exceptions import InputError
 
 __all__ = [
@@ -46,15 +46,7 @@ A_MIN_WD01_UM = 3.5e-4
 
 def as_radius(a, name="a"):
     """Radii in µm as a float64 array; Quantity of length accepted."""
-    if isinstance(a, u.Quantity):
-        try:
-            a = a.to_value(u.um)
-        except u.UnitConversionError:
-            raise InputError(f"{name} has unit {a.unit!s}; a length unit is needed") from None
-    try:
-        return np.asarray(a, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}={a!r} is not numeric") from None
+    return as_float_array(name, a, u.um, "a length unit")
 
 
 class SizeDistribution(abc.ABC):

@@ -46,7 +46,10 @@ def read_curve_table(path):
     if "wavelength" in names and table["wavelength"].unit is not None:
         wave = u.Quantity(table["wavelength"])
     elif "wavelength_um" in names:
-        wave = np.asarray(table["wavelength_um"], dtype=float)
+        try:
+            wave = np.asarray(table["wavelength_um"], dtype=float)
+        except (TypeError, ValueError):
+            raise InputError(f"curve file {str(path)!r}: column 'wavelength_um' is not numeric") from None
     else:
         raise InputError(
             f"curve file {str(path)!r} needs a 'wavelength_um' column or a 'wavelength' column "

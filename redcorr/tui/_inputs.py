@@ -1,0 +1,224 @@
+"""Turn the UI's remembered inputs into core objects and results, through the core only."""
+
+import math
+
+import numpy as np
+
+from redcorr._validate import check_finite, check_range
+from redcorr.band_table import band_table
+from redcorr.correct import Correction
+from redcorr.curves import list_curves
+from redcorr.exceptions import InputError
+from redcorr.exposure import plan_exposure, snr_vs_time
+from redcorr.io import load_curve
+from redcorr.io.catalogs import open_catalog
+from redcorr.tui import _cache
+
+__all__ = [
+    "GOALS",
+    "RED_KINDS",
+    "SPECTRA",
+    "band_rows",
+    "catalog_probe",
+    "colour_pair",
+    "correction_options",
+    "dust_state",
+    "fixed_r_v",
+    "guess_mapping",
+    "guess_reddening",
+    "is_grain",
+    "law_r_v",
+    "mapping_options",
+    "plan_state",
+    "preview_correction",
+    "split_list",
+]
+
+GOALS = ("S/N", "time [s]")
+"""What the Plan screen aims at: a target S/N, or a fixed exposure time."""
+
+
+def dust_state(law, r_v_text, amount_text, amount_kind):
+    """``(curve, a_v, ebv)`` from the Dust inputs; `InputError` with the core's message if refused.
+
+    ``r_v_text`` empty means the law's default; a grain model ignores it.
+    ``amount_kind`` is ``"A_V"``
+    or ``"E(B-V)"``; E(B-V) ≡ A_V/R_V with the curve's R_V.
+    """
+    if is_grain(law):
+        curve = _cache.grain_curve(law)  # its R_V follows from the grains
+    else:
+        curve = load_curve(law, r_v=r_v_text.strip() or None)
+    amount = check_range(amount_kind, amount_text, 0.0, math.inf)
+    if amount_kind == "A_V":
+        return curve, amount, amount / curve.r_v
+    return curve, amount * curve.r_v, amount
+
+
+def band_rows(curve, band_specs, sed_spec, a_v):
+    """`redcorr.band_table.band_table` for band and source specs (loaded once, then cached)."""
+    bands = [_cache.band(spec) for spec in band_specs]
+    return band_table(curve, bands, _cache.sed(sed_spec), a_v)
+
+
+def plan_state(curve, a_v, instrument_spec, mag_text, mag_band_spec, sed_spec, goal, goal_text, limit_text):
+    """Plan exposures as ``redcorr plan`` does; return ``(instrument, plans, t, snr_by_band)``.
+
+    ``mag_band_spec`` empty means the magnitude holds in every band; an
+    instrument band name uses that band's system response, anything else
+    is a band spec. ``t`` spans the times plotted (up to 4x the longest
+    planned exposure, as the CLI's plot) and ``snr_by_band`` is
+    `redcorr.exposure.snr_vs_time` over it.
+    """
+    instrument = _cache.instrument(instrument_spec.strip())
+    mag = check_finite("mag", mag_text)
+    mag_band = None
+    if mag_band_spec.strip():
+        name = mag_band_spec.strip()
+        mag_band = instrument.channels[name].band if name in instrument.channels else _cache.band(name)
+    target = check_finite("snr" if goal == GOALS[0] else "time", goal_text)
+    plans = plan_exposure(
+        instrument,
+        instrument.band_names,
+        mag,
+        curve=curve,
+        sed=_cache.sed(sed_spec),
+        a_v=a_v,
+        snr=target if goal == GOALS[0] else None,
+        time=None if goal == GOALS[0] else target,
+        mag_band=mag_band,
+        limit_snr=check_finite("limit_snr", limit_text),
+    )
+    finite = [p.t_dust_s for p in plans if np.isfinite(p.t_dust_s)]
+    t_hi = max(max(finite, default=1.0) * 4.0, 1.0)
+    t = np.geomspace(t_hi * 1e-4, t_hi, 200)
+    return instrument, plans, t, snr_vs_time(instrument, plans, t)
+
+
+RED_KINDS = {
+    "ebv_column": "E(B-V) column",
+    "av_column": "A_V column",
+    "ebv": "E(B-V) constant",
+    "av": "A_V constant",
+    "map": "dust map",
+}
+"""Sources of reddening on the Catalog screen: `Correction` keyword → label."""
+
+SPECTRA = {"fixed": "fixed T [K]", "colour": "T from the colour"}
+"""Source temperature: a constant, or solved from the dereddened colour (as ``--solve-colour``)."""
+
+
+def split_list(text, name):
+    """``"kw-b, kw-v"`` → ``["kw-b", "kw-v"]``; `InputError` when empty."""
+    items = [t.strip() for t in str(text).split(",") if t.strip()]
+    if not items:
+        raise InputError(f"{name}={text!r} is empty; give names separated by commas")
+    return items
+
+
+def colour_pair(text):
+    """``"kw-b,kw-v"`` → ``("kw-b", "kw-v")``, or None for an empty text."""
+    if not str(text).strip():
+        return None
+    items = split_list(text, "colour")
+    if len(items) != 2:
+        raise InputError(f"colour={text!r} must be two band names, B1,B2")
+    return tuple(items)
+
+
+def law_r_v(law, r_v_text):
+    """The ``r_v`` to pass with ``law``: None for the law's default, a fixed-R_V law or a grain model."""
+    text = str(r_v_text).strip()
+    if not text or fixed_r_v(law) is not None or is_grain(law):
+        return None
+    return check_finite("r_v", text)
+
+
+def fixed_r_v(law):
+    """R_V of a registered law whose R_V cannot change; None otherwise (also for grain models)."""
+    return next((i["default_r_v"] for i in list_curves() if i["name"] == law and i["r_v_range"] is None), None)
+
+
+def is_grain(law):
+    """True for a grain-model name or ``grain:PATH.toml`` (computed with Mie theory, slow the first time)."""
+    from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
+
+    return law.startswith("grain:") or law.strip().lower() in GRAIN_MODELS
+
+
+def catalog_probe(path, rows=5):
+    """Column names and the first ``rows`` rows of a catalog file (as `redcorr.io.catalogs` reads it)."""
+    with open_catalog(path, chunk_rows=rows) as reader:
+        columns = list(reader.columns)
+        first = next(iter(reader), None)
+    return columns, first
+
+
+def guess_mapping(columns, bands, law, r_v):
+    """``{band: (magnitude column or None, error column or None)}`` as `Correction` guesses them."""
+    out = {}
+    for spec in bands:
+        try:
+            corr = Correction([spec], columns=columns, ebv=0.0, law=law, r_v=r_v)
+            out[spec] = (corr.mag_cols[0], corr.err_cols[0])
+        except InputError:
+            out[spec] = (None, None)
+    return out
+
+
+def guess_reddening(columns, bands, mapping, law, r_v):
+    """``(kind, column)`` of the reddening column `Correction` finds, or None."""
+    try:
+        corr = Correction(bands, columns=columns, law=law, r_v=r_v, **mapping_options(mapping))
+    except InputError:
+        return None
+    return ("ebv_column" if corr.red_quantity == "ebv" else "av_column"), corr.red_col
+
+
+def mapping_options(mapping):
+    """`Correction` keywords for a column mapping (an empty error column switches the guess off)."""
+    mags = {b: m for b, (m, _) in mapping.items() if m}
+    errs = {b: (e or None) for b, (_, e) in mapping.items()}
+    return {"mag_columns": mags, "err_columns": errs}
+
+
+def correction_options(mapping, red_kind, red_value, law, r_v, spectrum, teff_text, colour):
+    """Keyword arguments of `redcorr.correct.Correction` from the Catalog screen's choices.
+
+    They are those ``redcorr correct`` builds from the equivalent options
+    (``--mag``/``--err``, ``--ebv-col``/``--av-col``/``--ebv``/``--av``/``--map``,
+    ``--law``, ``--rv``, ``--teff``, ``--solve-colour``, ``--colour``).
+    """
+    if red_kind not in RED_KINDS:
+        raise InputError(f"reddening={red_kind!r} is not one of {list(RED_KINDS)}")
+    if spectrum not in SPECTRA:
+        raise InputError(f"spectrum={spectrum!r} is not one of {list(SPECTRA)}")
+    value = str(red_value).strip()
+    reddening = {}
+    if red_kind in ("ebv_column", "av_column"):
+        if not value:
+            raise InputError(f"{red_kind}='' is empty; name the column")
+        reddening[red_kind] = value
+    elif red_kind in ("ebv", "av"):
+        reddening[red_kind] = check_finite(red_kind, value)
+    else:
+        reddening["dust_map"] = _cache.dust_map(value)
+    pair = colour_pair(colour)
+    if spectrum == "colour" and pair is None:
+        raise InputError("spectrum='colour' needs the colour B1,B2 to solve the temperature from")
+    return dict(
+        **mapping_options(mapping),
+        **reddening,
+        colours=[pair] if pair else [],
+        law=law,
+        r_v=r_v,
+        spectrum=spectrum,
+        temperature=check_finite("temperature", teff_text),
+        solve_colour=pair if spectrum == "colour" else None,
+    )
+
+
+def preview_correction(frame, bands, options):
+    """The first rows corrected by `redcorr.correct.Correction` (nothing is written)."""
+    corr = Correction(bands, columns=list(frame.columns), **options)
+    return corr.correct(frame), corr

@@ -1,0 +1,176 @@
+"""The Bands screen: choose filters and the source spectrum; the band table, exported on demand."""
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import Screen
+from textual.widgets import Button, Footer, Header, Label, OptionList, Static
+from textual.widgets.option_list import Option
+
+from redcorr.io.band_tables import write_band_table
+from redcorr.io.filters import list_bands, project_bands
+from redcorr.tui import _cache
+from redcorr.tui._guard import combine, guarded
+from redcorr.tui._inputs import band_rows, dust_state
+from redcorr.tui.widgets import BandTable, Field, NamePicker, StatusLine
+
+__all__ = ["BandsScreen", "band_entries"]
+
+
+def band_entries():
+    """``(name, where it comes from)`` of every band known by name."""
+    own = set(project_bands())
+    return [(name, "filters/" if name in own else "speclite") for name in list_bands()]
+
+
+class BandsScreen(Screen):
+    """Choose bands (library, project, user files) and the source; the table updates as they change."""
+
+    TITLE = "Bands"
+    HELP = (
+        "choose filters (library names, the project's filters/, file:PATH, tophat:C:W, gauss:C:FWHM) "
+        "and the source spectrum; the table of A_b, A_b/A_V, A_b/E(B-V), λ_eff; export it"
+    )
+    BINDINGS = [
+        Binding("ctrl+f", "focus('#bands-picker .picker-search')", "Search"),
+        Binding("ctrl+n", "focus('#band-spec')", "Add spec"),
+        Binding("ctrl+o", "focus('#sed')", "Source"),
+        Binding("ctrl+s", "export", "Export"),
+        Binding("delete", "remove_band", "Remove band"),
+    ]
+
+    def __init__(self, **kwargs):
+        super().__init__(**kwargs)
+        self.curve = None
+        self.a_v = None
+
+    @property
+    def session(self):
+        return self.app.session
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        yield Header()
+        with Horizontal(id="bands-body"):
+            yield NamePicker(
+                band_entries(), placeholder="search bands… (Enter adds)", accept=("file:", "tophat:", "gauss:"),
+                id="bands-picker",
+            )
+            with Vertical(id="bands-main"):
+                with Horizontal(classes="form"):
+                    yield Field("add", "", input_id="band-spec", placeholder="file:PATH, tophat:C:W …", width=30)
+                    yield Field("source", s.sed, input_id="sed", placeholder="blackbody:T", width=22)
+                yield StatusLine(id="bands-status")
+                yield Static(id="bands-dust", classes="info")
+                with Horizontal(id="bands-tables"):
+                    with Vertical(id="bands-chosen-box"):
+                        yield Label("chosen (Delete removes)")
+                        yield OptionList(id="bands-chosen")
+                    yield BandTable(id="bands-table")
+                with Horizontal(classes="form"):
+                    yield Field("export to", s.band_output, input_id="band-output", width=40)
+                    yield Button("Export", id="band-export", variant="primary")
+        yield Footer()
+
+    def on_mount(self):
+        self._show_chosen()
+        self.refresh_view()
+
+    def on_screen_resume(self):
+        self.refresh_view()
+
+    def _show_chosen(self):
+        chosen = self.query_one("#bands-chosen", OptionList)
+        chosen.clear_options()
+        chosen.add_options([Option(spec, id=f"b{i}") for i, spec in enumerate(self.session.bands)])
+
+    def _add(self, spec):
+        """Add a band spec after the core has loaded it; a refused spec only shows a message."""
+        spec = spec.strip()
+        loaded = guarded(_cache.band, spec)
+        if not loaded.ok:
+            self.query_one(StatusLine).show_outcome(loaded)
+            return False
+        if spec not in self.session.bands:
+            self.session.bands.append(spec)
+            self._show_chosen()
+        self.refresh_view()
+        return True
+
+    def on_name_picker_picked(self, event):
+        if event.selected:
+            self._add(event.name)
+
+    def on_input_submitted(self, event):
+        if event.input.id == "band-spec" and self._add(event.value):
+            event.input.value = ""
+        elif event.input.id == "band-output":
+            self.action_export()
+
+    def on_input_changed(self, event):
+        if event.input.id == "sed":
+            self.session.sed = event.value
+            self.refresh_view()
+        elif event.input.id == "band-output":
+            self.session.band_output = event.value
+
+    def on_button_pressed(self, event):
+        if event.button.id == "band-export":
+            self.action_export()
+
+    def action_remove_band(self):
+        chosen = self.query_one("#bands-chosen", OptionList)
+        if chosen.highlighted is None or not self.session.bands:
+            return
+        index = chosen.highlighted
+        del self.session.bands[index]
+        self._show_chosen()
+        if self.session.bands:
+            chosen.highlighted = min(index, len(self.session.bands) - 1)
+        self.refresh_view()
+
+    def _compute(self):
+        s = self.session
+        return guarded(dust_state, s.law, s.r_v, s.amount, s.amount_kind)
+
+    def refresh_view(self):
+        """Recompute the table through the core; on a refused input keep the last table."""
+        s = self.session
+        status = self.query_one(StatusLine)
+        dust = self._compute()
+        if not dust.ok:
+            status.show("the Dust screen's values are refused (F2 to fix): " + dust.error, "error")
+            return
+        self.curve, self.a_v, ebv = dust.value
+        self.query_one("#bands-dust", Static).update(
+            f"dust: [b]{self.curve.name}[/] R_V = {self.curve.r_v:g}, A_V = {self.a_v:.4g} mag, "
+            f"E(B-V) = {ebv:.4g} mag (set on the Dust screen, F2)"
+        )
+        table = guarded(band_rows, self.curve, s.bands, s.sed, self.a_v)
+        self.query_one("#sed").set_class(bool(table.error) and "sed=" in table.error, "-refused")
+        if table.ok:
+            self.query_one(BandTable).show_rows(table.value)
+        status.show_outcome(combine(dust, table))
+
+    def action_export(self):
+        """Write the table on screen (recomputed by the core) to the chosen file, atomically."""
+        s = self.session
+        status = self.query_one(StatusLine)
+        dust = self._compute()
+        if not dust.ok:
+            status.show_outcome(dust)
+            return
+        curve, a_v, _ = dust.value
+        meta = {
+            "curve": curve.name,
+            "citation": curve.citation,
+            "R_V": curve.r_v,
+            "A_V": a_v,
+            "source": s.sed,
+            "bands": list(s.bands),
+        }
+        written = guarded(
+            lambda: write_band_table(band_rows(curve, s.bands, s.sed, a_v), s.band_output.strip(), meta)
+        )
+        self.query_one("#band-output").set_class(not written.ok, "-refused")
+        status.show_outcome(written, done=f"wrote {written.value}" if written.ok else "")

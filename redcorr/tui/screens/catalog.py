@@ -1,0 +1,365 @@
+"""The Catalog screen: open a catalog, map its columns, choose the reddening, preview, run, inspect."""
+
+import contextlib
+import threading
+from pathlib import Path
+
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, VerticalScroll
+from textual.screen import Screen
+from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
+
+from redcorr.correct import Correction
+from redcorr.io.batch import correct_file
+from redcorr.io.catalogs import open_catalog
+from redcorr.tui._guard import combine, guarded
+from redcorr.tui._inputs import (
+    RED_KINDS,
+    SPECTRA,
+    catalog_probe,
+    correction_options,
+    guess_mapping,
+    guess_reddening,
+    law_r_v,
+    preview_correction,
+    split_list,
+)
+from redcorr.tui.widgets import ColumnMapping, Field, FileTree, StatusLine, XYPlot
+
+__all__ = ["CatalogScreen", "RunCancelled"]
+
+PREVIEW_ROWS = 5
+PLOT_ROWS = 5000
+"""Rows of the written output read back for the before/after diagram."""
+
+
+class RunCancelled(Exception):
+    """Raised from the progress callback to stop a run; the atomic writer then leaves no output."""
+
+
+_FIELDS = {
+    "cat-input": "cat_input",
+    "cat-bands": "cat_bands",
+    "cat-colour": "cat_colour",
+    "cat-red-value": "cat_red_value",
+    "cat-teff": "cat_teff",
+    "cat-output": "cat_output",
+}
+
+
+class CatalogScreen(Screen):
+    """Correct a catalog file with the dust of the Dust screen, in a worker thread."""
+
+    TITLE = "Catalog"
+    HELP = (
+        "open a catalog (file tree or path), check the guessed columns, choose the reddening "
+        "(column, constant or dust map), preview the first rows, run (cancel is safe: no partial output)"
+    )
+    BINDINGS = [
+        Binding("ctrl+o", "open", "Open"),
+        Binding("ctrl+t", "focus('#cat-tree')", "Files"),
+        Binding("ctrl+r", "run", "Run"),
+        Binding("escape", "cancel", "Cancel run"),
+    ]
+
+    def __init__(self, **kwargs):
+        super().__init__(**kwargs)
+        self.columns = []
+        self.preview = None
+        self.summary = None
+        self.running = False
+        self._suffix = ""
+        self._cancel = threading.Event()
+
+    @property
+    def session(self):
+        return self.app.session
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        yield Header()
+        with Horizontal(id="cat-body"):
+            yield FileTree(Path(s.cat_dir if Path(s.cat_dir).is_dir() else Path.cwd()), id="cat-tree")
+            with VerticalScroll(id="cat-main"):
+                with Horizontal(classes="form"):
+                    yield Field("input", s.cat_input, input_id="cat-input", placeholder="catalog file", width=44)
+                    yield Button("Open", id="cat-open")
+                with Horizontal(classes="form"):
+                    yield Field("bands", s.cat_bands, input_id="cat-bands", width=30)
+                    yield Field("colour", s.cat_colour, input_id="cat-colour", placeholder="B1,B2", width=16)
+                with Horizontal(classes="form"):
+                    yield Select([(v, k) for k, v in RED_KINDS.items()], value=s.cat_red_kind, allow_blank=False,
+                                 id="cat-red-kind")
+                    yield Field("", s.cat_red_value, input_id="cat-red-value", placeholder="column, value or map", width=30)
+                    yield Select([(v, k) for k, v in SPECTRA.items()], value=s.cat_spectrum, allow_blank=False,
+                                 id="cat-spectrum")
+                    yield Field("", s.cat_teff, input_id="cat-teff", placeholder="K", width=10)
+                yield Static(id="cat-dust", classes="info")
+                yield Label("Columns (guessed; change them here)", classes="section")
+                yield ColumnMapping(id="cat-mapping")
+                yield StatusLine(id="cat-status")
+                yield Label("First rows: as read, and corrected", classes="section")
+                with Horizontal(id="cat-previews"):
+                    yield DataTable(id="cat-before", zebra_stripes=True)
+                    yield DataTable(id="cat-after", zebra_stripes=True)
+                with Horizontal(classes="form"):
+                    yield Field("output", s.cat_output, input_id="cat-output", placeholder="corrected file", width=40)
+                    yield Checkbox("overwrite", s.cat_overwrite, id="cat-overwrite")
+                    yield Button("Run", id="cat-run", variant="primary")
+                    yield Button("Cancel", id="cat-cancel", variant="error", disabled=True)
+                yield ProgressBar(id="cat-progress", show_eta=False)
+                yield Static(id="cat-summary", classes="info")
+                yield XYPlot(id="cat-plot")
+        yield Footer()
+
+    async def on_mount(self):
+        if self.session.cat_input:
+            await self.open_catalog()
+
+    def on_screen_resume(self):
+        self.update_preview()
+
+    # -- input -------------------------------------------------------------------------------
+    async def on_directory_tree_file_selected(self, event):
+        event.stop()
+        field = self.query_one("#cat-input")
+        with field.prevent(field.Changed):
+            field.value = str(event.path)
+        self.session.cat_input = str(event.path)
+        self.session.cat_dir = str(Path(event.path).parent)
+        await self.open_catalog()
+
+    async def on_input_submitted(self, event):
+        if event.input.id == "cat-input":
+            await self.open_catalog()
+        elif event.input.id == "cat-bands":
+            await self.open_catalog()
+
+    def on_input_changed(self, event):
+        attr = _FIELDS.get(event.input.id)
+        if attr is None:
+            return
+        setattr(self.session, attr, event.value)
+        if event.input.id in ("cat-colour", "cat-red-value", "cat-teff"):
+            self.update_preview()
+
+    def on_select_changed(self, event):
+        if event.select.id == "cat-red-kind" and event.value in RED_KINDS:
+            self.session.cat_red_kind = event.value
+        elif event.select.id == "cat-spectrum" and event.value in SPECTRA:
+            self.session.cat_spectrum = event.value
+        elif not str(event.select.id or "").startswith("map-"):
+            return
+        self.update_preview()
+
+    def on_checkbox_changed(self, event):
+        self.session.cat_overwrite = event.value
+
+    async def on_button_pressed(self, event):
+        if event.button.id == "cat-open":
+            await self.open_catalog()
+        elif event.button.id == "cat-run":
+            self.action_run()
+        elif event.button.id == "cat-cancel":
+            self.action_cancel()
+
+    async def action_open(self):
+        await self.open_catalog()
+
+    # -- the core ----------------------------------------------------------------------------
+    def _law(self):
+        s = self.session
+        return s.law, law_r_v(s.law, s.r_v)
+
+    def _bands(self):
+        return split_list(self.session.cat_bands, "bands")
+
+    async def open_catalog(self):
+        """Read the columns and first rows; guess the mapping and the reddening column."""
+        s = self.session
+        status = self.query_one(StatusLine)
+        probe = guarded(catalog_probe, s.cat_input.strip(), PREVIEW_ROWS)
+        self.query_one("#cat-input").set_class(not probe.ok, "-refused")
+        if not probe.ok:
+            status.show_outcome(probe)
+            return
+        self.columns, self.preview = probe.value
+        setup = guarded(lambda: (self._bands(), self._law()))
+        if not setup.ok:
+            status.show_outcome(setup)
+            return
+        bands, (law, r_v) = setup.value
+        mapping = guarded(guess_mapping, self.columns, bands, law, r_v)
+        if not mapping.ok:
+            status.show_outcome(mapping)
+            return
+        await self.query_one(ColumnMapping).set_mapping(self.columns, mapping.value)
+        if s.cat_red_kind in ("ebv_column", "av_column"):
+            found = guarded(guess_reddening, self.columns, bands, mapping.value, law, r_v)
+            if found.ok and found.value is not None:
+                kind, column = found.value
+                s.cat_red_kind, s.cat_red_value = kind, column
+                self.query_one("#cat-red-kind", Select).value = kind
+                field = self.query_one("#cat-red-value")
+                with field.prevent(field.Changed):
+                    field.value = column
+        if not s.cat_output.strip():
+            path = Path(s.cat_input.strip())
+            s.cat_output = str(path.with_name(path.stem + "_dered" + path.suffix))
+            self.query_one("#cat-output").value = s.cat_output
+        self.update_preview()
+
+    def _options(self):
+        s = self.session
+        law, r_v = self._law()
+        mapping = self.query_one(ColumnMapping).mapping
+        return correction_options(mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum,
+                                  s.cat_teff, s.cat_colour)
+
+    def update_preview(self):
+        """Correct the first rows through `Correction` and show them before and after."""
+        if self.preview is None or self.running:
+            return
+        s = self.session
+        status = self.query_one(StatusLine)
+        law, r_v = guarded(self._law).value or (s.law, None)
+        self.query_one("#cat-dust", Static).update(
+            f"dust: [b]{law}[/]" + (f" R_V = {r_v:g}" if r_v else "") + " (set on the Dust screen, F2)"
+        )
+        options = guarded(lambda: (self._bands(), self._options()))
+        result = guarded(preview_correction, self.preview, *options.value) if options.ok else options
+        error = result.error or ""
+        self.query_one("#cat-red-value").set_class(error.startswith(("ebv", "av", "map", "no reddening")), "-refused")
+        self.query_one("#cat-teff").set_class(error.startswith("temperature"), "-refused")
+        self.query_one("#cat-colour").set_class(error.startswith(("colour", "spectrum")), "-refused")
+        status.show_outcome(combine(options, result))
+        if not result.ok:
+            return
+        out, corr = result.value
+        self._suffix = corr.suffix
+        before = list(dict.fromkeys(corr.mag_cols + ([corr.red_col] if corr.red_col else [])))
+        after = [m + corr.suffix for m in corr.mag_cols] + ["ebv_used", "dered_flags"]
+        self._fill(self.query_one("#cat-before", DataTable), self.preview, before)
+        self._fill(self.query_one("#cat-after", DataTable), out, after)
+
+    @staticmethod
+    def _fill(table, frame, columns):
+        table.clear(columns=True)
+        table.add_columns(*columns)
+        for _, row in frame[columns].iterrows():
+            table.add_row(*(f"{v:.4f}" if isinstance(v, float) else str(v) for v in row))
+
+    # -- running -----------------------------------------------------------------------------
+    def action_run(self):
+        """Check everything on the main thread, then correct the whole file in a worker thread."""
+        if self.running:
+            return
+        s = self.session
+        status = self.query_one(StatusLine)
+        if self.preview is None:
+            status.show("open a catalog first (ctrl+o)", "error")
+            return
+        options = guarded(lambda: (self._bands(), self._options()))
+        checked = guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
+        if not checked.ok:
+            status.show_outcome(checked)
+            return
+        bands, kwargs = options.value
+        self.running = True
+        self._cancel.clear()
+        self.query_one("#cat-run", Button).disabled = True
+        self.query_one("#cat-cancel", Button).disabled = False
+        self.query_one(ProgressBar).update(total=1.0, progress=0.0)
+        status.show(f"correcting {s.cat_input} …")
+        self.correct_in_thread(s.cat_input.strip(), s.cat_output.strip(), bands, kwargs, s.cat_overwrite)
+
+    def action_cancel(self):
+        """Ask the running correction to stop after the current chunk; nothing is written then."""
+        if self.running:
+            self._cancel.set()
+            self.query_one(StatusLine).show("cancelling after the current chunk …", "warning")
+
+    @work(thread=True, exclusive=True, group="catalog")
+    def correct_in_thread(self, input_path, output_path, bands, options, overwrite):
+        """`redcorr.io.batch.correct_file`, exactly as ``redcorr correct`` calls it."""
+
+        def progress(rows, fraction):
+            if self._cancel.is_set():
+                raise RunCancelled
+            try:
+                self.app.call_from_thread(self._progress, rows, fraction)
+            except RuntimeError:  # the app has closed: stop, leaving no output
+                raise RunCancelled from None
+
+        def run():
+            try:
+                return correct_file(
+                    input_path, output_path, lambda columns: Correction(bands, columns=columns, **options),
+                    overwrite=overwrite, progress=progress,
+                )
+            except RunCancelled:
+                return None
+
+        outcome = guarded(run)
+        with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
+            self.app.call_from_thread(self._finished, outcome, output_path, bands, options)
+
+    def on_unmount(self):
+        self._cancel.set()  # quitting during a run stops it safely
+
+    def _progress(self, rows, fraction):
+        bar = self.query_one(ProgressBar)
+        if fraction is not None:
+            bar.update(total=1.0, progress=fraction)
+        self.query_one(StatusLine).show(f"corrected {rows:,} rows …")
+
+    def _finished(self, outcome, output_path, bands, options):
+        self.running = False
+        self.query_one("#cat-run", Button).disabled = False
+        self.query_one("#cat-cancel", Button).disabled = True
+        status = self.query_one(StatusLine)
+        if outcome.ok and outcome.value is None:
+            self.query_one(ProgressBar).update(total=1.0, progress=0.0)
+            status.show("cancelled: nothing was written", "warning")
+            return
+        status.show_outcome(outcome, done=f"wrote {output_path}")
+        if not outcome.ok:
+            self.query_one("#cat-output").set_class("output" in outcome.error, "-refused")
+            return
+        self.query_one("#cat-output").set_class(False, "-refused")
+        self.query_one(ProgressBar).update(total=1.0, progress=1.0)
+        self.summary = outcome.value
+        self.query_one("#cat-summary", Static).update("\n".join(self.summary.lines()))
+        self._plot(output_path, bands, options)
+
+    def _plot(self, output_path, bands, options):
+        """Before/after colour–magnitude diagram from the written file (first rows)."""
+        pair = options["colours"][0] if options["colours"] else None
+        if pair is None:
+            self.query_one(XYPlot).draw([], title="give a colour B1,B2 to see the diagram")
+            return
+        read = guarded(_first_rows, output_path, PLOT_ROWS)
+        if not read.ok:
+            self.query_one(StatusLine).show_outcome(read)
+            return
+        frame = read.value
+        m1, m2 = (options["mag_columns"][b] for b in pair)
+        suffix = self._suffix  # output names as in redcorr.correct's docstring: MAG_dered, M1-M2_dered
+        self.query_one(XYPlot).draw(
+            [
+                ("as observed", frame[m1] - frame[m2], frame[m2]),
+                ("corrected", frame[f"{m1}-{m2}{suffix}"], frame[m2 + suffix]),
+            ],
+            xlabel=f"{pair[0]} - {pair[1]} [mag]",
+            ylabel=f"{pair[1]} [mag]",
+            title=f"{len(frame)} rows of {Path(output_path).name}",
+            points=True,
+            invert_y=True,
+        )
+
+
+def _first_rows(path, rows):
+    with open_catalog(path, chunk_rows=rows) as reader:
+        return next(iter(reader))

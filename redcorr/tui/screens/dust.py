@@ -1,0 +1,167 @@
+"""The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ."""
+
+import contextlib
+
+import numpy as np
+from astropy import units as u
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import Screen
+from textual.widgets import Footer, Header, Input, Select, Static
+
+from redcorr.curves import list_curves
+from redcorr.grains import list_grain_models
+from redcorr.tui._guard import combine, guarded
+from redcorr.tui import _cache
+from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
+from redcorr.tui.widgets import BandTable, CurvePlot, Field, NamePicker, StatusLine
+
+__all__ = ["DustScreen", "dust_entries"]
+
+AMOUNT_KINDS = ("A_V", "E(B-V)")
+
+
+def dust_entries():
+    """``(name, description)`` of every law and grain model the picker offers."""
+    out = []
+    for info in list_curves():
+        r_v = f"R_V {info['default_r_v']:g}" + (" fixed" if info["r_v_range"] is None else "")
+        lo, hi = info["wave_range_um"]
+        out.append((info["name"], f"{r_v} · {lo:.3g}–{hi:.3g} µm"))
+    for info in list_grain_models():
+        out.append((info["name"], f"grain model · {info['description']}"))
+    return out
+
+
+class DustScreen(Screen):
+    """Pick the dust: a searchable law list, R_V, A_V or E(B-V), and a live plot."""
+
+    TITLE = "Dust"
+    HELP = "choose an extinction law or grain model, R_V and the dust column; see the curve"
+    BINDINGS = [
+        Binding("ctrl+f", "focus('#dust-picker .picker-search')", "Search"),
+        Binding("ctrl+r", "focus('#r-v')", "R_V"),
+        Binding("ctrl+g", "focus('#amount')", "A_V/E(B-V)"),
+    ]
+
+    def __init__(self, **kwargs):
+        super().__init__(**kwargs)
+        self.curve = None
+        self.a_v = None
+        self.ebv = None
+
+    @property
+    def session(self):
+        return self.app.session
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        yield Header()
+        with Horizontal(id="dust-body"):
+            yield NamePicker(
+                dust_entries(), placeholder="search, or file:PATH / grain:PATH.toml", accept=("file:", "grain:"),
+                id="dust-picker",
+            )
+            with Vertical(id="dust-main"):
+                with Horizontal(id="dust-form", classes="form"):
+                    yield Field("R_V", s.r_v, input_id="r-v", placeholder="law default")
+                    yield Select(
+                        [(k, k) for k in AMOUNT_KINDS], value=s.amount_kind, allow_blank=False, id="amount-kind"
+                    )
+                    yield Field("=", s.amount, input_id="amount", placeholder="mag")
+                yield StatusLine(id="dust-status")
+                yield Static(id="dust-info", classes="info")
+                yield CurvePlot(id="dust-plot")
+                yield BandTable(id="dust-bands")
+        yield Footer()
+
+    def on_mount(self):
+        self.query_one(NamePicker).highlight(self.session.law)
+        self.refresh_view()
+
+    def on_screen_resume(self):
+        self.refresh_view()
+
+    def on_name_picker_picked(self, event):
+        if event.name != self.session.law:
+            self.session.law = event.name
+            self.refresh_view()
+
+    def on_input_changed(self, event):
+        if event.input.id == "r-v" and not event.input.disabled:
+            self.session.r_v = event.value
+        elif event.input.id == "amount":
+            self.session.amount = event.value
+        else:
+            return
+        self.refresh_view()
+
+    def on_select_changed(self, event):
+        if event.select.id == "amount-kind" and event.value in AMOUNT_KINDS:
+            self.session.amount_kind = event.value
+            self.refresh_view()
+
+    def _sync_r_v_field(self):
+        """A law with a fixed R_V (or a grain model) shows it, greyed; otherwise the typed value is back."""
+        law = self.session.law
+        rv_input = self.query_one("#r-v", Input)
+        fixed = fixed_r_v(law)
+        if is_grain(law):
+            fixed = _cache.grain_curve(law).r_v if _cache.grain_ready(law) else float("nan")
+        with rv_input.prevent(Input.Changed):
+            rv_input.disabled = fixed is not None
+            rv_input.value = self.session.r_v if fixed is None else "" if fixed != fixed else f"{fixed:.4g}"
+        return fixed is not None
+
+    @work(thread=True, exclusive=True, group="grain")
+    def compute_grain(self, law):
+        """Compute a grain model's curve (Mie theory) off the UI thread, then redraw."""
+        outcome = guarded(_cache.grain_curve, law)
+        with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
+            self.app.call_from_thread(self._grain_done, law, outcome)
+
+    def _grain_done(self, law, outcome):
+        if not outcome.ok:
+            self.query_one(StatusLine).show_outcome(outcome)
+        elif law == self.session.law:
+            self.refresh_view()
+
+    def refresh_view(self):
+        """Recompute from the inputs through the core and redraw; keep the old view on an error."""
+        s = self.session
+        fixed = self._sync_r_v_field()
+        if is_grain(s.law) and not _cache.grain_ready(s.law):
+            self.query_one(StatusLine).show(f"computing grain model {s.law} with Mie theory …", "warning")
+            self.compute_grain(s.law)
+            return
+        outcome = guarded(dust_state, s.law, "" if fixed else s.r_v, s.amount, s.amount_kind)
+        status = self.query_one(StatusLine)
+        refused = outcome.error or ""
+        self.query_one("#r-v", Input).set_class(refused.startswith("r_v="), "-refused")
+        self.query_one("#amount", Input).set_class(refused.startswith(s.amount_kind + "="), "-refused")
+        if not outcome.ok:
+            status.show_outcome(outcome)
+            return
+        self.curve, self.a_v, self.ebv = outcome.value
+        table = guarded(band_rows, self.curve, s.bands, s.sed, self.a_v)
+        rows = table.value if table.ok else []
+        drawn = guarded(self._draw, rows)
+        status.show_outcome(combine(outcome, table, drawn))
+
+    def _draw(self, rows):
+        curve = self.curve
+        self.query_one(BandTable).show_rows(rows)
+        lo, hi = curve.x_range
+        x = np.linspace(lo, min(hi, 11.0), 240)
+        y = curve(x * u.um**-1)
+        wmin, wmax = curve.wave_range.to_value(u.um)
+        self.query_one("#dust-info", Static).update(
+            f"[b]{curve.name}[/]  R_V = {curve.r_v:g}   A_V = {self.a_v:.4g} mag   "
+            f"E(B-V) = {self.ebv:.4g} mag   valid {wmin:.4g}–{wmax:.4g} µm\n[dim]{curve.citation}[/]"
+        )
+        lo_um, hi_um = sorted((wmin, wmax))
+        inside = [r for r in rows if lo_um <= r["lambda_eff_um"] <= hi_um]
+        marks = [(r["band"], 1.0 / r["lambda_eff_um"], curve(r["lambda_eff_um"])) for r in inside]
+        self.query_one(CurvePlot).draw(f"{curve.name} R_V={curve.r_v:g}", x, y, marks, title=curve.citation)

@@ -1,0 +1,84 @@
+"""What the terminal UI remembers between runs: the last choices on every screen.
+
+The values are kept as the user typed them (strings for numbers), so a half
+typed value is restored as it was; the screens validate them through the
+core functions before use.
+"""
+
+import dataclasses
+
+from redcorr.io.settings import load_settings, save_settings
+
+__all__ = ["Session"]
+
+
+@dataclasses.dataclass
+class Session:
+    """The UI's shared, remembered state.
+
+    Attributes
+    ----------
+    law : str
+        Curve spec given to `redcorr.io.load_curve` (law, grain model or ``file:PATH``).
+    r_v : str
+        R_V as typed; empty for the law's default.
+    amount : str
+        The dust column as typed, in the unit ``amount_kind``.
+    amount_kind : str
+        ``"A_V"`` or ``"E(B-V)"``.
+    bands : list of str
+        Band specs for `redcorr.io.filters.load_band` (default: the demo's KW-CAM set).
+    sed : str
+        Source spectrum spec for `redcorr.io.spectra.load_sed`.
+    band_output : str
+        Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
+    plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr : str
+        The Plan screen's inputs (defaults: the demo's invented target).
+    cat_input, cat_dir, cat_bands, cat_colour, cat_red_kind, cat_red_value, cat_spectrum, cat_teff, \
+    cat_output, cat_overwrite
+        The Catalog screen's inputs: file, folder of the file tree, bands (comma-separated),
+        colour B1,B2, reddening source and value, source temperature, output and overwrite.
+    screen : str
+        The screen shown last.
+    """
+
+    law: str = "f99"
+    r_v: str = "3.1"
+    amount: str = "1.0"
+    amount_kind: str = "A_V"
+    bands: list = dataclasses.field(default_factory=lambda: ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"])
+    sed: str = "blackbody:5800"
+    band_output: str = "band_table.ecsv"
+    plan_instrument: str = "demo"
+    plan_mag: str = "19.0"
+    plan_mag_band: str = "kw-v"
+    plan_sed: str = "blackbody:5800"
+    plan_goal: str = "S/N"
+    plan_goal_value: str = "50"
+    plan_limit_snr: str = "5"
+    cat_input: str = ""
+    cat_dir: str = ""
+    cat_bands: str = "kw-b,kw-v,kw-r,kw-i"
+    cat_colour: str = "kw-b,kw-v"
+    cat_red_kind: str = "ebv_column"
+    cat_red_value: str = ""
+    cat_spectrum: str = "fixed"
+    cat_teff: str = "7000"
+    cat_output: str = ""
+    cat_overwrite: bool = False
+    screen: str = "dust"
+
+    @classmethod
+    def load(cls, folder=None):
+        """The remembered session; defaults for anything missing or of the wrong type."""
+        saved = load_settings(folder)
+        out = cls()
+        for field in dataclasses.fields(cls):
+            value = saved.get(field.name)
+            if isinstance(value, type(getattr(out, field.name))):
+                setattr(out, field.name, value)
+        return out
+
+    def save(self, folder=None):
+        """Remember this session in the user's config folder."""
+        return save_settings(dataclasses.asdict(self), folder)

@@ -1,0 +1,59 @@
+"""A general terminal plot of several named series: lines (S/N against time) or points (a CMD)."""
+
+from textual_plotext import PlotextPlot
+
+__all__ = ["XYPlot"]
+
+
+class XYPlot(PlotextPlot):
+    """Draw named series as lines or points; keeps what it drew in :attr:`series`."""
+
+    DEFAULT_CSS = """
+    XYPlot { height: 1fr; min-height: 10; border: round $primary-darken-2; }
+    """
+
+    def __init__(self, **kwargs):
+        super().__init__(**kwargs)
+        self.series = []
+
+    def draw(self, series, *, xlabel="", ylabel="", title="", xlog=False, ylog=False, points=False,
+             invert_y=False, hline=None):
+        """Replace the plot.
+
+        Parameters
+        ----------
+        series : sequence of (str, array_like, array_like)
+            ``(label, x, y)``; non-finite points are left out by plotext.
+        xlabel, ylabel, title : str
+        xlog, ylog : bool
+            Logarithmic axes.
+        points : bool
+            Scatter points instead of lines.
+        invert_y : bool
+            Larger y downwards (magnitudes).
+        hline : float, optional
+            A horizontal reference line (e.g. the target S/N).
+        """
+        self.series = [(str(n), [float(v) for v in x], [float(v) for v in y]) for n, x, y in series]
+        plt = self.plt
+        plt.clear_data()
+        plt.clear_figure()
+        plt.xscale("log" if xlog else "linear")
+        plt.yscale("log" if ylog else "linear")
+        for name, x, y in self.series:
+            keep = [(a, b) for a, b in zip(x, y) if a == a and b == b and (not xlog or a > 0) and (not ylog or b > 0)]
+            if not keep:
+                continue
+            xs, ys = zip(*keep)
+            if points:
+                plt.scatter(xs, ys, label=name, marker="dot")
+            else:
+                plt.plot(xs, ys, label=name, marker="braille")
+        if hline is not None:
+            plt.horizontal_line(hline, color="gray")
+        if invert_y:
+            plt.yreverse(True)
+        plt.xlabel(xlabel)
+        plt.ylabel(ylabel)
+        plt.title(title)
+        self.refresh()
