@@ -1,12 +1,43 @@
 """redcorr: interstellar extinction through real filters, and reddening correction.
 
-The core (curves, and later grains, bands and correction) is pure array
-code; files are read and written only in :mod:`redcorr.io`; the command
-line (:mod:`redcorr.cli`) and the terminal UI are thin shells over both.
+The core is pure array code: extinction curves (:mod:`redcorr.curves`),
+Mie theory and grain models (:mod:`redcorr.mie`, :mod:`redcorr.grains`),
+band integration (:mod:`redcorr.bandpass`, :mod:`redcorr.sed`,
+:mod:`redcorr.extinction`), map lookup (:mod:`redcorr.maps`), catalog
+correction (:mod:`redcorr.correct`) and exposure planning
+(:mod:`redcorr.exposure`). Files are read and written only in
+:mod:`redcorr.io`; the command line (:mod:`redcorr.cli`) and the terminal UI
+(:mod:`redcorr.tui`) are thin shells over both.
+
+The names below are importable from ``redcorr`` directly; all but the curve
+interface are loaded on first use, so ``import redcorr`` stays light.
 """
+
+import importlib
 
 from redcorr import mie  # a callable module: redcorr.mie(m, x) is redcorr.mie.mie(m, x)
 from redcorr.curves import ExtinctionCurve, TabulatedCurve, get_curve, list_curves
 
-__all__ = ["ExtinctionCurve", "TabulatedCurve", "get_curve", "list_curves", "mie"]
+_LAZY = {
+    "get_grain_model": "redcorr.grains",
+    "list_grain_models": "redcorr.grains",
+    "Band": "redcorr.bandpass",
+    "blackbody": "redcorr.sed",
+    "band_extinction": "redcorr.extinction",
+    "band_ratio": "redcorr.extinction",
+    "coefficient_grid": "redcorr.extinction",
+    "correct_dataframe": "redcorr.correct",
+    "plan_exposure": "redcorr.exposure",
+    "load_curve": "redcorr.io",
+    "load_band": "redcorr.io",
+    "open_map": "redcorr.io",
+}
+
+__all__ = ["ExtinctionCurve", "TabulatedCurve", "get_curve", "list_curves", "mie", *_LAZY]
 __version__ = "0.1.0"
+
+
+def __getattr__(name):
+    if name in _LAZY:
+        return getattr(importlib.import_module(_LAZY[name]), name)
+    raise AttributeError(f"module 'redcorr' has no attribute {name!r}")
