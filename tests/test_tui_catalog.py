@@ -1,5 +1,6 @@
 """The Catalog screen writes what `redcorr correct` writes, cancels safely and survives bad values."""
 
+import numpy as np
 import pandas as pd
 import pytest
 from tui_helpers import private_config, run_app, set_value, type_into, until  # noqa: F401
@@ -7,6 +8,7 @@ from tui_helpers import private_config, run_app, set_value, type_into, until  # 
 from redcorr._paths import project_dir
 from redcorr.cli import build_parser, main
 from redcorr.cli.correct import _options as cli_options
+from redcorr.colours import colour_magnitude
 from redcorr.correct import Correction
 from redcorr.tui._inputs import catalog_probe, correction_options, guess_mapping
 from redcorr.tui.widgets import StatusLine, XYPlot
@@ -41,10 +43,16 @@ def test_demo_catalog_correction_writes_what_the_cli_writes(tmp_path):
         await wait_for_run(pilot)
         assert screen.query_one(StatusLine).message == f"wrote {tui_out}"
         assert screen.summary.rows == 300
-        names = [name for name, _, _ in screen.query_one(XYPlot).series]
-        assert names == ["as observed", "corrected"]
+        return screen.query_one(XYPlot).series
 
-    run_app(script, size=(150, 60))
+    series = run_app(script, size=(150, 60))
+    # the diagram shows the core's colour-magnitude points of the written file (redcorr.colours)
+    _, written = catalog_probe(tui_out, 5000)
+    expected = colour_magnitude(written, "kw_b", "kw_v")
+    assert [name for name, _, _ in series] == list(expected) == ["as observed", "corrected"]
+    for name, x, y in series:
+        np.testing.assert_array_equal(x, expected[name][0])
+        np.testing.assert_array_equal(y, expected[name][1])
     bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
     argv = ["correct", str(DEMO), str(cli_out), *bands, "--law", "f99", "--rv", "4.3", "--ebv-col", "ebv",
             "--colour", "kw-b,kw-v", "--quiet"]

@@ -11,6 +11,7 @@ from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
 
+from redcorr.colours import colour_magnitude
 from redcorr.correct import Correction
 from redcorr.io.batch import correct_file
 from redcorr.io.catalogs import open_catalog
@@ -346,12 +347,12 @@ class CatalogScreen(Screen):
             return
         frame = read.value
         m1, m2 = (options["mag_columns"][b] for b in pair)
-        suffix = self._suffix  # output names as in redcorr.correct's docstring: MAG_dered, M1-M2_dered
+        cmd = guarded(colour_magnitude, frame, m1, m2, suffix=self._suffix)
+        if not cmd.ok:
+            self.query_one(StatusLine).show_outcome(cmd)
+            return
         self.query_one(XYPlot).draw(
-            [
-                ("as observed", frame[m1] - frame[m2], frame[m2]),
-                ("corrected", frame[f"{m1}-{m2}{suffix}"], frame[m2 + suffix]),
-            ],
+            [(label, colour, mag) for label, (colour, mag) in cmd.value.items()],
             xlabel=f"{pair[0]} - {pair[1]} [mag]",
             ylabel=f"{pair[1]} [mag]",
             title=f"{len(frame)} rows of {Path(output_path).name}",
