@@ -12,6 +12,7 @@ from redcorr.io.filters import list_bands, project_bands
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state
+from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import BandTable, Field, NamePicker, StatusLine
 
 __all__ = ["BandsScreen", "band_entries"]
@@ -23,7 +24,7 @@ def band_entries():
     return [(name, "filters/" if name in own else "speclite") for name in list_bands()]
 
 
-class BandsScreen(Screen):
+class BandsScreen(GrainWait, Screen):
     """Choose bands (library, project, user files) and the source; the table updates as they change."""
 
     TITLE = "Bands"
@@ -137,6 +138,8 @@ class BandsScreen(Screen):
         """Recompute the table through the core; on a refused input keep the last table."""
         s = self.session
         status = self.query_one(StatusLine)
+        if self.grain_pending(s.law):
+            return
         dust = self._compute()
         if not dust.ok:
             status.show("the Dust screen's values are refused (F2 to fix): " + dust.error, "error")
@@ -156,6 +159,8 @@ class BandsScreen(Screen):
         """Write the table on screen (recomputed by the core) to the chosen file, atomically."""
         s = self.session
         status = self.query_one(StatusLine)
+        if self.grain_pending(s.law):
+            return
         dust = self._compute()
         if not dust.ok:
             status.show_outcome(dust)

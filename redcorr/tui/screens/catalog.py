@@ -15,6 +15,7 @@ from redcorr.colours import colour_magnitude
 from redcorr.correct import Correction
 from redcorr.io.batch import correct_file
 from redcorr.io.catalogs import open_catalog
+from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import (
     RED_KINDS,
@@ -23,10 +24,12 @@ from redcorr.tui._inputs import (
     correction_options,
     guess_mapping,
     guess_reddening,
+    is_grain,
     law_r_v,
     preview_correction,
     split_list,
 )
+from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import ColumnMapping, Field, FileTree, StatusLine, XYPlot
 
 __all__ = ["CatalogScreen", "RunCancelled"]
@@ -50,7 +53,7 @@ _FIELDS = {
 }
 
 
-class CatalogScreen(Screen):
+class CatalogScreen(GrainWait, Screen):
     """Correct a catalog file with the dust of the Dust screen, in a worker thread."""
 
     TITLE = "Catalog"
@@ -71,6 +74,7 @@ class CatalogScreen(Screen):
         self.preview = None
         self.summary = None
         self.running = False
+        self._mapped = False
         self._suffix = ""
         self._cancel = threading.Event()
 
@@ -170,8 +174,16 @@ class CatalogScreen(Screen):
         await self.open_catalog()
 
     # -- the core ----------------------------------------------------------------------------
-    def _law(self):
+    def _law(self, for_run=False):
+        """``(law, r_v)`` for `Correction`.
+
+        A grain model already computed is passed as the curve object, so that
+        checks and previews on the UI thread do not load it again; the run
+        passes the name, exactly as ``redcorr correct --law`` does.
+        """
         s = self.session
+        if not for_run and is_grain(s.law) and _cache.grain_ready(s.law):
+            return _cache.grain_curve(s.law), None
         return s.law, law_r_v(s.law, s.r_v)
 
     def _bands(self):
@@ -187,6 +199,22 @@ class CatalogScreen(Screen):
             status.show_outcome(probe)
             return
         self.columns, self.preview = probe.value
+        self._mapped = False
+        if self.grain_pending(s.law):
+            return
+        await self._map_columns()
+
+    async def grain_ready(self):
+        """The grain model is computed: finish opening the catalog, or redo the preview."""
+        if self.preview is not None and not self._mapped:
+            await self._map_columns()
+        else:
+            self.update_preview()
+
+    async def _map_columns(self):
+        """Guess the column mapping and the reddening column through `Correction`, then preview."""
+        s = self.session
+        status = self.query_one(StatusLine)
         setup = guarded(lambda: (self._bands(), self._law()))
         if not setup.ok:
             status.show_outcome(setup)
@@ -210,11 +238,12 @@ class CatalogScreen(Screen):
             path = Path(s.cat_input.strip())
             s.cat_output = str(path.with_name(path.stem + "_dered" + path.suffix))
             self.query_one("#cat-output").value = s.cat_output
+        self._mapped = True
         self.update_preview()
 
-    def _options(self):
+    def _options(self, for_run=False):
         s = self.session
-        law, r_v = self._law()
+        law, r_v = self._law(for_run)
         mapping = self.query_one(ColumnMapping).mapping
         return correction_options(mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum,
                                   s.cat_teff, s.cat_colour)
@@ -225,10 +254,12 @@ class CatalogScreen(Screen):
             return
         s = self.session
         status = self.query_one(StatusLine)
-        law, r_v = guarded(self._law).value or (s.law, None)
+        r_v = guarded(law_r_v, s.law, s.r_v).value
         self.query_one("#cat-dust", Static).update(
-            f"dust: [b]{law}[/]" + (f" R_V = {r_v:g}" if r_v else "") + " (set on the Dust screen, F2)"
+            f"dust: [b]{s.law}[/]" + (f" R_V = {r_v:g}" if r_v else "") + " (set on the Dust screen, F2)"
         )
+        if self.grain_pending(s.law) or not self._mapped:
+            return
         options = guarded(lambda: (self._bands(), self._options()))
         result = guarded(preview_correction, self.preview, *options.value) if options.ok else options
         error = result.error or ""
@@ -262,12 +293,14 @@ class CatalogScreen(Screen):
         if self.preview is None:
             status.show("open a catalog first (ctrl+o)", "error")
             return
+        if self.grain_pending(s.law) or not self._mapped:
+            return
         options = guarded(lambda: (self._bands(), self._options()))
         checked = guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
         if not checked.ok:
             status.show_outcome(checked)
             return
-        bands, kwargs = options.value
+        bands, kwargs = guarded(lambda: (self._bands(), self._options(for_run=True))).value
         self.running = True
         self._cancel.clear()
         self.query_one("#cat-run", Button).disabled = True

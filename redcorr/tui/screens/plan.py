@@ -9,6 +9,7 @@ from textual.widgets import DataTable, Footer, Header, Select, Static
 from redcorr.cli.plan import CAUTION
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import GOALS, dust_state, plan_state
+from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import Field, StatusLine, XYPlot
 
 __all__ = ["PlanScreen", "PLAN_COLUMNS"]
@@ -36,7 +37,7 @@ _FIELDS = {
 }
 
 
-class PlanScreen(Screen):
+class PlanScreen(GrainWait, Screen):
     """Exposure times per band for a source behind the dust chosen on the Dust screen."""
 
     TITLE = "Plan"
@@ -101,6 +102,8 @@ class PlanScreen(Screen):
         """Recompute the plan through the core; on a refused input keep the last plan shown."""
         s = self.session
         status = self.query_one(StatusLine)
+        if self.grain_pending(s.law):
+            return
         dust = guarded(dust_state, s.law, s.r_v, s.amount, s.amount_kind)
         if not dust.ok:
             status.show("the Dust screen's values are refused (F2 to fix): " + dust.error, "error")
