@@ -95,6 +95,7 @@ class BandsScreen(GrainWait, Screen):
         if spec not in self.session.bands:
             self.session.bands.append(spec)
             self._show_chosen()
+            self.app.remember()
         self.refresh_view()
         return True
 
@@ -126,6 +127,7 @@ class BandsScreen(GrainWait, Screen):
         index = chosen.highlighted
         del self.session.bands[index]
         self._show_chosen()
+        self.app.remember()
         if self.session.bands:
             chosen.highlighted = min(index, len(self.session.bands) - 1)
         self.refresh_view()

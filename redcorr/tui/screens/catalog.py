@@ -134,6 +134,7 @@ class CatalogScreen(GrainWait, Screen):
             field.value = str(event.path)
         self.session.cat_input = str(event.path)
         self.session.cat_dir = str(Path(event.path).parent)
+        self.app.remember()
         await self.open_catalog()
 
     async def on_input_submitted(self, event):
@@ -239,6 +240,7 @@ class CatalogScreen(GrainWait, Screen):
             s.cat_output = str(path.with_name(path.stem + "_dered" + path.suffix))
             self.query_one("#cat-output").value = s.cat_output
         self._mapped = True
+        self.app.remember()
         self.update_preview()
 
     def _options(self, for_run=False):
