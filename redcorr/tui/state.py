@@ -32,6 +32,8 @@ class Session:
         Source spectrum spec for `redcorr.io.spectra.load_sed`.
     band_output : str
         Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
+    band_dir : str
+        Folder shown in the Bands screen's file tree (empty: the working folder).
     plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr : str
         The Plan screen's inputs (defaults: the demo's invented target).
     cat_input, cat_dir, cat_bands, cat_colour, cat_red_kind, cat_red_value, cat_spectrum, cat_teff, \
@@ -49,6 +51,7 @@ class Session:
     bands: list = dataclasses.field(default_factory=lambda: ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"])
     sed: str = "blackbody:5800"
     band_output: str = "band_table.ecsv"
+    band_dir: str = ""
     plan_instrument: str = "demo"
     plan_mag: str = "19.0"
     plan_mag_band: str = "kw-v"
