@@ -34,8 +34,9 @@ class Session:
         Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
     band_dir : str
         Folder shown in the Bands screen's file tree (empty: the working folder).
-    plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr : str
-        The Plan screen's inputs (defaults: the demo's invented target).
+    plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr, \
+    plan_av_grid : str
+        The Plan screen's inputs (defaults: the demo's invented target, demo/plan_target.toml).
     cat_input, cat_dir, cat_bands, cat_colour, cat_red_kind, cat_red_value, cat_spectrum, cat_teff, \
     cat_output, cat_overwrite
         The Catalog screen's inputs: file, folder of the file tree, bands (comma-separated),
@@ -59,6 +60,7 @@ class Session:
     plan_goal: str = "S/N"
     plan_goal_value: str = "50"
     plan_limit_snr: str = "5"
+    plan_av_grid: str = "0, 1, 2, 2.5, 4, 6"
     cat_input: str = ""
     cat_dir: str = ""
     cat_bands: str = "kw-b,kw-v,kw-r,kw-i"
