@@ -82,7 +82,7 @@ class PlanScreen(GrainWait, Screen):
             with Horizontal(id="plan-lower"):
                 yield XYPlot(id="plan-plot")
                 with Vertical(id="plan-av-box"):
-                    yield Label("time [s] against A_V", id="plan-av-title", classes="section")
+                    yield Label("time (s) against A_V", id="plan-av-title", classes="section")
                     yield DataTable(id="plan-av", cursor_type="row", zebra_stripes=True)
             yield Static(CAUTION, classes="info caution")
         yield Footer()
@@ -155,10 +155,12 @@ class PlanScreen(GrainWait, Screen):
     def _show_av(self, snr, a_v, times):
         """The time-against-A_V table, formatted as ``redcorr plan --av-grid`` prints it."""
         self.av = (snr, a_v, times)
-        self.query_one("#plan-av-title", Label).update(f"time [s] to S/N {snr:g} against A_V")
+        self.query_one("#plan-av-title", Label).update(f"time (s) to reach S/N {snr:g} against A_V")
         table = self.query_one("#plan-av", DataTable)
         table.clear(columns=True)
-        table.add_columns("A_V", *times)
+        table.add_column("A_V", width=4)
+        for band in times:  # fixed widths: ".4g" takes at most 9 characters (1.234e+05)
+            table.add_column(band, width=max(len(band), 9))
         for i, value in enumerate(a_v):
             table.add_row(f"{value:.2f}", *(f"{t[i]:.4g}" for t in times.values()))
 
