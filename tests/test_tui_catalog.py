@@ -91,6 +91,14 @@ def test_cancel_leaves_no_output_and_bad_values_leave_the_app_usable(tmp_path):
         assert "does not exist" in status.message
         assert screen.query_one("#cat-input").has_class("-refused")
         await set_value(pilot, "#cat-input", str(DEMO))
+        await set_value(pilot, "#cat-bands", " ")
+        await pilot.click("#cat-open")
+        await pilot.pause()
+        assert "bands=' ' is empty" in status.message and status.has_class("-error")
+        await pilot.press("ctrl+r")  # a catalog whose columns could not be mapped is not run
+        await pilot.pause()
+        assert "not mapped" in status.message and not screen.running
+        await set_value(pilot, "#cat-bands", "kw-b,kw-v,kw-r,kw-i")
         await pilot.click("#cat-open")
         await pilot.pause()
         await pilot.press("ctrl+r")

@@ -295,7 +295,10 @@ class CatalogScreen(GrainWait, Screen):
         if self.preview is None:
             status.show("open a catalog first (ctrl+o)", "error")
             return
-        if self.grain_pending(s.law) or not self._mapped:
+        if self.grain_pending(s.law):
+            return
+        if not self._mapped:
+            status.show("the columns are not mapped: fix the bands, then open the catalog again (ctrl+o)", "error")
             return
         options = guarded(lambda: (self._bands(), self._options()))
         checked = guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
