@@ -132,3 +132,24 @@ def test_constant_and_map_reddening_set_up_the_correction_as_the_cli_does(kind, 
     b = Correction(bands, columns=columns, **theirs)
     assert a.setup() == b.setup()
     pd.testing.assert_frame_equal(a.correct(first), b.correct(first))
+
+
+def test_a_grain_model_run_writes_what_the_cli_writes(tmp_path, monkeypatch):
+    monkeypatch.setenv("REDCORR_CACHE_DIR", str(tmp_path / "cache"))
+    tui_out, cli_out = tmp_path / "tui.csv", tmp_path / "cli.csv"
+
+    async def script(app, pilot):
+        app.session.law = "mrn77"
+        await open_demo(pilot, tui_out)
+        screen = app.screen
+        await until(pilot, lambda: screen._mapped, "the grain model and the column mapping")
+        await pilot.press("ctrl+r")
+        await wait_for_run(pilot)
+        assert screen.query_one(StatusLine).message == f"wrote {tui_out}"
+
+    run_app(script, size=(150, 60))
+    bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
+    argv = ["correct", str(DEMO), str(cli_out), *bands, "--law", "mrn77", "--ebv-col", "ebv",
+            "--colour", "kw-b,kw-v", "--quiet"]
+    assert main(argv) == 0
+    assert tui_out.read_bytes() == cli_out.read_bytes()
