@@ -37,7 +37,8 @@ async def shoot(folder, scratch):
         await set_value("#r-v", "4.3")
         await set_value("#amount", "2.5")
         await save("dust")
-        # Bands: the KW-CAM set plus a library filter and a synthetic band
+        # Bands: the KW-CAM set plus a library filter and a synthetic band; the file tree shows filters/
+        app.session.band_dir = str(ROOT / "filters")
         await pilot.press("f3")
         await pilot.pause()
         for spec in ("bessell-V", "tophat:2.2:0.3"):
@@ -58,7 +59,7 @@ async def shoot(folder, scratch):
             await pilot.pause(0.1)
         app.screen.query_one("#cat-main").scroll_end(animate=False)
         await save("catalog")
-        # Plan: the demo target (plan_target.toml) with the Kittiwake instrument
+        # Plan: the demo target (plan_target.toml, with its A_V grid) with the Kittiwake instrument
         await pilot.press("f5")
         await save("plan")
         await pilot.press("f1")

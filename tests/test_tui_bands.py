@@ -3,6 +3,9 @@
 import json
 
 import numpy as np
+import pytest
+import speclite.filters
+from astropy import units as u
 from astropy.table import Table
 from tui_helpers import private_config, run_app, set_value, type_into  # noqa: F401
 
@@ -67,3 +70,53 @@ def test_bands_screen_exports_what_the_cli_prints_and_refuses_bad_values(tmp_pat
     for key in ("lambda_eff_um", "A_band", "A_over_AV", "A_over_EBV"):
         np.testing.assert_array_equal(table[key], [r[key] for r in cli_rows])
     assert table.meta["curve"] == "f99" and table.meta["source"] == "blackbody:4000"
+
+
+def test_filter_files_are_added_from_the_file_tree(tmp_path):
+    # the Bessell V curve as speclite ships it (Bessell 1990, PASP 102, 1181), saved as a user's ECSV file
+    filt = speclite.filters.load_filter("bessell-V")
+    table = Table({"wavelength": filt.wavelength * u.AA, "response": filt.response})
+    table.meta.update({"convention": "photon", "source": "speclite bessell-V, copied by the test"})
+    folder = tmp_path / "filters_of_mine"
+    folder.mkdir()
+    table.write(folder / "my-v.ecsv", format="ascii.ecsv")
+    (folder / "notes.txt").write_text("not a filter curve\n")
+
+    async def choose(pilot, tree, name):
+        """Walk the tree with the keyboard to ``name`` and press Enter, as a user would."""
+        tree.focus()
+        await pilot.press("home")
+        for _ in range(10):
+            node = tree.cursor_node
+            if node is not None and node.data is not None and node.data.path.name == name:
+                await pilot.press("enter")
+                await pilot.pause()
+                return
+            await pilot.press("down")
+            await pilot.pause(0.05)
+        raise AssertionError(f"{name} not found in the tree")
+
+    async def script(app, pilot):
+        await pilot.press("f3")
+        await pilot.pause()
+        screen = app.screen
+        tree = screen.query_one("#bands-tree")
+        tree.path = folder
+        await pilot.pause(0.3)
+        await choose(pilot, tree, "my-v.ecsv")
+        spec = f"file:{folder / 'my-v.ecsv'}"
+        assert app.session.bands == KW + [spec]
+        assert app.session.band_dir == str(folder)
+        await type_into(pilot, "#bands-picker .picker-search", "bessell-V")
+        await pilot.press("enter", "enter")
+        await pilot.pause()
+        rows = {r["band"]: r for r in screen.query_one(BandTable).rows_shown}
+        # the same curve through a user file and through the library gives the same numbers
+        for key in ("lambda_eff_um", "A_band", "A_over_AV"):
+            assert rows[spec][key] == pytest.approx(rows["bessell-V"][key], rel=1e-9)
+        await choose(pilot, tree, "notes.txt")
+        status = screen.query_one(StatusLine)
+        assert status.has_class("-error") and "notes.txt" in status.message
+        assert app.session.bands == KW + [spec, "bessell-V"]  # refused, nothing added, still usable
+
+    run_app(script)

@@ -1,5 +1,6 @@
 """The Catalog screen writes what `redcorr correct` writes, cancels safely and survives bad values."""
 
+import numpy as np
 import pandas as pd
 import pytest
 from tui_helpers import private_config, run_app, set_value, type_into, until  # noqa: F401
@@ -7,6 +8,7 @@ from tui_helpers import private_config, run_app, set_value, type_into, until  # 
 from redcorr._paths import project_dir
 from redcorr.cli import build_parser, main
 from redcorr.cli.correct import _options as cli_options
+from redcorr.colours import colour_magnitude
 from redcorr.correct import Correction
 from redcorr.tui._inputs import catalog_probe, correction_options, guess_mapping
 from redcorr.tui.widgets import StatusLine, XYPlot
@@ -41,10 +43,16 @@ def test_demo_catalog_correction_writes_what_the_cli_writes(tmp_path):
         await wait_for_run(pilot)
         assert screen.query_one(StatusLine).message == f"wrote {tui_out}"
         assert screen.summary.rows == 300
-        names = [name for name, _, _ in screen.query_one(XYPlot).series]
-        assert names == ["as observed", "corrected"]
+        return screen.query_one(XYPlot).series
 
-    run_app(script, size=(150, 60))
+    series = run_app(script, size=(150, 60))
+    # the diagram shows the core's colour-magnitude points of the written file (redcorr.colours)
+    _, written = catalog_probe(tui_out, 5000)
+    expected = colour_magnitude(written, "kw_b", "kw_v")
+    assert [name for name, _, _ in series] == list(expected) == ["as observed", "corrected"]
+    for name, x, y in series:
+        np.testing.assert_array_equal(x, expected[name][0])
+        np.testing.assert_array_equal(y, expected[name][1])
     bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
     argv = ["correct", str(DEMO), str(cli_out), *bands, "--law", "f99", "--rv", "4.3", "--ebv-col", "ebv",
             "--colour", "kw-b,kw-v", "--quiet"]
@@ -83,6 +91,14 @@ def test_cancel_leaves_no_output_and_bad_values_leave_the_app_usable(tmp_path):
         assert "does not exist" in status.message
         assert screen.query_one("#cat-input").has_class("-refused")
         await set_value(pilot, "#cat-input", str(DEMO))
+        await set_value(pilot, "#cat-bands", " ")
+        await pilot.click("#cat-open")
+        await pilot.pause()
+        assert "bands=' ' is empty" in status.message and status.has_class("-error")
+        await pilot.press("ctrl+r")  # a catalog whose columns could not be mapped is not run
+        await pilot.pause()
+        assert "not mapped" in status.message and not screen.running
+        await set_value(pilot, "#cat-bands", "kw-b,kw-v,kw-r,kw-i")
         await pilot.click("#cat-open")
         await pilot.pause()
         await pilot.press("ctrl+r")
@@ -116,3 +132,24 @@ def test_constant_and_map_reddening_set_up_the_correction_as_the_cli_does(kind, 
     b = Correction(bands, columns=columns, **theirs)
     assert a.setup() == b.setup()
     pd.testing.assert_frame_equal(a.correct(first), b.correct(first))
+
+
+def test_a_grain_model_run_writes_what_the_cli_writes(tmp_path, monkeypatch):
+    monkeypatch.setenv("REDCORR_CACHE_DIR", str(tmp_path / "cache"))
+    tui_out, cli_out = tmp_path / "tui.csv", tmp_path / "cli.csv"
+
+    async def script(app, pilot):
+        app.session.law = "mrn77"
+        await open_demo(pilot, tui_out)
+        screen = app.screen
+        await until(pilot, lambda: screen._mapped, "the grain model and the column mapping")
+        await pilot.press("ctrl+r")
+        await wait_for_run(pilot)
+        assert screen.query_one(StatusLine).message == f"wrote {tui_out}"
+
+    run_app(script, size=(150, 60))
+    bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
+    argv = ["correct", str(DEMO), str(cli_out), *bands, "--law", "mrn77", "--ebv-col", "ebv",
+            "--colour", "kw-b,kw-v", "--quiet"]
+    assert main(argv) == 0
+    assert tui_out.read_bytes() == cli_out.read_bytes()

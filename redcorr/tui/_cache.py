@@ -13,6 +13,7 @@ __all__ = ["band", "dust_map", "grain_curve", "grain_ready", "instrument", "sed"
 
 _grains = {}
 _grains_lock = threading.Lock()
+_computing = {}
 
 
 @functools.lru_cache(maxsize=128)
@@ -40,13 +41,22 @@ def dust_map(spec):
 
 
 def grain_curve(spec):
-    """`redcorr.io.load_curve` for a grain model, computed once (Mie theory is slow the first time)."""
+    """`redcorr.io.load_curve` for a grain model, computed once (Mie theory is slow the first time).
+
+    Two threads asking for the same model at once compute it once: the
+    second waits for the first.
+    """
     with _grains_lock:
         if spec in _grains:
             return _grains[spec]
-    curve = load_curve(spec)
-    with _grains_lock:
-        return _grains.setdefault(spec, curve)
+        lock = _computing.setdefault(spec, threading.Lock())
+    with lock:
+        with _grains_lock:
+            if spec in _grains:
+                return _grains[spec]
+        curve = load_curve(spec)
+        with _grains_lock:
+            return _grains.setdefault(spec, curve)
 
 
 def grain_ready(spec):

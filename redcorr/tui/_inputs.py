@@ -9,7 +9,7 @@ from redcorr.band_table import band_table
 from redcorr.correct import Correction
 from redcorr.curves import list_curves
 from redcorr.exceptions import InputError
-from redcorr.exposure import plan_exposure, snr_vs_time
+from redcorr.exposure import plan_exposure, snr_vs_time, time_vs_av
 from redcorr.io import load_curve
 from redcorr.io.catalogs import open_catalog
 from redcorr.tui import _cache
@@ -18,6 +18,7 @@ __all__ = [
     "GOALS",
     "RED_KINDS",
     "SPECTRA",
+    "av_table",
     "band_rows",
     "catalog_probe",
     "colour_pair",
@@ -71,11 +72,7 @@ def plan_state(curve, a_v, instrument_spec, mag_text, mag_band_spec, sed_spec, g
     `redcorr.exposure.snr_vs_time` over it.
     """
     instrument = _cache.instrument(instrument_spec.strip())
-    mag = check_finite("mag", mag_text)
-    mag_band = None
-    if mag_band_spec.strip():
-        name = mag_band_spec.strip()
-        mag_band = instrument.channels[name].band if name in instrument.channels else _cache.band(name)
+    mag, mag_band = _target(instrument, mag_text, mag_band_spec)
     target = check_finite("snr" if goal == GOALS[0] else "time", goal_text)
     plans = plan_exposure(
         instrument,
@@ -93,6 +90,33 @@ def plan_state(curve, a_v, instrument_spec, mag_text, mag_band_spec, sed_spec, g
     t_hi = max(max(finite, default=1.0) * 4.0, 1.0)
     t = np.geomspace(t_hi * 1e-4, t_hi, 200)
     return instrument, plans, t, snr_vs_time(instrument, plans, t)
+
+
+def _target(instrument, mag_text, mag_band_spec):
+    """The target's magnitude and the band it is given in (None: every band), as ``redcorr plan``."""
+    mag = check_finite("mag", mag_text)
+    name = mag_band_spec.strip()
+    if not name:
+        return mag, None
+    return mag, instrument.channels[name].band if name in instrument.channels else _cache.band(name)
+
+
+def av_table(curve, plans, instrument_spec, mag_text, mag_band_spec, sed_spec, goal, goal_text, limit_text,
+             grid_text):
+    """Time to reach the S/N against A_V, as ``redcorr plan --av-grid`` prints it.
+
+    `redcorr.exposure.time_vs_av` for the planned bands (in the plan's
+    order) at the goal S/N, or at the limiting S/N when the goal is a
+    time. ``grid_text`` lists the A_V values (commas or spaces). Returns
+    ``(snr, a_v, times)``: the S/N used, the grid and band → seconds.
+    """
+    instrument = _cache.instrument(instrument_spec.strip())
+    mag, mag_band = _target(instrument, mag_text, mag_band_spec)
+    grid = [check_finite("av_grid", v) for v in split_list(str(grid_text).replace(" ", ","), "av_grid")]
+    snr = check_finite("snr", goal_text) if goal == GOALS[0] else check_finite("limit_snr", limit_text)
+    a_v, times, _ = time_vs_av(instrument, [p.band for p in plans], mag, curve=curve, sed=_cache.sed(sed_spec),
+                               a_v=grid, snr=snr, mag_band=mag_band)
+    return snr, a_v, times
 
 
 RED_KINDS = {

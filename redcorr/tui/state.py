@@ -32,8 +32,11 @@ class Session:
         Source spectrum spec for `redcorr.io.spectra.load_sed`.
     band_output : str
         Where the Bands screen exports its table (``.ecsv`` or ``.csv``).
-    plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr : str
-        The Plan screen's inputs (defaults: the demo's invented target).
+    band_dir : str
+        Folder shown in the Bands screen's file tree (empty: the working folder).
+    plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr, \
+    plan_av_grid : str
+        The Plan screen's inputs (defaults: the demo's invented target, demo/plan_target.toml).
     cat_input, cat_dir, cat_bands, cat_colour, cat_red_kind, cat_red_value, cat_spectrum, cat_teff, \
     cat_output, cat_overwrite
         The Catalog screen's inputs: file, folder of the file tree, bands (comma-separated),
@@ -49,6 +52,7 @@ class Session:
     bands: list = dataclasses.field(default_factory=lambda: ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"])
     sed: str = "blackbody:5800"
     band_output: str = "band_table.ecsv"
+    band_dir: str = ""
     plan_instrument: str = "demo"
     plan_mag: str = "19.0"
     plan_mag_band: str = "kw-v"
@@ -56,6 +60,7 @@ class Session:
     plan_goal: str = "S/N"
     plan_goal_value: str = "50"
     plan_limit_snr: str = "5"
+    plan_av_grid: str = "0, 1, 2, 2.5, 4, 6"
     cat_input: str = ""
     cat_dir: str = ""
     cat_bands: str = "kw-b,kw-v,kw-r,kw-i"

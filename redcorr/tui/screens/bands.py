@@ -1,5 +1,7 @@
 """The Bands screen: choose filters and the source spectrum; the band table, exported on demand."""
 
+from pathlib import Path
+
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -12,7 +14,8 @@ from redcorr.io.filters import list_bands, project_bands
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state
-from redcorr.tui.widgets import BandTable, Field, NamePicker, StatusLine
+from redcorr.tui.screens._grain import GrainWait
+from redcorr.tui.widgets import BandTable, Field, FileTree, NamePicker, StatusLine
 
 __all__ = ["BandsScreen", "band_entries"]
 
@@ -23,17 +26,19 @@ def band_entries():
     return [(name, "filters/" if name in own else "speclite") for name in list_bands()]
 
 
-class BandsScreen(Screen):
+class BandsScreen(GrainWait, Screen):
     """Choose bands (library, project, user files) and the source; the table updates as they change."""
 
     TITLE = "Bands"
     HELP = (
-        "choose filters (library names, the project's filters/, file:PATH, tophat:C:W, gauss:C:FWHM) "
-        "and the source spectrum; the table of A_b, A_b/A_V, A_b/E(B-V), λ_eff; export it"
+        "choose filters (library names, the project's filters/, your filter files from the file tree or "
+        "file:PATH, tophat:C:W, gauss:C:FWHM) and the source spectrum; the table of A_b, A_b/A_V, "
+        "A_b/E(B-V), λ_eff; export it"
     )
     BINDINGS = [
         Binding("ctrl+f", "focus('#bands-picker .picker-search')", "Search"),
         Binding("ctrl+n", "focus('#band-spec')", "Add spec"),
+        Binding("ctrl+t", "focus('#bands-tree')", "Files"),
         Binding("ctrl+o", "focus('#sed')", "Source"),
         Binding("ctrl+s", "export", "Export"),
         Binding("delete", "remove_band", "Remove band"),
@@ -52,10 +57,13 @@ class BandsScreen(Screen):
         s = self.session
         yield Header()
         with Horizontal(id="bands-body"):
-            yield NamePicker(
-                band_entries(), placeholder="search bands… (Enter adds)", accept=("file:", "tophat:", "gauss:"),
-                id="bands-picker",
-            )
+            with Vertical(id="bands-left"):
+                yield NamePicker(
+                    band_entries(), placeholder="search bands… (Enter adds)", accept=("file:", "tophat:", "gauss:"),
+                    id="bands-picker",
+                )
+                yield Label("filter files (Enter adds)", classes="section")
+                yield FileTree(Path(s.band_dir) if Path(s.band_dir).is_dir() else Path.cwd(), id="bands-tree")
             with Vertical(id="bands-main"):
                 with Horizontal(classes="form"):
                     yield Field("add", "", input_id="band-spec", placeholder="file:PATH, tophat:C:W …", width=30)
@@ -94,12 +102,20 @@ class BandsScreen(Screen):
         if spec not in self.session.bands:
             self.session.bands.append(spec)
             self._show_chosen()
+            self.app.remember()
         self.refresh_view()
         return True
 
     def on_name_picker_picked(self, event):
         if event.selected:
             self._add(event.name)
+
+    def on_directory_tree_file_selected(self, event):
+        """A filter file chosen in the tree is added as ``file:PATH`` (the core reads and checks it)."""
+        event.stop()
+        self.session.band_dir = str(Path(event.path).parent)
+        self.app.remember()
+        self._add(f"file:{event.path}")
 
     def on_input_submitted(self, event):
         if event.input.id == "band-spec" and self._add(event.value):
@@ -125,6 +141,7 @@ class BandsScreen(Screen):
         index = chosen.highlighted
         del self.session.bands[index]
         self._show_chosen()
+        self.app.remember()
         if self.session.bands:
             chosen.highlighted = min(index, len(self.session.bands) - 1)
         self.refresh_view()
@@ -137,6 +154,8 @@ class BandsScreen(Screen):
         """Recompute the table through the core; on a refused input keep the last table."""
         s = self.session
         status = self.query_one(StatusLine)
+        if self.grain_pending(s.law):
+            return
         dust = self._compute()
         if not dust.ok:
             status.show("the Dust screen's values are refused (F2 to fix): " + dust.error, "error")
@@ -156,6 +175,8 @@ class BandsScreen(Screen):
         """Write the table on screen (recomputed by the core) to the chosen file, atomically."""
         s = self.session
         status = self.query_one(StatusLine)
+        if self.grain_pending(s.law):
+            return
         dust = self._compute()
         if not dust.ok:
             status.show_outcome(dust)

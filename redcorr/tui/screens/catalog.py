@@ -11,9 +11,11 @@ from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
 
+from redcorr.colours import colour_magnitude
 from redcorr.correct import Correction
 from redcorr.io.batch import correct_file
 from redcorr.io.catalogs import open_catalog
+from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import (
     RED_KINDS,
@@ -22,10 +24,12 @@ from redcorr.tui._inputs import (
     correction_options,
     guess_mapping,
     guess_reddening,
+    is_grain,
     law_r_v,
     preview_correction,
     split_list,
 )
+from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import ColumnMapping, Field, FileTree, StatusLine, XYPlot
 
 __all__ = ["CatalogScreen", "RunCancelled"]
@@ -49,7 +53,7 @@ _FIELDS = {
 }
 
 
-class CatalogScreen(Screen):
+class CatalogScreen(GrainWait, Screen):
     """Correct a catalog file with the dust of the Dust screen, in a worker thread."""
 
     TITLE = "Catalog"
@@ -70,6 +74,7 @@ class CatalogScreen(Screen):
         self.preview = None
         self.summary = None
         self.running = False
+        self._mapped = False
         self._suffix = ""
         self._cancel = threading.Event()
 
@@ -129,6 +134,7 @@ class CatalogScreen(Screen):
             field.value = str(event.path)
         self.session.cat_input = str(event.path)
         self.session.cat_dir = str(Path(event.path).parent)
+        self.app.remember()
         await self.open_catalog()
 
     async def on_input_submitted(self, event):
@@ -169,8 +175,16 @@ class CatalogScreen(Screen):
         await self.open_catalog()
 
     # -- the core ----------------------------------------------------------------------------
-    def _law(self):
+    def _law(self, for_run=False):
+        """``(law, r_v)`` for `Correction`.
+
+        A grain model already computed is passed as the curve object, so that
+        checks and previews on the UI thread do not load it again; the run
+        passes the name, exactly as ``redcorr correct --law`` does.
+        """
         s = self.session
+        if not for_run and is_grain(s.law) and _cache.grain_ready(s.law):
+            return _cache.grain_curve(s.law), None
         return s.law, law_r_v(s.law, s.r_v)
 
     def _bands(self):
@@ -186,6 +200,22 @@ class CatalogScreen(Screen):
             status.show_outcome(probe)
             return
         self.columns, self.preview = probe.value
+        self._mapped = False
+        if self.grain_pending(s.law):
+            return
+        await self._map_columns()
+
+    async def grain_ready(self):
+        """The grain model is computed: finish opening the catalog, or redo the preview."""
+        if self.preview is not None and not self._mapped:
+            await self._map_columns()
+        else:
+            self.update_preview()
+
+    async def _map_columns(self):
+        """Guess the column mapping and the reddening column through `Correction`, then preview."""
+        s = self.session
+        status = self.query_one(StatusLine)
         setup = guarded(lambda: (self._bands(), self._law()))
         if not setup.ok:
             status.show_outcome(setup)
@@ -209,11 +239,13 @@ class CatalogScreen(Screen):
             path = Path(s.cat_input.strip())
             s.cat_output = str(path.with_name(path.stem + "_dered" + path.suffix))
             self.query_one("#cat-output").value = s.cat_output
+        self._mapped = True
+        self.app.remember()
         self.update_preview()
 
-    def _options(self):
+    def _options(self, for_run=False):
         s = self.session
-        law, r_v = self._law()
+        law, r_v = self._law(for_run)
         mapping = self.query_one(ColumnMapping).mapping
         return correction_options(mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum,
                                   s.cat_teff, s.cat_colour)
@@ -224,10 +256,12 @@ class CatalogScreen(Screen):
             return
         s = self.session
         status = self.query_one(StatusLine)
-        law, r_v = guarded(self._law).value or (s.law, None)
+        r_v = guarded(law_r_v, s.law, s.r_v).value
         self.query_one("#cat-dust", Static).update(
-            f"dust: [b]{law}[/]" + (f" R_V = {r_v:g}" if r_v else "") + " (set on the Dust screen, F2)"
+            f"dust: [b]{s.law}[/]" + (f" R_V = {r_v:g}" if r_v else "") + " (set on the Dust screen, F2)"
         )
+        if self.grain_pending(s.law) or not self._mapped:
+            return
         options = guarded(lambda: (self._bands(), self._options()))
         result = guarded(preview_correction, self.preview, *options.value) if options.ok else options
         error = result.error or ""
@@ -261,12 +295,17 @@ class CatalogScreen(Screen):
         if self.preview is None:
             status.show("open a catalog first (ctrl+o)", "error")
             return
+        if self.grain_pending(s.law):
+            return
+        if not self._mapped:
+            status.show("the columns are not mapped: fix the bands, then open the catalog again (ctrl+o)", "error")
+            return
         options = guarded(lambda: (self._bands(), self._options()))
         checked = guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
         if not checked.ok:
             status.show_outcome(checked)
             return
-        bands, kwargs = options.value
+        bands, kwargs = guarded(lambda: (self._bands(), self._options(for_run=True))).value
         self.running = True
         self._cancel.clear()
         self.query_one("#cat-run", Button).disabled = True
@@ -346,12 +385,12 @@ class CatalogScreen(Screen):
             return
         frame = read.value
         m1, m2 = (options["mag_columns"][b] for b in pair)
-        suffix = self._suffix  # output names as in redcorr.correct's docstring: MAG_dered, M1-M2_dered
+        cmd = guarded(colour_magnitude, frame, m1, m2, suffix=self._suffix)
+        if not cmd.ok:
+            self.query_one(StatusLine).show_outcome(cmd)
+            return
         self.query_one(XYPlot).draw(
-            [
-                ("as observed", frame[m1] - frame[m2], frame[m2]),
-                ("corrected", frame[f"{m1}-{m2}{suffix}"], frame[m2 + suffix]),
-            ],
+            [(label, colour, mag) for label, (colour, mag) in cmd.value.items()],
             xlabel=f"{pair[0]} - {pair[1]} [mag]",
             ylabel=f"{pair[1]} [mag]",
             title=f"{len(frame)} rows of {Path(output_path).name}",

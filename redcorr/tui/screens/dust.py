@@ -1,10 +1,7 @@
 """The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ."""
 
-import contextlib
-
 import numpy as np
 from astropy import units as u
-from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -16,6 +13,7 @@ from redcorr.grains import list_grain_models
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui import _cache
 from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
+from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import BandTable, CurvePlot, Field, NamePicker, StatusLine
 
 __all__ = ["DustScreen", "dust_entries"]
@@ -35,7 +33,7 @@ def dust_entries():
     return out
 
 
-class DustScreen(Screen):
+class DustScreen(GrainWait, Screen):
     """Pick the dust: a searchable law list, R_V, A_V or E(B-V), and a live plot."""
 
     TITLE = "Dust"
@@ -115,26 +113,11 @@ class DustScreen(Screen):
             rv_input.value = self.session.r_v if fixed is None else "" if fixed != fixed else f"{fixed:.4g}"
         return fixed is not None
 
-    @work(thread=True, exclusive=True, group="grain")
-    def compute_grain(self, law):
-        """Compute a grain model's curve (Mie theory) off the UI thread, then redraw."""
-        outcome = guarded(_cache.grain_curve, law)
-        with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
-            self.app.call_from_thread(self._grain_done, law, outcome)
-
-    def _grain_done(self, law, outcome):
-        if not outcome.ok:
-            self.query_one(StatusLine).show_outcome(outcome)
-        elif law == self.session.law:
-            self.refresh_view()
-
     def refresh_view(self):
         """Recompute from the inputs through the core and redraw; keep the old view on an error."""
         s = self.session
         fixed = self._sync_r_v_field()
-        if is_grain(s.law) and not _cache.grain_ready(s.law):
-            self.query_one(StatusLine).show(f"computing grain model {s.law} with Mie theory …", "warning")
-            self.compute_grain(s.law)
+        if self.grain_pending(s.law):
             return
         outcome = guarded(dust_state, s.law, "" if fixed else s.r_v, s.amount, s.amount_kind)
         status = self.query_one(StatusLine)

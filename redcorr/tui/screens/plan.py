@@ -4,11 +4,12 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Header, Select, Static
+from textual.widgets import DataTable, Footer, Header, Label, Select, Static
 
 from redcorr.cli.plan import CAUTION
 from redcorr.tui._guard import combine, guarded
-from redcorr.tui._inputs import GOALS, dust_state, plan_state
+from redcorr.tui._inputs import GOALS, av_table, dust_state, plan_state
+from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import Field, StatusLine, XYPlot
 
 __all__ = ["PlanScreen", "PLAN_COLUMNS"]
@@ -33,25 +34,29 @@ _FIELDS = {
     "plan-sed": "plan_sed",
     "plan-goal-value": "plan_goal_value",
     "plan-limit": "plan_limit_snr",
+    "plan-av-grid": "plan_av_grid",
 }
 
 
-class PlanScreen(Screen):
+class PlanScreen(GrainWait, Screen):
     """Exposure times per band for a source behind the dust chosen on the Dust screen."""
 
     TITLE = "Plan"
     HELP = (
         "an instrument (TOML or 'demo') and a target (AB mag, band, spectrum, S/N or time) → "
-        "exposure times with and without the dust, and S/N against time"
+        "exposure times with and without the dust, S/N against time, and the time needed against A_V"
     )
     BINDINGS = [
         Binding("ctrl+n", "focus('#plan-instrument')", "Instrument"),
         Binding("ctrl+t", "focus('#plan-mag')", "Target"),
+        Binding("ctrl+g", "focus('#plan-av-grid')", "A_V grid"),
     ]
 
     def __init__(self, **kwargs):
         super().__init__(**kwargs)
         self.plans = []
+        self.av = None
+        """``(snr, a_v, times)`` of the time-against-A_V table shown (`redcorr.exposure.time_vs_av`)."""
 
     @property
     def session(self):
@@ -70,15 +75,20 @@ class PlanScreen(Screen):
                 yield Select([(g, g) for g in GOALS], value=s.plan_goal, allow_blank=False, id="plan-goal")
                 yield Field("=", s.plan_goal_value, input_id="plan-goal-value", width=12)
                 yield Field("limit S/N", s.plan_limit_snr, input_id="plan-limit", width=8)
+                yield Field("A_V grid", s.plan_av_grid, input_id="plan-av-grid", placeholder="0, 1, 2 …", width=24)
             yield StatusLine(id="plan-status")
             yield Static(id="plan-dust", classes="info")
             yield DataTable(id="plan-table", cursor_type="row", zebra_stripes=True)
-            yield XYPlot(id="plan-plot")
+            with Horizontal(id="plan-lower"):
+                yield XYPlot(id="plan-plot")
+                with Vertical(id="plan-av-box"):
+                    yield Label("time (s) against A_V", id="plan-av-title", classes="section")
+                    yield DataTable(id="plan-av", cursor_type="row", zebra_stripes=True)
             yield Static(CAUTION, classes="info caution")
         yield Footer()
 
     def on_mount(self):
-        table = self.query_one(DataTable)
+        table = self.query_one("#plan-table", DataTable)
         for key, (header, _) in PLAN_COLUMNS.items():
             table.add_column(header, key=key)
         self.refresh_view()
@@ -101,6 +111,8 @@ class PlanScreen(Screen):
         """Recompute the plan through the core; on a refused input keep the last plan shown."""
         s = self.session
         status = self.query_one(StatusLine)
+        if self.grain_pending(s.law):
+            return
         dust = guarded(dust_state, s.law, s.r_v, s.amount, s.amount_kind)
         if not dust.ok:
             status.show("the Dust screen's values are refused (F2 to fix): " + dust.error, "error")
@@ -113,12 +125,19 @@ class PlanScreen(Screen):
             plan_state, curve, a_v, s.plan_instrument, s.plan_mag, s.plan_mag_band, s.plan_sed,
             s.plan_goal, s.plan_goal_value, s.plan_limit_snr,
         )
-        self._mark_refused(outcome.error or "")
-        status.show_outcome(combine(dust, outcome))
+        if outcome.ok:
+            av = guarded(av_table, curve, outcome.value[1], s.plan_instrument, s.plan_mag, s.plan_mag_band,
+                         s.plan_sed, s.plan_goal, s.plan_goal_value, s.plan_limit_snr, s.plan_av_grid)
+        else:
+            av = outcome
+        self._mark_refused(outcome.error or av.error or "")
+        status.show_outcome(combine(dust, outcome, av))
+        if av.ok:
+            self._show_av(*av.value)
         if not outcome.ok:
             return
         instrument, self.plans, t, snr = outcome.value
-        table = self.query_one(DataTable)
+        table = self.query_one("#plan-table", DataTable)
         table.clear()
         for p in self.plans:
             table.add_row(*(fmt.format(getattr(p, key)) for key, (_, fmt) in PLAN_COLUMNS.items()))
@@ -133,6 +152,18 @@ class PlanScreen(Screen):
             hline=target,
         )
 
+    def _show_av(self, snr, a_v, times):
+        """The time-against-A_V table, formatted as ``redcorr plan --av-grid`` prints it."""
+        self.av = (snr, a_v, times)
+        self.query_one("#plan-av-title", Label).update(f"time (s) to reach S/N {snr:g} against A_V")
+        table = self.query_one("#plan-av", DataTable)
+        table.clear(columns=True)
+        table.add_column("A_V", width=4)
+        for band in times:  # fixed widths: ".4g" takes at most 9 characters (1.234e+05)
+            table.add_column(band, width=max(len(band), 9))
+        for i, value in enumerate(a_v):
+            table.add_row(f"{value:.2f}", *(f"{t[i]:.4g}" for t in times.values()))
+
     def _mark_refused(self, error):
         """Colour the field the core's message names (its messages start with the argument)."""
         owners = {
@@ -142,6 +173,7 @@ class PlanScreen(Screen):
             "plan-sed": ("sed=",),
             "plan-goal-value": ("snr=", "time="),
             "plan-limit": ("limit_snr=",),
+            "plan-av-grid": ("av_grid=", "a_v must"),
         }
         for input_id, prefixes in owners.items():
             self.query_one(f"#{input_id}").set_class(error.startswith(prefixes), "-refused")
