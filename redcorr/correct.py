@@ -212,6 +212,28 @@ def _synthetic_ab(band, sed):
     return -2.5 * np.log10(num / den)
 
 
+def _float_column(frame, col):
+    """A numeric column of a DataFrame or Arrow table as float64 (missing → NaN), or None if not numeric."""
+    if isinstance(frame, pd.DataFrame):
+        series = frame[col]
+        if pd.api.types.is_numeric_dtype(series.dtype) and not pd.api.types.is_bool_dtype(series.dtype):
+            return series.to_numpy(dtype=float, na_value=np.nan)
+        return None
+    import pyarrow as pa  # noqa: PLC0415 - Arrow tables come from the io edge, which imports it
+
+    column = frame.column(col)
+    if pa.types.is_floating(column.type) or pa.types.is_integer(column.type):
+        return np.asarray(column.to_numpy(), dtype=float)
+    return None
+
+
+def _series(frame, col):
+    """A column of a DataFrame or Arrow table as a pandas Series (index from 0 for Arrow)."""
+    if isinstance(frame, pd.DataFrame):
+        return frame[col]
+    return frame.column(col).to_pandas()
+
+
 class _ColourTable:
     """Blackbody colour of two bands against temperature, and its inverse (piecewise linear in log T)."""
 
@@ -347,19 +369,19 @@ class RunSummary:
         self.elapsed = None
 
     def add(self, out):
-        """Fold the counts of one corrected table into the summary."""
-        flags = out[FLAG_COLUMN].to_numpy()
-        self.rows += len(out)
+        """Fold the counts of one corrected table (a DataFrame or a dict of arrays) into the summary."""
+        flags = np.asarray(out[FLAG_COLUMN])
+        self.rows += len(flags)
         for name, bit in FLAG_BITS.items():
             self.flagged[name] += int(np.count_nonzero(flags & bit))
         self.flagged["any"] += int(np.count_nonzero(flags))
-        ebv = out["ebv_used"].to_numpy(dtype=float)
+        ebv = np.asarray(out["ebv_used"], dtype=float)
         ebv = ebv[np.isfinite(ebv)]
         if ebv.size:
             self.ebv_min = float(np.fmin(self.ebv_min, ebv.min()))
             self.ebv_max = float(np.fmax(self.ebv_max, ebv.max()))
         if "teff_iterations" in out:
-            it = out["teff_iterations"].to_numpy()
+            it = np.asarray(out["teff_iterations"])
             if it.size:
                 self.iterations_max = max(self.iterations_max, int(it.max()))
                 self.iterations_sum += int(it.sum())
@@ -781,9 +803,10 @@ class Correction:
     # -- applying -----------------------------------------------------------------------------
     def _numeric(self, frame, col, flags):
         """Column as float64; text cells become NaN and set the non_numeric flag (or raise)."""
-        series = frame[col]
-        if pd.api.types.is_numeric_dtype(series.dtype) and not pd.api.types.is_bool_dtype(series.dtype):
-            return series.to_numpy(dtype=float, na_value=np.nan)
+        values = _float_column(frame, col)
+        if values is not None:
+            return values
+        series = _series(frame, col)
         values = pd.to_numeric(series, errors="coerce")
         blank = series.isna().to_numpy() | series.astype(str).str.strip().eq("").to_numpy()
         bad = values.isna().to_numpy() & ~blank
@@ -839,10 +862,37 @@ class Correction:
         self.summary.add(out)
         return out
 
+    def correct_arrays(self, table):
+        """Correct one table; return only the output columns, as a dict of numpy arrays.
+
+        The same numbers as :meth:`correct` without building a DataFrame: the
+        streaming path (:mod:`redcorr.io.batch`) passes the Arrow tables it
+        reads and joins the result to the input columns itself. The counts
+        are added to :attr:`summary`.
+
+        Parameters
+        ----------
+        table : pandas.DataFrame or pyarrow.Table
+            With the columns given at set-up.
+
+        Returns
+        -------
+        dict
+            Output column name → 1-d array, in :attr:`output_columns` order.
+        """
+        out = self._arrays(table)
+        self.summary.add(out)
+        return out
+
     def _correct(self, frame):
-        missing_cols = [c for c in self._used_columns() if c not in frame.columns]
+        added = pd.DataFrame(self._arrays(frame), index=frame.index)
+        return pd.concat([frame, added], axis=1)
+
+    def _arrays(self, frame):
+        names = list(frame.columns) if isinstance(frame, pd.DataFrame) else list(frame.column_names)
+        missing_cols = [c for c in self._used_columns() if c not in names]
         if missing_cols:
-            raise InputError(f"columns {missing_cols} are missing; the columns are {list(frame.columns)}")
+            raise InputError(f"columns {missing_cols} are missing; the columns are {names}")
         n = len(frame)
         nb = len(self.bands)
         flags = np.zeros(n, np.int64)
@@ -918,8 +968,7 @@ class Correction:
         if self.spectrum == "colour":
             result["teff_iterations"] = iterations
         result[FLAG_COLUMN] = flags
-        added = pd.DataFrame(result, index=frame.index)
-        return pd.concat([frame, added], axis=1)
+        return result
 
     def _used_columns(self):
         cols = list(self.mag_cols) + [c for c in self.err_cols if c]

@@ -27,6 +27,7 @@ from redcorr.io.catalogs import (
     DEFAULT_CHUNK_ROWS,
     CatalogWriter,
     ColumnTypeError,
+    PandasLikeColumns,
     atomic_folder,
     detect_format,
     open_catalog,
@@ -126,6 +127,13 @@ def _stream(input_path, output_path, correction, options, text_columns, out_form
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
                            delimiter=delimiter, meta=meta) as writer:
+            if reader.arrow:  # Arrow in, Arrow out: no DataFrame is built
+                carry = PandasLikeColumns(keep)
+                for table in _prefetch(reader.tables()):
+                    writer.write(carry.table(table, correction.correct_arrays(table)))
+                    if progress is not None:
+                        progress(correction.summary.rows, reader.fraction_done())
+                return
             selection = keep + correction.output_columns
             for chunk in _prefetch(reader):
                 writer.write(correction.correct(chunk)[selection])
