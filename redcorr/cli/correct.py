@@ -184,12 +184,10 @@ def run(args):
         return Correction(args.band, columns=columns, **options)
 
     if args.engine == "dask":
-        if args.keep is not None:
-            raise InputError("--keep works with the stream engine only")
         summary = correct_file_dask(
             args.input, args.output, make, in_format=args.in_format, out_format=args.out_format,
             delimiter=args.delimiter, comment=args.comment, overwrite=args.overwrite,
-            scheduler=args.scheduler,
+            scheduler=args.scheduler, keep_columns=args.keep,
         )
     else:
         if args.scheduler:
