@@ -84,10 +84,15 @@ _SUFFIXES = {
     ".pq": "parquet",
 }
 
-DEFAULT_CHUNK_ROWS = 250_000
-"""Rows per chunk unless asked otherwise (a few tens of MB for ten columns)."""
+DEFAULT_CHUNK_ROWS = 65_536
+"""Rows per chunk unless asked otherwise: half a MB per float column, so that the few chunks in
+flight (read ahead, being corrected, being written) stay small beside the program itself."""
 
-_CSV_BLOCK_BYTES = 8 << 20
+_CSV_BLOCK_BYTES = 1 << 20
+"""Bytes per block of the CSV reader. Its read-ahead holds tens of blocks (about 250 MB with
+8 MB blocks, 35 MB with 1 MB), and parsing measured no slower with 1 MB blocks. Column types
+are inferred from the first block; a later cell that does not fit is handled by
+:class:`ColumnTypeError`."""
 
 _CSV_SLICE_ROWS = 32_768
 """Rows formatted as text per task of the CSV writer (two tasks run at once)."""
