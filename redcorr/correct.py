@@ -305,7 +305,9 @@ class _FixedTemperature:
         mag = np.abs(a_v)
         inside = mag <= self.a_v[-1]
         out = self.spline(np.minimum(mag, self.a_v[-1]))
-        return out * np.sign(a_v)[:, None], inside
+        if not np.all(a_v > 0):  # odd extension (a factor of 1 would change nothing)
+            out *= np.sign(a_v)[:, None]
+        return out, inside
 
 
 class _LinearCoefficients:
@@ -932,32 +934,38 @@ class Correction:
             flags |= FLAG_BITS["outside_curve"]
         a_band[~np.isfinite(red) | ~rv_ok] = np.nan
 
-        # R_b = dA_b/dE (or dA_b/dA_V) and the R_V effect, for the uncertainties
+        # R_b = dA_b/dE (or dA_b/dA_V) and the R_V effect, for the uncertainties (None: no such term)
+        red_term = rv_term = None
         if np.any(red_err != 0):
             t_used = np.where(np.isfinite(temperature), temperature, self.temperature)
             step = 1e-3
             a_up = self._extinction(red_safe + step, rv, t_used)[0]
             a_down = self._extinction(red_safe - step, rv, t_used)[0]
             red_term = (a_up - a_down) / (2 * step) * red_err[:, None]
-        else:
-            red_term = np.zeros_like(a_band)
-        rv_term = slope * rv_err[:, None] if slope is not None else np.zeros_like(a_band)
+        if slope is not None:
+            rv_term = slope * rv_err[:, None]
+        variance = errs**2
+        for term in (red_term, rv_term):
+            if term is not None:
+                variance += term**2
 
         result = {}
         dered = mags - a_band
+        mag_err = np.sqrt(variance)
         for b, (mag, label, err_col) in enumerate(zip(self.mag_cols, self.labels, self.err_cols)):
             result[mag + self.suffix] = dered[:, b]
             if self._has_errors(err_col):
-                result[mag + self.suffix + "_err"] = np.sqrt(errs[:, b] ** 2 + red_term[:, b] ** 2 + rv_term[:, b] ** 2)
+                result[mag + self.suffix + "_err"] = mag_err[:, b]
             result["A_" + band_label(label)] = a_band[:, b]
         for i, j in self.colours:
             base = f"{self.mag_cols[i]}-{self.mag_cols[j]}{self.suffix}"
             result[base] = dered[:, i] - dered[:, j]
             if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
-                result[base + "_err"] = np.sqrt(
-                    errs[:, i] ** 2 + errs[:, j] ** 2
-                    + (red_term[:, i] - red_term[:, j]) ** 2 + (rv_term[:, i] - rv_term[:, j]) ** 2
-                )
+                colour_var = errs[:, i] ** 2 + errs[:, j] ** 2
+                for term in (red_term, rv_term):
+                    if term is not None:
+                        colour_var += (term[:, i] - term[:, j]) ** 2
+                result[base + "_err"] = np.sqrt(colour_var)
         valid = np.isfinite(red) & rv_ok
         result["ebv_used"] = np.where(valid, ebv, np.nan)
         result["av_used"] = np.where(valid, red * rv if self.red_quantity == "ebv" else red, np.nan)

@@ -611,7 +611,7 @@ class PandasLikeColumns:
         pa = _pyarrow()
         kind = column.type
         if pa.types.is_floating(kind):
-            if pa.compute.any(pa.compute.is_nan(column)).as_py():
+            if any(np.isnan(chunk.to_numpy(zero_copy_only=False)).any() for chunk in column.chunks):
                 return pa.array(column.to_numpy(), type=kind, from_pandas=True)
             return column
         if pa.types.is_signed_integer(kind):
@@ -639,7 +639,8 @@ class PandasLikeColumns:
                 columns[name] = converted.column(name)
         for name, values in arrays.items():
             values = np.asarray(values)
-            columns[name] = pa.array(values, from_pandas=True) if values.dtype.kind == "f" else pa.array(values)
+            nan = values.dtype.kind == "f" and bool(np.isnan(values).any())
+            columns[name] = pa.array(values, from_pandas=nan)  # NaN → missing, as from a DataFrame
         return pa.table(columns)
 
 
