@@ -94,10 +94,10 @@ _CSV_BLOCK_BYTES = 1 << 20
 are inferred from the first block; a later cell that does not fit is handled by
 :class:`ColumnTypeError`."""
 
-_CSV_SLICE_ROWS = 32_768
+_CSV_SLICE_ROWS = 16_384
 """Rows formatted as text per task of the CSV writer (two tasks run at once)."""
 
-_CSV_PENDING = 6
+_CSV_PENDING = 4
 """Formatted CSV slices waiting to be written, at most (a few MB each)."""
 
 
