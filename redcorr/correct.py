@@ -212,6 +212,28 @@ def _synthetic_ab(band, sed):
     return -2.5 * np.log10(num / den)
 
 
+def _float_column(frame, col):
+    """A numeric column of a DataFrame or Arrow table as float64 (missing → NaN), or None if not numeric."""
+    if isinstance(frame, pd.DataFrame):
+        series = frame[col]
+        if pd.api.types.is_numeric_dtype(series.dtype) and not pd.api.types.is_bool_dtype(series.dtype):
+            return series.to_numpy(dtype=float, na_value=np.nan)
+        return None
+    import pyarrow as pa  # noqa: PLC0415 - Arrow tables come from the io edge, which imports it
+
+    column = frame.column(col)
+    if pa.types.is_floating(column.type) or pa.types.is_integer(column.type):
+        return np.asarray(column.to_numpy(), dtype=float)
+    return None
+
+
+def _series(frame, col):
+    """A column of a DataFrame or Arrow table as a pandas Series (index from 0 for Arrow)."""
+    if isinstance(frame, pd.DataFrame):
+        return frame[col]
+    return frame.column(col).to_pandas()
+
+
 class _ColourTable:
     """Blackbody colour of two bands against temperature, and its inverse (piecewise linear in log T)."""
 
@@ -283,7 +305,9 @@ class _FixedTemperature:
         mag = np.abs(a_v)
         inside = mag <= self.a_v[-1]
         out = self.spline(np.minimum(mag, self.a_v[-1]))
-        return out * np.sign(a_v)[:, None], inside
+        if not np.all(a_v > 0):  # odd extension (a factor of 1 would change nothing)
+            out *= np.sign(a_v)[:, None]
+        return out, inside
 
 
 class _LinearCoefficients:
@@ -347,19 +371,19 @@ class RunSummary:
         self.elapsed = None
 
     def add(self, out):
-        """Fold the counts of one corrected table into the summary."""
-        flags = out[FLAG_COLUMN].to_numpy()
-        self.rows += len(out)
+        """Fold the counts of one corrected table (a DataFrame or a dict of arrays) into the summary."""
+        flags = np.asarray(out[FLAG_COLUMN])
+        self.rows += len(flags)
         for name, bit in FLAG_BITS.items():
             self.flagged[name] += int(np.count_nonzero(flags & bit))
         self.flagged["any"] += int(np.count_nonzero(flags))
-        ebv = out["ebv_used"].to_numpy(dtype=float)
+        ebv = np.asarray(out["ebv_used"], dtype=float)
         ebv = ebv[np.isfinite(ebv)]
         if ebv.size:
             self.ebv_min = float(np.fmin(self.ebv_min, ebv.min()))
             self.ebv_max = float(np.fmax(self.ebv_max, ebv.max()))
         if "teff_iterations" in out:
-            it = out["teff_iterations"].to_numpy()
+            it = np.asarray(out["teff_iterations"])
             if it.size:
                 self.iterations_max = max(self.iterations_max, int(it.max()))
                 self.iterations_sum += int(it.sum())
@@ -781,9 +805,10 @@ class Correction:
     # -- applying -----------------------------------------------------------------------------
     def _numeric(self, frame, col, flags):
         """Column as float64; text cells become NaN and set the non_numeric flag (or raise)."""
-        series = frame[col]
-        if pd.api.types.is_numeric_dtype(series.dtype) and not pd.api.types.is_bool_dtype(series.dtype):
-            return series.to_numpy(dtype=float, na_value=np.nan)
+        values = _float_column(frame, col)
+        if values is not None:
+            return values
+        series = _series(frame, col)
         values = pd.to_numeric(series, errors="coerce")
         blank = series.isna().to_numpy() | series.astype(str).str.strip().eq("").to_numpy()
         bad = values.isna().to_numpy() & ~blank
@@ -839,10 +864,37 @@ class Correction:
         self.summary.add(out)
         return out
 
+    def correct_arrays(self, table):
+        """Correct one table; return only the output columns, as a dict of numpy arrays.
+
+        The same numbers as :meth:`correct` without building a DataFrame: the
+        streaming path (:mod:`redcorr.io.batch`) passes the Arrow tables it
+        reads and joins the result to the input columns itself. The counts
+        are added to :attr:`summary`.
+
+        Parameters
+        ----------
+        table : pandas.DataFrame or pyarrow.Table
+            With the columns given at set-up.
+
+        Returns
+        -------
+        dict
+            Output column name → 1-d array, in :attr:`output_columns` order.
+        """
+        out = self._arrays(table)
+        self.summary.add(out)
+        return out
+
     def _correct(self, frame):
-        missing_cols = [c for c in self._used_columns() if c not in frame.columns]
+        added = pd.DataFrame(self._arrays(frame), index=frame.index)
+        return pd.concat([frame, added], axis=1)
+
+    def _arrays(self, frame):
+        names = list(frame.columns) if isinstance(frame, pd.DataFrame) else list(frame.column_names)
+        missing_cols = [c for c in self._used_columns() if c not in names]
         if missing_cols:
-            raise InputError(f"columns {missing_cols} are missing; the columns are {list(frame.columns)}")
+            raise InputError(f"columns {missing_cols} are missing; the columns are {names}")
         n = len(frame)
         nb = len(self.bands)
         flags = np.zeros(n, np.int64)
@@ -882,32 +934,38 @@ class Correction:
             flags |= FLAG_BITS["outside_curve"]
         a_band[~np.isfinite(red) | ~rv_ok] = np.nan
 
-        # R_b = dA_b/dE (or dA_b/dA_V) and the R_V effect, for the uncertainties
+        # R_b = dA_b/dE (or dA_b/dA_V) and the R_V effect, for the uncertainties (None: no such term)
+        red_term = rv_term = None
         if np.any(red_err != 0):
             t_used = np.where(np.isfinite(temperature), temperature, self.temperature)
             step = 1e-3
             a_up = self._extinction(red_safe + step, rv, t_used)[0]
             a_down = self._extinction(red_safe - step, rv, t_used)[0]
             red_term = (a_up - a_down) / (2 * step) * red_err[:, None]
-        else:
-            red_term = np.zeros_like(a_band)
-        rv_term = slope * rv_err[:, None] if slope is not None else np.zeros_like(a_band)
+        if slope is not None:
+            rv_term = slope * rv_err[:, None]
+        variance = errs**2
+        for term in (red_term, rv_term):
+            if term is not None:
+                variance += term**2
 
         result = {}
         dered = mags - a_band
+        mag_err = np.sqrt(variance)
         for b, (mag, label, err_col) in enumerate(zip(self.mag_cols, self.labels, self.err_cols)):
             result[mag + self.suffix] = dered[:, b]
             if self._has_errors(err_col):
-                result[mag + self.suffix + "_err"] = np.sqrt(errs[:, b] ** 2 + red_term[:, b] ** 2 + rv_term[:, b] ** 2)
+                result[mag + self.suffix + "_err"] = mag_err[:, b]
             result["A_" + band_label(label)] = a_band[:, b]
         for i, j in self.colours:
             base = f"{self.mag_cols[i]}-{self.mag_cols[j]}{self.suffix}"
             result[base] = dered[:, i] - dered[:, j]
             if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
-                result[base + "_err"] = np.sqrt(
-                    errs[:, i] ** 2 + errs[:, j] ** 2
-                    + (red_term[:, i] - red_term[:, j]) ** 2 + (rv_term[:, i] - rv_term[:, j]) ** 2
-                )
+                colour_var = errs[:, i] ** 2 + errs[:, j] ** 2
+                for term in (red_term, rv_term):
+                    if term is not None:
+                        colour_var += (term[:, i] - term[:, j]) ** 2
+                result[base + "_err"] = np.sqrt(colour_var)
         valid = np.isfinite(red) & rv_ok
         result["ebv_used"] = np.where(valid, ebv, np.nan)
         result["av_used"] = np.where(valid, red * rv if self.red_quantity == "ebv" else red, np.nan)
@@ -918,8 +976,7 @@ class Correction:
         if self.spectrum == "colour":
             result["teff_iterations"] = iterations
         result[FLAG_COLUMN] = flags
-        added = pd.DataFrame(result, index=frame.index)
-        return pd.concat([frame, added], axis=1)
+        return result
 
     def _used_columns(self):
         cols = list(self.mag_cols) + [c for c in self.err_cols if c]

@@ -78,7 +78,7 @@ def test_unexpected_failure_exits_1(tmp_path, capsys, monkeypatch):
     def broken(self, frame):
         raise RuntimeError("boom")
 
-    monkeypatch.setattr(redcorr.correct.Correction, "correct", broken)
+    monkeypatch.setattr(redcorr.correct.Correction, "_arrays", broken)
     src = _src(tmp_path)
     assert main(["correct", str(src), str(tmp_path / "o.csv"), *BANDS]) == 1
     assert "unexpected failure" in capsys.readouterr().err

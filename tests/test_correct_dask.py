@@ -73,13 +73,53 @@ def test_dask_dataframe_api_matches_pandas(cluster):
     pd.testing.assert_frame_equal(got, corr.correct(frame), check_exact=True)
 
 
-def test_text_in_a_number_column_is_a_user_error_with_dask(tmp_path):
-    # local threaded scheduler: no cluster needed for an error path
-    src = tmp_path / "in.csv"
-    frame = intrinsic(5)
+def _with_text(tmp_path, n=60):
+    """Two CSV parts of an invented catalog whose kw_v column holds text in two rows, and the whole."""
+    frame = intrinsic(n, seed=24)
     frame["kw_v"] = frame["kw_v"].astype(object)
-    frame.loc[2, "kw_v"] = "bad"
-    frame.to_csv(src, index=False)
-    with pytest.raises(InputError, match="stream engine flags"):
-        correct_file_dask(str(src), tmp_path / "out", _make)
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["in.csv"]
+    frame.loc[7, "kw_v"] = "bad"
+    frame.loc[44, "kw_v"] = "n/a?"
+    half = n // 2
+    for k in range(2):
+        frame.iloc[k * half:(k + 1) * half].to_csv(tmp_path / f"part-{k}.csv", index=False)
+    frame.to_csv(tmp_path / "whole.csv", index=False)
+    return tmp_path / "whole.csv", str(tmp_path / "part-*.csv")
+
+
+def test_text_in_a_number_column_is_flagged_and_kept_columns_as_the_stream_engine(tmp_path, cluster):
+    whole, parts = _with_text(tmp_path)
+    single = tmp_path / "single.parquet"
+    want_summary = correct_file(whole, single, _make, chunk_rows=13, keep_columns=["id", "kw_v"])
+    out = tmp_path / "out_ds"
+    summary = correct_file_dask(parts, out, _make, scheduler=cluster.scheduler_address,
+                                keep_columns=["id", "kw_v"])
+    assert summary.flagged == want_summary.flagged and summary.flagged["non_numeric"] == 2
+    got = _sorted(pd.read_parquet(out))
+    want = _sorted(pd.read_parquet(single))
+    assert list(got.columns) == list(want.columns) and list(got.columns)[:2] == ["id", "kw_v"]
+    pd.testing.assert_frame_equal(got, want, check_dtype=False, check_exact=True)
+    assert got["dered_flags"].iloc[[7, 44]].tolist() == [1 | 2, 1 | 2]  # non_numeric + missing
+
+
+def test_text_in_a_number_column_fails_in_strict_mode_with_dask(tmp_path):
+    # local threaded scheduler: no cluster needed for an error path
+    _, parts = _with_text(tmp_path, n=10)
+    with pytest.raises(InputError, match="strict"):
+        correct_file_dask(parts, tmp_path / "out", lambda c: Correction(KW, columns=c, strict=True))
+    assert not (tmp_path / "out").exists()
+
+
+def test_keep_with_the_dask_engine_on_the_command_line(tmp_path):
+    from redcorr.cli import main
+
+    frame = intrinsic(12, seed=25)
+    write_catalog(frame, tmp_path / "in.csv")
+    out = tmp_path / "out.csv"
+    bands = [x for b in KW for x in ("--band", b)]
+    assert main(["correct", str(tmp_path / "in.csv"), str(out), *bands, "--engine", "dask",
+                 "--keep", "id", "--quiet"]) == 0
+    stream = tmp_path / "stream.csv"
+    assert main(["correct", str(tmp_path / "in.csv"), str(stream), *bands, "--keep", "id", "--quiet"]) == 0
+    got, want = pd.read_csv(out), pd.read_csv(stream)
+    assert list(got.columns) == list(want.columns) and list(got.columns)[0] == "id" and "kw_v" not in got
+    pd.testing.assert_frame_equal(_sorted(got), _sorted(want), check_exact=True)

@@ -255,3 +255,56 @@ def test_reads_ecsv_written_by_astropy_with_spaces(tmp_path):
     table.write(tmp_path / "t.ecsv")  # astropy's default: space-delimited, quoted strings
     frame = read_catalog(tmp_path / "t.ecsv", chunk_rows=1)
     assert frame["name"].tolist() == ["star one", "two"] and frame["kw_v"].tolist() == [15.5, 16.25]
+
+
+def _mixed_types(n=23):
+    """An invented catalog with columns of many Arrow types, NaN and missing values."""
+    frame = intrinsic(n, seed=31)
+    table = pa.Table.from_pandas(frame, preserve_index=False)
+    mag = frame["kw_v"].to_numpy().copy()
+    mag[3] = np.nan
+    extra = {
+        "id32": pa.array(np.arange(n, dtype=np.int32)).cast(pa.int32()),
+        "count": pa.array([None if i % 5 == 0 else i for i in range(n)], pa.uint16()),
+        "name": pa.array([None if i % 4 == 0 else f"star {i}" for i in range(n)], pa.large_string()),
+        "good": pa.array([None if i % 6 == 0 else bool(i % 2) for i in range(n)], pa.bool_()),
+        "seen": pa.array(np.arange(n).astype("datetime64[s]")),
+        "field": pa.array(["north" if i % 2 else "south" for i in range(n)]).dictionary_encode(),
+        "weight": pa.array([None if i % 7 == 0 else (np.nan if i % 7 == 1 else i / 3) for i in range(n)],
+                           pa.float32(), from_pandas=False),
+    }
+    table = table.set_column(table.column_names.index("kw_v"), "kw_v",
+                             pa.array(np.where(np.arange(n) == 5, np.nan, mag)).cast(pa.float64()))
+    for name, column in extra.items():
+        table = table.append_column(name, column)
+    return table
+
+
+@pytest.mark.parametrize("out_suffix", ["csv", "ecsv", "parquet", "fits"])
+@pytest.mark.parametrize("in_suffix", ["parquet", "csv"])
+def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffix, out_suffix):
+    # correct_file streams Arrow tables; writing DataFrames from Correction.correct must give the
+    # same file, type by type (NaN and nulls, narrow integers, large strings, booleans, dates).
+    src = tmp_path / f"in.{in_suffix}"
+    table = _mixed_types()
+    if out_suffix == "fits":  # FITS tables here hold numbers, booleans and text only
+        table = table.drop_columns(["seen", "field"])
+    if in_suffix == "parquet":
+        pq.write_table(table, src)
+    else:
+        write_catalog(table.drop_columns([c for c in ["field"] if c in table.column_names]).to_pandas(), src)
+    arrow_out = tmp_path / f"arrow.{out_suffix}"
+    correct_file(src, arrow_out, _make, chunk_rows=7, summary_file=False)
+    frames_out = tmp_path / f"frames.{out_suffix}"
+    with open_catalog(src, chunk_rows=7) as reader:
+        corr = _make(reader.columns)
+        meta = {"redcorr_correction": corr.setup()}
+        with CatalogWriter(frames_out, meta=meta) as writer:
+            for frame in reader:
+                writer.write(corr.correct(frame)[reader.columns + corr.output_columns])
+    if out_suffix in ("csv", "ecsv"):
+        assert arrow_out.read_bytes() == frames_out.read_bytes()
+    elif out_suffix == "parquet":
+        assert pq.read_table(arrow_out).equals(pq.read_table(frames_out), check_metadata=True)
+    else:
+        pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out))

@@ -6,6 +6,7 @@ import sys
 from redcorr.cli._common import finite_float, print_json
 from redcorr.correct import DEFAULT_TEMPERATURE, FLAG_BITS, Correction
 from redcorr.exceptions import InputError
+from redcorr.io.catalogs import DEFAULT_CHUNK_ROWS
 
 __all__ = ["add_parser", "run"]
 
@@ -104,7 +105,7 @@ def add_parser(sub):
     f.add_argument("--delimiter", default=",", metavar="C", help="CSV delimiter (default ,)")
     f.add_argument("--comment", default="#", metavar="C", help="CSV comment character (default #)")
     f.add_argument("--hdu", metavar="N", help="FITS extension number or name (default: first table)")
-    f.add_argument("--chunk-rows", type=_positive_int, default=250_000, metavar="N", help="rows per chunk")
+    f.add_argument("--chunk-rows", type=_positive_int, default=DEFAULT_CHUNK_ROWS, metavar="N", help="rows per chunk")
     f.add_argument("--keep", type=_names, metavar="COLS",
                    help="input columns to copy to OUTPUT, comma-separated (default all; '' for none)")
     f.add_argument("--suffix", default="_dered", help="suffix of corrected columns (default _dered)")
@@ -184,12 +185,10 @@ def run(args):
         return Correction(args.band, columns=columns, **options)
 
     if args.engine == "dask":
-        if args.keep is not None:
-            raise InputError("--keep works with the stream engine only")
         summary = correct_file_dask(
             args.input, args.output, make, in_format=args.in_format, out_format=args.out_format,
             delimiter=args.delimiter, comment=args.comment, overwrite=args.overwrite,
-            scheduler=args.scheduler,
+            scheduler=args.scheduler, keep_columns=args.keep,
         )
     else:
         if args.scheduler:

@@ -14,7 +14,6 @@ everything succeeded, and write the run summary beside the output as
 ``OUTPUT.summary.json``.
 """
 
-import contextlib
 import glob
 import queue
 import threading
@@ -27,6 +26,7 @@ from redcorr.io.catalogs import (
     DEFAULT_CHUNK_ROWS,
     CatalogWriter,
     ColumnTypeError,
+    PandasLikeColumns,
     atomic_folder,
     detect_format,
     open_catalog,
@@ -126,6 +126,13 @@ def _stream(input_path, output_path, correction, options, text_columns, out_form
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
                            delimiter=delimiter, meta=meta) as writer:
+            if reader.arrow:  # Arrow in, Arrow out: no DataFrame is built
+                carry = PandasLikeColumns(keep)
+                for table in _prefetch(reader.tables()):
+                    writer.write(carry.table(table, correction.correct_arrays(table)))
+                    if progress is not None:
+                        progress(correction.summary.rows, reader.fraction_done())
+                return
             selection = keep + correction.output_columns
             for chunk in _prefetch(reader):
                 writer.write(correction.correct(chunk)[selection])
@@ -179,27 +186,28 @@ def _prefetch(iterable, depth=2):
         thread.join()
 
 
-def _dask_input(input_path, in_format, delimiter, comment, numeric):
+def _dask_input(input_path, in_format, delimiter, comment, numeric, text=()):
     import dask.dataframe as dd  # noqa: PLC0415 - optional dependency, imported when asked
 
-    text = str(input_path)
-    path = Path(text)
+    location = str(input_path)
+    path = Path(location)
     if path.exists() and (path.is_dir() or detect_format(path, in_format) == "parquet"):
         if not path.is_dir() and detect_format(path, in_format) != "parquet":
-            raise InputError(f"input {text!r}: the dask engine reads Parquet datasets or CSV files/globs")
-        return dd.read_parquet(text), [text]
-    files = sorted(glob.glob(text))
+            raise InputError(f"input {location!r}: the dask engine reads Parquet datasets or CSV files/globs")
+        return dd.read_parquet(location), [location]
+    files = sorted(glob.glob(location))
     if not files:
-        raise InputError(f"input {text!r} matches no file")
+        raise InputError(f"input {location!r} matches no file")
     if detect_format(files[0], in_format) != "csv":
-        raise InputError(f"input {text!r}: the dask engine reads Parquet datasets or CSV files/globs")
-    ddf = dd.read_csv(files, sep=delimiter, comment=comment or None,
-                      dtype={c: "float64" for c in numeric}, blocksize="64MB")
+        raise InputError(f"input {location!r}: the dask engine reads Parquet datasets or CSV files/globs")
+    dtype = {c: "float64" for c in numeric if c not in text} | {c: "str" for c in text}
+    ddf = dd.read_csv(files, sep=delimiter, comment=comment or None, dtype=dtype, blocksize="64MB")
     return ddf, files
 
 
 def correct_file_dask(input_path, output_path, make_correction, *, in_format=None, out_format=None,
-                      delimiter=",", comment="#", overwrite=False, scheduler=None, summary_file=True):
+                      delimiter=",", comment="#", overwrite=False, scheduler=None, summary_file=True,
+                      keep_columns=None):
     """Correct a Parquet dataset or a CSV glob with Dask; write a Parquet folder or one CSV file.
 
     Parameters
@@ -213,11 +221,20 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
     scheduler : str, optional
         Address of a ``distributed`` scheduler (``tcp://host:8786``); the
         local threaded scheduler if omitted.
+    keep_columns : list of str, optional
+        As for :func:`correct_file`.
     Other parameters as for :func:`correct_file`.
 
     Returns
     -------
     redcorr.correct.RunSummary
+
+    Notes
+    -----
+    Text in a CSV column that must hold numbers makes Dask's float parser
+    fail; the run then starts again with those columns read as text, so
+    that such cells become NaN and are flagged and counted as in the
+    stream engine (or, with a strict correction, are an error).
     """
     output_path = Path(output_path)
     out_fmt = out_format or ("csv" if output_path.suffix.lower() in (".csv", ".gz") else "parquet")
@@ -234,13 +251,21 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
         except OSError as exc:
             raise InputError(f"scheduler={scheduler!r} could not be reached: {exc}") from None
     try:
-        with _text_in_numbers(input_path):
-            columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
-            correction = make_correction(columns)
-            ddf, _ = _dask_input(input_path, in_format, delimiter, comment, correction.numeric_columns())
-            result = correct_dask(ddf, correction)
-            scheduler_kw = {"scheduler": client} if client is not None else {}
-            summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw)
+        columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
+        correction = make_correction(columns)
+        keep = _keep(columns, keep_columns)
+        numeric, text = correction.numeric_columns(), ()
+        scheduler_kw = {"scheduler": client} if client is not None else {}
+        while True:
+            try:
+                ddf, _ = _dask_input(input_path, in_format, delimiter, comment, numeric, text)
+                result = correct_dask(ddf, correction)[keep + correction.output_columns]
+                summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw)
+                break
+            except ValueError as exc:  # Dask's float parser met text: read those columns as text
+                if "could not convert" not in str(exc) or text:
+                    raise
+                text = numeric
     finally:
         if client is not None:
             client.close()
@@ -249,21 +274,6 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
         write_summary(summary.to_dict(), output_path)
     warn_summary(summary)
     return summary
-
-
-@contextlib.contextmanager
-def _text_in_numbers(input_path):
-    """Turn pandas' complaint about text in a float column into a user error."""
-    try:
-        yield
-    except ValueError as exc:
-        if "could not convert" not in str(exc):
-            raise
-        reason = str(exc).splitlines()[-1].replace("Original Message: ", "")
-        raise InputError(
-            f"input {str(input_path)!r}: {reason}; the dask engine needs numbers in the magnitude and "
-            "reddening columns (the stream engine flags such rows instead)"
-        ) from None
 
 
 def _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw):
