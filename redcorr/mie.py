@@ -53,6 +53,7 @@ from dataclasses import dataclass
 import numpy as np
 from astropy import units as u
 
+from redcorr._validate import as_float_array
 from redcorr.exceptions import InputError
 
 __all__ = ["MieResult", "mie", "amplitudes", "phase_function", "mie_coefficients", "n_terms"]
@@ -428,15 +429,7 @@ def mie_coefficients(m, x, *, convention="n+ik"):
 
 def _angles(theta):
     """Scattering angles as float64 radians (plain numbers are radians)."""
-    if isinstance(theta, u.Quantity):
-        try:
-            theta = theta.to_value(u.rad)
-        except u.UnitConversionError:
-            raise InputError(f"theta has unit {theta.unit!s}; an angle is needed") from None
-    try:
-        arr = np.asarray(theta, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError(f"theta={theta!r} is not numeric") from None
+    arr = as_float_array("theta", theta, u.rad, "an angle")
     bad = ~np.isfinite(arr) | (arr < 0) | (arr > np.pi)
     if np.any(bad):
         raise InputError(f"theta={float(arr[bad].flat[0])!r} is outside the allowed range [0, π] radians")

@@ -13,7 +13,7 @@ __all__ = ["GrainWait"]
 
 
 class GrainWait:
-    """Mixin for a `Screen` with a `StatusLine` and a ``session``.
+    """Mixin for a `Screen` with a `StatusLine`, reading the app's remembered ``session``.
 
     :meth:`grain_pending` is asked before any core call that needs the
     curve; while a grain model is computed (Mie theory, seconds the first
@@ -22,6 +22,11 @@ class GrainWait:
     """
 
     _grain_waiting = None
+
+    @property
+    def session(self):
+        """The app's `redcorr.tui.state.Session` (the settings every screen shares)."""
+        return self.app.session
 
     def grain_pending(self, law):
         """True while ``law`` is a grain model not computed yet; starts (once) the worker that computes it."""

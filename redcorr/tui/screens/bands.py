@@ -49,10 +49,6 @@ class BandsScreen(GrainWait, Screen):
         self.curve = None
         self.a_v = None
 
-    @property
-    def session(self):
-        return self.app.session
-
     def compose(self) -> ComposeResult:
         s = self.session
         yield Header()

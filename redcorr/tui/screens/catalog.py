@@ -78,10 +78,6 @@ class CatalogScreen(GrainWait, Screen):
         self._suffix = ""
         self._cancel = threading.Event()
 
-    @property
-    def session(self):
-        return self.app.session
-
     def compose(self) -> ComposeResult:
         s = self.session
         yield Header()

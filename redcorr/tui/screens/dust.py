@@ -50,10 +50,6 @@ class DustScreen(GrainWait, Screen):
         self.a_v = None
         self.ebv = None
 
-    @property
-    def session(self):
-        return self.app.session
-
     def compose(self) -> ComposeResult:
         s = self.session
         yield Header()

@@ -58,10 +58,6 @@ class PlanScreen(GrainWait, Screen):
         self.av = None
         """``(snr, a_v, times)`` of the time-against-A_V table shown (`redcorr.exposure.time_vs_av`)."""
 
-    @property
-    def session(self):
-        return self.app.session
-
     def compose(self) -> ComposeResult:
         s = self.session
         yield Header()
