@@ -89,10 +89,18 @@ def time_pair(tmp, n, repeat):
     results["columns_in_out"] = [table.num_columns, out_table.num_columns]
 
     # The I/O floor: pyarrow reading the input and writing a table as wide as redcorr's output
-    # (input columns + corrected magnitudes, errors, A_b, E(B-V) used, flags).
+    # (input columns + corrected magnitudes, errors, A_b, E(B-V) used, flags); in CSV the
+    # computed columns rounded as redcorr writes them (TEXT_DECIMALS).
+    from redcorr.io.catalogs import round_for_text
+
+    out_text = out_table
+    for i, field in enumerate(out_table.schema):
+        if field.name not in table.column_names and pa.types.is_floating(field.type):
+            out_text = out_text.set_column(i, field, pa.array(round_for_text(out_table.column(i).to_numpy())))
+
     def floor_csv():
         pacsv.read_csv(csv_in)
-        pacsv.write_csv(out_table, tmp / "floor.csv")
+        pacsv.write_csv(out_text, tmp / "floor.csv")
 
     def floor_pq():
         pq.read_table(pq_in)

@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 from redcorr.correct import Correction
 from redcorr.exceptions import InputError
 from redcorr.io.batch import correct_file
-from redcorr.io.catalogs import CatalogWriter, open_catalog, read_catalog, write_catalog
+from redcorr.io.catalogs import TEXT_DECIMALS, CatalogWriter, open_catalog, read_catalog, write_catalog
 
 
 def _make(columns, **options):
@@ -72,6 +72,26 @@ def test_csv_parquet_fits_inputs_give_identical_results(tmp_path):
         results.append(pd.read_parquet(out))
     for other in results[1:]:
         pd.testing.assert_frame_equal(other, results[0], check_dtype=False, check_exact=True)
+
+
+def test_text_output_rounds_computed_columns_only(tmp_path):
+    # CSV and ECSV carry the computed columns to TEXT_DECIMALS decimals; the input columns are
+    # copied to the last bit, and Parquet keeps the computed ones in full.
+    frame = intrinsic(30, seed=4)
+    frame["kw_v"] += 1e-9 * np.arange(30) + np.pi * 1e-12  # input values needing 17 digits
+    src = write_catalog(frame, tmp_path / "in.parquet")
+    correct_file(src, tmp_path / "out.parquet", _make)
+    full = pd.read_parquet(tmp_path / "out.parquet")
+    for suffix in ("csv", "ecsv"):
+        out = tmp_path / f"out.{suffix}"
+        correct_file(src, out, _make)
+        text = read_catalog(out)
+        pd.testing.assert_frame_equal(text[frame.columns], frame, check_dtype=False, check_exact=True)
+        computed = [c for c in full.columns if c not in frame.columns and full[c].dtype.kind == "f"]
+        assert computed
+        expected = full[computed].round(TEXT_DECIMALS)
+        pd.testing.assert_frame_equal(text[computed], expected, check_dtype=False, check_exact=True)
+        assert not np.array_equal(text[computed].to_numpy(), full[computed].to_numpy(), equal_nan=True)
 
 
 def test_refuses_existing_output_and_never_writes_over_input(tmp_path):
@@ -299,7 +319,7 @@ def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffi
     with open_catalog(src, chunk_rows=7) as reader:
         corr = _make(reader.columns)
         meta = {"redcorr_correction": corr.setup()}
-        with CatalogWriter(frames_out, meta=meta) as writer:
+        with CatalogWriter(frames_out, meta=meta, rounded=corr.output_columns) as writer:
             for frame in reader:
                 writer.write(corr.correct(frame)[reader.columns + corr.output_columns])
     if out_suffix in ("csv", "ecsv"):

@@ -30,6 +30,7 @@ from redcorr.io.catalogs import (
     atomic_folder,
     detect_format,
     open_catalog,
+    round_for_text,
     summary_path,
     write_summary,
 )
@@ -125,7 +126,7 @@ def _stream(input_path, output_path, correction, options, text_columns, out_form
     with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, **options) as reader:
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
-                           delimiter=delimiter, meta=meta) as writer:
+                           delimiter=delimiter, meta=meta, rounded=correction.output_columns) as writer:
             if reader.arrow:  # Arrow in, Arrow out: no DataFrame is built
                 carry = PandasLikeColumns(keep)
                 for table in _prefetch(reader.tables()):
@@ -282,7 +283,9 @@ def _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw)
         with atomic_folder(output_path, overwrite=overwrite) as tmp:
             write = result.to_parquet(str(tmp), write_index=False, compute=False)
             return summarise_dask(result, correction, also=[write], **scheduler_kw)
-    with atomic_path(output_path) as tmp:
+    floats = [c for c in correction.output_columns if result[c].dtype.kind == "f"]
+    result = result.assign(**{c: result[c].map_partitions(round_for_text, meta=result[c]) for c in floats})
+    with atomic_path(output_path) as tmp:  # text: computed columns rounded as by the stream engine
         write = result.to_csv(str(tmp), single_file=True, index=False, compute=False)
         return summarise_dask(result, correction, also=write if isinstance(write, list) else [write],
                               **scheduler_kw)
