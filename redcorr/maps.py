@@ -43,6 +43,8 @@ Conventions
 """
 
 import abc
+import concurrent.futures
+import os
 
 import numpy as np
 from astropy import units as u
@@ -87,6 +89,17 @@ MAP_UNITS = ("E(B-V)", "A_V")
 
 _CHUNK = 1 << 20
 """Positions processed per step, to keep temporary arrays of bounded size."""
+
+_MAX_THREADS = 4
+"""Chunks of a HEALPix lookup sampled at once, at most (and no more than the usable CPUs)."""
+
+
+def _usable_cpus():
+    """CPUs this process may run on (its affinity where the system tells it)."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except AttributeError:  # not Linux
+        return os.cpu_count() or 1
 
 
 def describe_flags(flag):
@@ -171,7 +184,9 @@ class DustMap(abc.ABC):
 
     Subclasses implement ``_sample(lon_deg, lat_deg, frame, method)`` for
     finite positions given in ``frame``; this class validates input, works
-    in chunks of bounded size and applies the scale factor.
+    in chunks of bounded size and applies the scale factor. A subclass whose
+    ``_sample`` may run in several threads at once sets ``_threaded = True``;
+    large lookups then sample a few chunks in parallel.
 
     Parameters
     ----------
@@ -188,6 +203,7 @@ class DustMap(abc.ABC):
     """
 
     kind = "map"
+    _threaded = False
 
     def __init__(self, *, unit="E(B-V)", scale=1.0, interpolation="bilinear", r_v=None, name="", sources=()):
         self.unit = check_choice("unit", unit, MAP_UNITS)
@@ -253,7 +269,8 @@ class DustMap(abc.ABC):
         flags = np.zeros(lon.size, dtype=np.uint8)
         flags[~finite] = FLAG_NO_POSITION
         all_finite = bool(finite.all())
-        for start in range(0, lon.size, _CHUNK):
+
+        def sample_chunk(start):  # writes a disjoint part of values and flags
             part = slice(start, start + _CHUNK)
             if all_finite:
                 values[part], flags[part] = self._sample(lon[part], lat[part], in_frame, method)
@@ -261,6 +278,16 @@ class DustMap(abc.ABC):
                 where = np.nonzero(finite[part])[0] + start
                 if where.size:
                     values[where], flags[where] = self._sample(lon[where], lat[where], in_frame, method)
+
+        starts = range(0, lon.size, _CHUNK)
+        threads = min(len(starts), _MAX_THREADS, _usable_cpus()) if self._threaded else 1
+        if threads > 1:  # the pixel maths runs outside the GIL
+            with concurrent.futures.ThreadPoolExecutor(threads, thread_name_prefix="redcorr-map") as pool:
+                for _ in pool.map(sample_chunk, starts):
+                    pass
+        else:
+            for start in starts:
+                sample_chunk(start)
         if self.scale != 1.0:
             values *= self.scale
         return values.reshape(shape)[()], flags.reshape(shape)[()]
@@ -349,6 +376,7 @@ class HealpixMap(DustMap):
     """
 
     kind = "healpix"
+    _threaded = True  # astropy-healpix and numpy release the GIL; astropy.wcs is not shared safely
 
     def __init__(self, values, nside, order="ring", frame="galactic", pixels=None, blank_value=HEALPIX_UNSEEN, **kwargs):
         super().__init__(**kwargs)
@@ -451,6 +479,8 @@ class HealpixMap(DustMap):
 
 def _finish_bilinear(values, good, covered, weights, flags):
     """Combine (4, n) neighbours into n values and set flags (shared by both map kinds)."""
+    if good.all():  # the usual case, a map without holes here: weights already sum to one
+        return np.einsum("ij,ij->j", values, weights), flags
     main = np.argmax(weights, axis=0)[None, :]
     main_covered = np.take_along_axis(covered, main, axis=0)[0]
     main_good = np.take_along_axis(good, main, axis=0)[0]

@@ -15,6 +15,7 @@ from redcorr.maps import (
     FLAG_OUTSIDE,
     FLAG_PARTIAL,
     HEALPIX_UNSEEN,
+    INTERPOLATIONS,
     HealpixMap,
     ImageMap,
     ImageTile,
@@ -287,6 +288,30 @@ def test_nan_positions_are_flagged_not_errors():
     hp_map = HealpixMap(np.ones(12), 1, "ring")
     values, flags = hp_map.lookup([np.nan, 10.0], [0.0, np.inf])
     assert np.all(np.isnan(values)) and list(flags) == [FLAG_NO_POSITION, FLAG_NO_POSITION]
+
+
+@pytest.mark.parametrize("with_nan", [False, True])
+def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
+    # Large lookups sample chunks in threads; tiny chunks here make several of them. The result
+    # (values, flags, including blank pixels and unusable positions) must not depend on it.
+    import redcorr.maps as maps
+
+    values = healpix_values(16, "ring")
+    values[::7] = np.nan
+    hp_map = HealpixMap(values, 16, "ring", frame="galactic")
+    lon, lat = _random_sky(5003, seed=9)
+    if with_nan:
+        lon[::11] = np.nan
+    monkeypatch.setattr(maps, "_CHUNK", 500)
+    monkeypatch.setattr(maps, "_MAX_THREADS", 1)
+    one = [hp_map.lookup(lon, lat, "icrs", method) for method in INTERPOLATIONS]
+    monkeypatch.setattr(maps, "_MAX_THREADS", 4)
+    monkeypatch.setattr(maps, "_usable_cpus", lambda: 4)
+    many = [hp_map.lookup(lon, lat, "icrs", method) for method in INTERPOLATIONS]
+    for (v1, f1), (v2, f2) in zip(one, many):
+        np.testing.assert_array_equal(v1, v2)
+        np.testing.assert_array_equal(f1, f2)
+        assert {0, FLAG_BLANK} <= set(np.unique(f1))
 
 
 def test_scalar_in_scalar_out_and_broadcasting():
