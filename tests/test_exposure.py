@@ -139,6 +139,20 @@ def test_ccd_equation_full_form_hand_evaluated():
     assert_allclose(snr, 383.85, atol=0.01)
 
 
+def test_ccd_equation_reproduces_the_wfpc2_handbooks_worked_example():
+    # WFPC2 Instrument Handbook (Heyer & Biretta 2005, v9), Sect. 6.7.2 "Extended Sources":
+    # V = 24 mag/arcsec^2 through F569W on the WFC, sky 23.3 mag/arcsec^2, 3000 s, per pixel:
+    # source S = 44.1 e, sky 84.1 e, dark ~12 e, read noise 5.3 e, so B = 84.1 + 5.3^2 + 12
+    # = 124.2 e (the page prints the square as "5.32"; its own sum needs 28.1), noise
+    # N = (S + B)^1/2 = 13.0 e and S/N = 3.4 per pixel. One pixel, sky known exactly.
+    t = 3000.0
+    args = (44.1 / t, 84.1 / t, 12.0 / t, 5.3, 1)
+    snr = ccd_snr(t, *args)
+    assert round(float(44.1 / snr), 1) == 13.0
+    assert round(float(snr), 1) == 3.4
+    assert_allclose(ccd_time(snr, *args), t, rtol=1e-9)
+
+
 def test_ccd_equation_reduces_to_its_simple_form():
     # Merline & Howell (1995, Exp. Astron. 6, 163), the CCD equation without the sky-estimate and
     # digitisation terms (from memory): SNR = N* / sqrt(N* + n_pix (N_S + N_D + N_R^2)), which is
