@@ -41,13 +41,19 @@ def make_table(n, seed=0):
     return pa.table(cols)
 
 
-def best_of(fn, repeat):
-    times = []
+def best_of(cases, repeat):
+    """Fastest of ``repeat`` timings of each case, the cases run in turn within each round.
+
+    Taking turns gives every case the same share of any slow spell of the machine (a
+    shared VM has them), so the ratios do not depend on which case ran during one.
+    """
+    best = dict.fromkeys(cases, float("inf"))
     for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+        for name, fn in cases.items():
+            t0 = time.perf_counter()
+            fn()
+            best[name] = min(best[name], time.perf_counter() - t0)
+    return best
 
 
 def _make(columns, linear=False):
@@ -79,18 +85,22 @@ def time_pair(tmp, n, repeat):
     def base_pq():
         pq.write_table(pq.read_table(pq_in), tmp / "base.parquet")
 
-    results["csv_baseline_s"] = best_of(base_csv, repeat)
-    results["csv_redcorr_s"] = best_of(lambda: run_redcorr(csv_in, tmp / "out.csv"), repeat)
-    results["csv_redcorr_linear_s"] = best_of(lambda: run_redcorr(csv_in, tmp / "out.csv", True), repeat)
-    results["csv_redcorr_keep_id_s"] = best_of(lambda: run_redcorr(csv_in, tmp / "out.csv", keep=["id"]), repeat)
-    results["parquet_baseline_s"] = best_of(base_pq, repeat)
-    results["parquet_redcorr_s"] = best_of(lambda: run_redcorr(pq_in, tmp / "out.parquet"), repeat)
+    cases = {
+        "csv_baseline_s": base_csv,
+        "csv_redcorr_s": lambda: run_redcorr(csv_in, tmp / "out.csv"),
+        "csv_redcorr_linear_s": lambda: run_redcorr(csv_in, tmp / "out.csv", True),
+        "csv_redcorr_keep_id_s": lambda: run_redcorr(csv_in, tmp / "out.csv", keep=["id"]),
+        "parquet_baseline_s": base_pq,
+        "parquet_redcorr_s": lambda: run_redcorr(pq_in, tmp / "out.parquet"),
+    }
+    results.update(best_of(cases, repeat))
     out_table = pq.read_table(tmp / "out.parquet")
     results["columns_in_out"] = [table.num_columns, out_table.num_columns]
 
-    # The I/O floor: pyarrow reading the input and writing a table as wide as redcorr's output
+    # For reference: pyarrow reading the input and writing a table as wide as redcorr's output
     # (input columns + corrected magnitudes, errors, A_b, E(B-V) used, flags); in CSV the
-    # computed columns rounded as redcorr writes them (TEXT_DECIMALS).
+    # computed columns rounded as redcorr writes them (TEXT_DECIMALS) and the input columns
+    # formatted from numbers (redcorr copies their text instead).
     from redcorr.io.catalogs import round_for_text
 
     out_text = out_table
@@ -106,8 +116,7 @@ def time_pair(tmp, n, repeat):
         pq.read_table(pq_in)
         pq.write_table(out_table, tmp / "floor.parquet")
 
-    results["csv_floor_s"] = best_of(floor_csv, repeat)
-    results["parquet_floor_s"] = best_of(floor_pq, repeat)
+    results.update(best_of({"csv_floor_s": floor_csv, "parquet_floor_s": floor_pq}, repeat))
     return results
 
 
@@ -140,7 +149,7 @@ def main():
     parser.add_argument("--rows", type=int, default=1_000_000)
     parser.add_argument("--big-rows", type=int, default=5_000_000)
     parser.add_argument("--small-rows", type=int, default=1_000_000)
-    parser.add_argument("--repeat", type=int, default=2)
+    parser.add_argument("--repeat", type=int, default=5)
     parser.add_argument("--skip-memory", action="store_true")
     args = parser.parse_args()
     with tempfile.TemporaryDirectory() as tmpdir:

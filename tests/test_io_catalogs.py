@@ -94,6 +94,61 @@ def test_text_output_rounds_computed_columns_only(tmp_path):
         assert not np.array_equal(text[computed].to_numpy(), full[computed].to_numpy(), equal_nan=True)
 
 
+def _odd_csv(tmp_path):
+    """A CSV with numbers written in unusual ways, missing words, text and a quoted comma."""
+    frame = intrinsic(12, seed=5)
+    src = write_catalog(frame, tmp_path / "typed.csv")
+    lines = src.read_text().splitlines()
+    head = [h.strip('"') for h in lines[0].split(",")]
+    rows = [line.split(",") for line in lines[1:]]
+    rows[0][head.index("kw_v")] = "15.50"  # trailing zero
+    rows[1][head.index("kw_b")] = "1.25e1"
+    rows[2][head.index("id")] = "007"
+    rows[3][head.index("kw_v")] = "NA"  # a missing-value word: missing, not text
+    rows[4][head.index("kw_r")] = "bright?"  # text in a number column
+    rows[5][head.index("e_kw_b")] = ""  # empty
+    names = ["note"] + head
+    notes = ["plain"] * 12
+    notes[6] = '"cluster, core"'  # needs its quotes
+    notes[7] = '"say ""hi"""'
+    text = ",".join(names) + "\n" + "\n".join(",".join([n] + r) for n, r in zip(notes, rows)) + "\n"
+    (tmp_path / "odd.csv").write_text(text)
+    return tmp_path / "odd.csv", text
+
+
+def _names_in(text):
+    return text.splitlines()[0].split(",")
+
+
+def test_csv_to_csv_copies_the_input_text_unchanged(tmp_path):
+    # CSV to CSV copies input fields as text: numbers keep their spelling, text needing quotes
+    # keeps them, and the values read back are those of the typed path (Parquet output here).
+    src, text = _odd_csv(tmp_path)
+    out = tmp_path / "out.csv"
+    summary = correct_file(src, out, _make, chunk_rows=5)
+    correct_file(src, tmp_path / "typed.parquet", _make, chunk_rows=5)
+    written = out.read_text().splitlines()
+    n_in = len(text.splitlines()[0].split(","))
+    for line_in, line_out in zip(text.splitlines()[1:], written[1:]):
+        if '"' not in line_in:  # rows without quoted text: the input line starts the output line
+            assert line_out.startswith(line_in + ","), (line_in, line_out)
+            assert len(line_out.split(",")) > n_in
+    assert any(line.startswith('"cluster, core","') for line in written)  # the quoted row's fields all quoted
+    back, typed = read_catalog(out), read_catalog(tmp_path / "typed.parquet")
+    computed = [c for c in typed.columns if c not in _names_in(text) and typed[c].dtype.kind == "f"]
+    typed[computed] = typed[computed].round(TEXT_DECIMALS)
+    pd.testing.assert_frame_equal(back, typed, check_dtype=False, check_exact=True)
+    assert back["note"].iloc[6] == "cluster, core" and back["note"].iloc[7] == 'say "hi"'
+    flags = back["dered_flags"].to_numpy()
+    assert flags[3] & 2 and not flags[3] & 1  # "NA" is missing
+    assert flags[4] & 1  # text is flagged
+    assert summary.flagged["non_numeric"] == 1
+    # the text is chosen row by row: any chunking writes the same file
+    again = tmp_path / "again.csv"
+    correct_file(src, again, _make, chunk_rows=1)
+    assert again.read_bytes() == out.read_bytes()
+
+
 def test_refuses_existing_output_and_never_writes_over_input(tmp_path):
     src = _csv(tmp_path)
     before = src.read_bytes()
@@ -304,7 +359,8 @@ def _mixed_types(n=23):
 @pytest.mark.parametrize("in_suffix", ["parquet", "csv"])
 def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffix, out_suffix):
     # correct_file streams Arrow tables; writing DataFrames from Correction.correct must give the
-    # same file, type by type (NaN and nulls, narrow integers, large strings, booleans, dates).
+    # same file, type by type (NaN and nulls, narrow integers, large strings, booleans, dates);
+    # CSV to CSV copies the input's text, so there the values must be the same.
     src = tmp_path / f"in.{in_suffix}"
     table = _mixed_types()
     if out_suffix == "fits":  # FITS tables here hold numbers, booleans and text only
@@ -322,7 +378,9 @@ def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffi
         with CatalogWriter(frames_out, meta=meta, rounded=corr.output_columns) as writer:
             for frame in reader:
                 writer.write(corr.correct(frame)[reader.columns + corr.output_columns])
-    if out_suffix in ("csv", "ecsv"):
+    if (in_suffix, out_suffix) == ("csv", "csv"):  # fields copied as text: same values, not same bytes
+        pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out))
+    elif out_suffix in ("csv", "ecsv"):
         assert arrow_out.read_bytes() == frames_out.read_bytes()
     elif out_suffix == "parquet":
         assert pq.read_table(arrow_out).equals(pq.read_table(frames_out), check_metadata=True)

@@ -123,14 +123,20 @@ def _keep(columns, keep_columns):
 def _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
             overwrite, progress, keep):
     numeric = [c for c in correction.numeric_columns() if c not in text_columns]
-    with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, **options) as reader:
+    # CSV to CSV: the input's fields are copied as text, never parsed and formatted again
+    verbatim = (detect_format(input_path, options["fmt"]) == "csv"
+                and detect_format(output_path, out_format) == "csv")
+    with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, verbatim=verbatim,
+                      **options) as reader:
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
-                           delimiter=delimiter, meta=meta, rounded=correction.output_columns) as writer:
+                           delimiter=delimiter, meta=meta, rounded=correction.output_columns,
+                           verbatim=reader.verbatim) as writer:
             if reader.arrow:  # Arrow in, Arrow out: no DataFrame is built
                 carry = PandasLikeColumns(keep)
+                typed = reader.typed if reader.verbatim else (lambda table: table)
                 for table in _prefetch(reader.tables()):
-                    writer.write(carry.table(table, correction.correct_arrays(table)))
+                    writer.write(carry.table(table, correction.correct_arrays(typed(table))))
                     if progress is not None:
                         progress(correction.summary.rows, reader.fraction_done())
                 return

@@ -254,6 +254,9 @@ class CatalogReader(abc.ABC):
     arrow = False
     """True when the format is read as Arrow tables (:meth:`tables`); DataFrames are then made from them."""
 
+    verbatim = False
+    """True when :meth:`tables` yields the file's text (see ``verbatim`` of :func:`open_catalog`)."""
+
     @abc.abstractmethod
     def _frames(self):
         """Yield the non-empty chunks as DataFrames."""
@@ -296,7 +299,7 @@ class _CsvReader(CatalogReader):
     arrow = True
 
     def __init__(self, path, fmt, chunk_rows, *, delimiter, comment, numeric_columns, text_columns,
-                 skip_lines=0, column_names=None, **_):
+                 skip_lines=0, column_names=None, verbatim=False, **_):
         super().__init__(path, fmt, chunk_rows)
         pa = _pyarrow()
         self._delimiter = delimiter
@@ -307,16 +310,25 @@ class _CsvReader(CatalogReader):
         if skip_lines == 0 and comment:
             skip_lines = self._leading_comment_lines(compressed)
         self._skip_lines = skip_lines
+        numeric_columns, text_columns = set(numeric_columns), set(text_columns)
+        self._numeric = [c for c in numeric_columns if c not in text_columns]
+        names = (column_names or self._header_names()) if verbatim else None
+        self.verbatim = bool(names)
+        if self.verbatim:  # every field as the text it is in the file ("" stays "")
+            types = dict.fromkeys(names, pa.string())
+            convert = pa.csv.ConvertOptions(column_types=types, strings_can_be_null=False,
+                                            quoted_strings_can_be_null=False)
+        else:
+            types = {c: pa.string() for c in text_columns}
+            types.update(dict.fromkeys(self._numeric, pa.float64()))
+            convert = pa.csv.ConvertOptions(column_types=types, strings_can_be_null=True)
+        self._missing_words = pa.array(pa.csv.ConvertOptions().null_values, pa.string())
         self._raw = pa.OSFile(str(self.path), "rb")
         stream = pa.CompressedInputStream(self._raw, "gzip") if compressed else self._raw
-        numeric_columns, text_columns = set(numeric_columns), set(text_columns)
-        types = {c: pa.string() for c in text_columns}
-        types.update({c: pa.float64() for c in numeric_columns - text_columns})
         read = pa.csv.ReadOptions(
             block_size=_CSV_BLOCK_BYTES, skip_rows=skip_lines, column_names=column_names
         )
         parse = pa.csv.ParseOptions(delimiter=delimiter, invalid_row_handler=self._invalid_row)
-        convert = pa.csv.ConvertOptions(column_types=types, strings_can_be_null=True)
         try:
             self._reader = pa.csv.open_csv(stream, read_options=read, parse_options=parse,
                                            convert_options=convert)
@@ -344,6 +356,33 @@ class _CsvReader(CatalogReader):
         if self._comment and row.text.lstrip().startswith(self._comment):
             return "skip"
         return "error"
+
+    def typed(self, table):
+        """A chunk read verbatim with its ``numeric_columns`` as float64, for computing.
+
+        The words the typed reader takes for missing values (pyarrow's
+        defaults: empty, ``NA``, ``null``, ...) become missing; a column with
+        other text stays text, for the correction to flag those cells as the
+        typed reader's text fallback (:class:`ColumnTypeError`) would.
+        """
+        pa = _pyarrow()
+        pc = pa.compute
+        for name in self._numeric:
+            i = table.schema.get_field_index(name)
+            if i < 0 or not pa.types.is_string(table.schema.field(i).type):
+                continue
+            column = table.column(i)
+            try:
+                column = pc.cast(column, pa.float64())
+            except pa.ArrowInvalid:  # missing-value words or text: the slower, careful way
+                column = pc.if_else(pc.is_in(column, value_set=self._missing_words),
+                                    pa.scalar(None, pa.string()), column)
+                try:
+                    column = pc.cast(column, pa.float64())
+                except pa.ArrowInvalid:
+                    pass
+            table = table.set_column(i, name, column)
+        return table
 
     def _header_names(self):
         """Column names from the header line alone (when the first block failed to convert)."""
@@ -545,7 +584,7 @@ class _ParquetReader(CatalogReader):
 
 
 def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=",", comment="#",
-                 numeric_columns=(), text_columns=(), hdu=None):
+                 numeric_columns=(), text_columns=(), hdu=None, verbatim=False):
     """Open a catalog for reading in chunks.
 
     Parameters
@@ -566,6 +605,12 @@ def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=","
         CSV/ECSV columns to read as text (see :class:`ColumnTypeError`).
     hdu : int or str, optional
         FITS extension holding the table (default: the first binary table).
+    verbatim : bool
+        CSV only: :meth:`CatalogReader.tables` yields every column as the
+        text in the file, to be copied to a CSV output unchanged, and
+        ``reader.typed(table)`` gives a chunk with ``numeric_columns`` as
+        float64 to compute with. ``reader.verbatim`` tells whether this
+        holds (not when the header line cannot be read on its own).
 
     Returns
     -------
@@ -583,10 +628,12 @@ def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=","
         raise InputError(f"input {str(path)!r} is empty: no header line with column names")
     if fmt == "csv" and len(delimiter) != 1:
         raise InputError(f"delimiter={delimiter!r} must be one character")
+    if verbatim and fmt != "csv":
+        raise ValueError(f"verbatim reading is for CSV input, not {fmt}")
     kinds = {"csv": _CsvReader, "ecsv": _EcsvReader, "fits": _FitsReader, "parquet": _ParquetReader}
     return kinds[fmt](
         path, fmt, chunk_rows, delimiter=delimiter, comment=comment or None,
-        numeric_columns=numeric_columns, text_columns=text_columns, hdu=hdu,
+        numeric_columns=numeric_columns, text_columns=text_columns, hdu=hdu, verbatim=verbatim,
     )
 
 
@@ -772,6 +819,14 @@ class _FitsSpool:
         shutil.rmtree(self.dir, ignore_errors=True)
 
 
+def _csv_bytes(table, options):
+    """``table`` as CSV text (a pyarrow buffer)."""
+    pa = _pyarrow()
+    buf = pa.BufferOutputStream()
+    pa.csv.write_csv(table, buf, write_options=options)
+    return buf.getvalue()
+
+
 class CatalogWriter:
     """Write DataFrame or Arrow-table chunks to a catalog file, atomically.
 
@@ -806,9 +861,15 @@ class CatalogWriter:
         CSV and ECSV (see :func:`round_for_text`): the columns the program
         computed. Other columns, and all columns of binary formats, are
         written exactly.
+    verbatim : bool
+        CSV output of text columns read verbatim (:func:`open_catalog`):
+        text goes out unquoted, as it came in; a row in which some text
+        holds the delimiter, a quote or a line end has its text fields
+        quoted.
     """
 
-    def __init__(self, path, *, fmt=None, overwrite=False, inputs=(), delimiter=",", meta=None, rounded=()):
+    def __init__(self, path, *, fmt=None, overwrite=False, inputs=(), delimiter=",", meta=None, rounded=(),
+                 verbatim=False):
         self.path = Path(path)
         self.format = detect_format(self.path, fmt) if fmt or self.path.suffix else "parquet"
         self._overwrite = overwrite
@@ -816,6 +877,7 @@ class CatalogWriter:
         self._delimiter = delimiter
         self._meta = dict(meta or {})
         self._rounded = set(rounded)
+        self._verbatim = bool(verbatim) and self.format == "csv"
         self._schema = None
         self._sink = None
         self._writer = None
@@ -867,6 +929,9 @@ class CatalogWriter:
             self._csv_options = pa.csv.WriteOptions(
                 include_header=False, delimiter=self._delimiter if self.format == "csv" else ","
             )
+            self._plain_options = pa.csv.WriteOptions(
+                include_header=False, delimiter=self._delimiter, quoting_style="none"
+            )
             self._pool = concurrent.futures.ThreadPoolExecutor(2, thread_name_prefix="redcorr-csv")
 
     def _ecsv_header(self, frame):
@@ -889,9 +954,35 @@ class CatalogWriter:
                 values = round_for_text(column.to_numpy()).astype(field.type.to_pandas_dtype(), copy=False)
                 mask = column.is_null().to_numpy() if column.null_count else None
                 table = table.set_column(i, field, pa.array(values, type=field.type, mask=mask))
-        buf = pa.BufferOutputStream()
-        pa.csv.write_csv(table, buf, write_options=self._csv_options)
-        return buf.getvalue()
+        if not self._verbatim:
+            return _csv_bytes(table, self._csv_options)
+        try:  # text copied from the input goes out unquoted, as it came in
+            return _csv_bytes(table, self._plain_options)
+        except pa.ArrowInvalid:  # some field holds the delimiter, a quote or a line end
+            return self._quote_rows_that_need_it(table)
+
+    def _quote_rows_that_need_it(self, table):
+        """CSV text of ``table`` with the text fields of rows that need quotes quoted.
+
+        Rows whose text fields are free of the delimiter, quotes and line
+        ends are written unquoted; the others with every text field quoted
+        (RFC 4180). The choice is made row by row, so the text does not
+        depend on how the rows were chunked.
+        """
+        pa = _pyarrow()
+        pc = pa.compute
+        needs = np.zeros(table.num_rows, dtype=bool)
+        for column in table.columns:
+            if pa.types.is_string(column.type):
+                for special in {self._delimiter, '"', "\n", "\r"}:
+                    found = pc.fill_null(pc.match_substring(column, special), False)
+                    needs |= found.to_numpy(zero_copy_only=False)
+        edges = np.concatenate([[0], np.flatnonzero(np.diff(needs)) + 1, [table.num_rows]])
+        parts = [
+            _csv_bytes(table.slice(a, b - a), self._csv_options if needs[a] else self._plain_options)
+            for a, b in zip(edges[:-1], edges[1:])
+        ]
+        return b"".join(part.to_pybytes() for part in parts)
 
     def _drain(self, limit):
         """Finish the oldest tasks until at most ``limit`` are in flight (text goes to the file in order)."""
