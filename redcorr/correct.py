@@ -74,8 +74,10 @@ Uncertainties (added in quadrature; correlated parts kept together)::
     σ(m₀)²   = σ_m² + (R_b σ_E)² + (∂A_b/∂R_V · σ_RV)²
     σ(c₀)²   = σ_m1² + σ_m2² + ((R_1 − R_2) σ_E)² + (∂(A_1 − A_2)/∂R_V · σ_RV)²
 
-with R_b = A_b/E(B-V) (A_b/A_V and σ_AV when A_V is the input) and
-∂A_b/∂R_V a central difference (±0.05) at fixed E(B-V) or A_V.
+with R_b = dA_b/dE(B-V) at the row's reddening (dA_b/dA_V and σ_AV when A_V
+is the input; the derivative of the A_V spline, A_b/E(B-V) in linear mode,
+a central difference of ±0.001 mag on a coefficient grid or with R_V per
+row) and ∂A_b/∂R_V a central difference (±0.05) at fixed E(B-V) or A_V.
 
 Source temperature: fixed (``temperature``), a column, or solved from an
 observed colour: starting from ``temperature``, deredden the colour,
@@ -131,6 +133,8 @@ DEFAULT_TEMPERATURE = 7000.0
 """K: default blackbody source, a mid-F star, typical of field stars (common practice, no source)."""
 
 _RV_HALF_STEP = 0.05
+_DIFF_STEP = 1e-3
+"""mag: half step of the central differences dA_b/d(reddening) where no analytic slope exists."""
 _AV_STEP = 0.05
 _AV_MAX = 20.0
 _T_TABLE = (3000.0, 50000.0, 241)
@@ -300,6 +304,7 @@ class _FixedTemperature:
             axis=-1,
         )
         self.spline = CubicSpline(self.a_v, table, axis=0)
+        self._slope = self.spline.derivative()
 
     def a_band(self, a_v, temperature):
         mag = np.abs(a_v)
@@ -308,6 +313,10 @@ class _FixedTemperature:
         if not np.all(a_v > 0):  # odd extension (a factor of 1 would change nothing)
             out *= np.sign(a_v)[:, None]
         return out, inside
+
+    def slope(self, a_v, temperature):
+        """dA_b/dA_V (n, n_band), from the spline's derivative (even, as A_b is odd)."""
+        return self._slope(np.minimum(np.abs(a_v), self.a_v[-1]))
 
 
 class _LinearCoefficients:
@@ -329,6 +338,10 @@ class _LinearCoefficients:
         inside = (lt >= self.log_t[0]) & (lt <= self.log_t[-1])
         return a_v[:, None] * ratio, inside
 
+    def slope(self, a_v, temperature):
+        """dA_b/dA_V (n, n_band): the ratio itself."""
+        return self.a_band(np.ones_like(a_v), temperature)[0]
+
 
 class _GridCoefficients:
     """Nonlinear A_b(A_V, T) from a :class:`redcorr.extinction.CoefficientGrid`."""
@@ -344,6 +357,12 @@ class _GridCoefficients:
         inside = (mag <= self.av_hi) & (temperature >= self.t_lo) & (temperature <= self.t_hi)
         out = np.asarray(self.grid.a_band(np.minimum(mag, self.av_hi), t), float).reshape(a_v.size, -1)
         return out * np.sign(a_v)[:, None], inside
+
+    def slope(self, a_v, temperature):
+        """dA_b/dA_V (n, n_band) by central differences of ±1e-3 mag."""
+        return (self.a_band(a_v + _DIFF_STEP, temperature)[0] - self.a_band(a_v - _DIFF_STEP, temperature)[0]) / (
+            2 * _DIFF_STEP
+        )
 
 
 class RunSummary:
@@ -768,6 +787,16 @@ class Correction:
         a_v = red * rv_node if quantity == "ebv" else red
         return self._coefficients(rv_node).a_band(a_v, temperature)
 
+    def _reddening_slope(self, red, rv, temperature):
+        """dA_b/d(reddening) (n, n_band) in the reddening's own quantity (E(B-V) or A_V)."""
+        if self.rv_col is None:
+            a_v = red * self.r_v if self.red_quantity == "ebv" else red
+            per_av = self._coefficients(None).slope(a_v, temperature)
+            return per_av * self.r_v if self.red_quantity == "ebv" else per_av
+        up = self._extinction(red + _DIFF_STEP, rv, temperature)[0]  # R_V per row: through the nodes
+        down = self._extinction(red - _DIFF_STEP, rv, temperature)[0]
+        return (up - down) / (2 * _DIFF_STEP)
+
     def _extinction(self, red, rv, temperature):
         """A_b (n, n_band), dA_b/dR_V (n, n_band) or None, inside-grid mask, R_V-ok mask."""
         n = red.size
@@ -938,10 +967,7 @@ class Correction:
         red_term = rv_term = None
         if np.any(red_err != 0):
             t_used = np.where(np.isfinite(temperature), temperature, self.temperature)
-            step = 1e-3
-            a_up = self._extinction(red_safe + step, rv, t_used)[0]
-            a_down = self._extinction(red_safe - step, rv, t_used)[0]
-            red_term = (a_up - a_down) / (2 * step) * red_err[:, None]
+            red_term = self._reddening_slope(red_safe, rv, t_used) * red_err[:, None]
         if slope is not None:
             rv_term = slope * rv_err[:, None]
         variance = errs**2

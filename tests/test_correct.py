@@ -152,6 +152,29 @@ def test_nonlinear_falls_below_linear_at_high_extinction():
 
 
 # --- uncertainties -----------------------------------------------------------------------------
+@pytest.mark.parametrize("spectrum", [{}, {"temperature_column": "teff"}])
+def test_reddening_error_uses_the_local_slope_of_a_band(spectrum):
+    # First-order propagation (common practice, no source): σ_A = |dA_b/dE| σ_E, with the slope
+    # taken where the row's reddening is. Checked against a central difference of the
+    # corrected A_b itself over E(B-V) ± 1e-4, independently of how the slope is computed
+    # (the A_V spline's derivative at fixed temperature, differences on the grid otherwise).
+    stars = intrinsic(40, seed=13)
+    stars["ebv"] = np.linspace(0.0, 4.0, 40)
+    stars["teff"] = np.linspace(4000.0, 12000.0, 40)
+    for band in KW:
+        stars["e_" + _cols(band)] = 0.0
+    out, _ = correct_dataframe(stars, KW, **spectrum)
+    h = 1e-4
+    shifted = {}
+    for sign in (1, -1):
+        moved = stars.assign(ebv=stars["ebv"] + sign * h)
+        shifted[sign], _ = correct_dataframe(moved, KW, **spectrum)
+    for band in KW:
+        a = "A_" + _cols(band)
+        slope = (shifted[1][a] - shifted[-1][a]) / (2 * h)
+        np.testing.assert_allclose(out[_cols(band) + "_dered_err"], slope * stars["e_ebv"], rtol=2e-5, atol=1e-12)
+
+
 def test_errors_linear_mode_follow_the_documented_formula():
     stars = intrinsic(50, seed=9)
     out, _ = correct_dataframe(stars, ["kw-b", "kw-v"], nonlinear=False, rv_error=0.3,
