@@ -120,8 +120,8 @@ def time_pair(tmp, n, repeat):
     return results
 
 
-def peak_rss(tmp, n):
-    """Peak RSS (MB) of a fresh process correcting an n-row CSV file to Parquet."""
+def peak_rss(tmp, n, outputs=("parquet", "csv")):
+    """Peak RSS (MB) of fresh processes correcting an n-row CSV file, one per output format."""
     src = tmp / f"mem_{n}.csv"
     writer = None
     for start in range(0, n, 1_000_000):
@@ -130,18 +130,24 @@ def peak_rss(tmp, n):
             writer = pacsv.CSVWriter(src, part.schema)
         writer.write_table(part)
     writer.close()
-    # VmHWM (Linux) is the peak of this process image only; ru_maxrss would carry the parent's
-    # peak across fork + exec and hide the child's.
-    code = (
-        "import sys; sys.path.insert(0, %r);"
-        "from benchmarks.bench_catalog import run_redcorr;"
-        "run_redcorr(%r, %r);"
-        "line = [x for x in open('/proc/self/status') if x.startswith('VmHWM')][0];"
-        "print(int(line.split()[1]) / 1024)"
-    ) % (str(ROOT), str(src), str(tmp / f"mem_{n}.parquet"))
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
+    peaks = {}
+    for suffix in outputs:
+        # VmHWM (Linux) is the peak of this process image only; ru_maxrss would carry the
+        # parent's peak across fork + exec and hide the child's.
+        dst = tmp / f"mem_{n}_out.{suffix}"
+        code = (
+            "import sys; sys.path.insert(0, %r);"
+            "from benchmarks.bench_catalog import run_redcorr;"
+            "run_redcorr(%r, %r);"
+            "line = [x for x in open('/proc/self/status') if x.startswith('VmHWM')][0];"
+            "print(int(line.split()[1]) / 1024)"
+        ) % (str(ROOT), str(src), str(dst))
+        out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
+        peaks[suffix] = float(out.stdout.strip().splitlines()[-1])
+        dst.unlink()
+        Path(str(dst) + ".summary.json").unlink()
     src.unlink()
-    return float(out.stdout.strip().splitlines()[-1]), src
+    return peaks
 
 
 def main():
@@ -173,11 +179,13 @@ def main():
         print(f"Against pyarrow reading the input and writing a table as wide as the output: "
               f"CSV {res['csv_ratio_floor']:.2f}, Parquet {res['parquet_ratio_floor']:.2f}")
         if not args.skip_memory:
-            small, _ = peak_rss(tmp, args.small_rows)
-            big, _ = peak_rss(tmp, args.big_rows)
-            res.update(rss_small_mb=small, rss_big_mb=big, rss_ratio=big / small)
-            print(f"Peak RSS: {args.small_rows:,} rows {small:.0f} MB, {args.big_rows:,} rows {big:.0f} MB, "
-                  f"ratio {big / small:.2f} (target: flat, about 1)")
+            small, big = peak_rss(tmp, args.small_rows), peak_rss(tmp, args.big_rows)
+            for fmt in small:
+                res.update({f"rss_{fmt}_small_mb": small[fmt], f"rss_{fmt}_big_mb": big[fmt],
+                            f"rss_{fmt}_ratio": big[fmt] / small[fmt]})
+                print(f"Peak RSS, CSV -> {fmt}: {args.small_rows:,} rows {small[fmt]:.0f} MB, "
+                      f"{args.big_rows:,} rows {big[fmt]:.0f} MB, ratio {big[fmt] / small[fmt]:.2f} "
+                      "(target: flat, about 1)")
         print(json.dumps(res))
 
 
