@@ -386,7 +386,7 @@ class _CsvReader(CatalogReader):
         return table
 
     def _header_names(self):
-        """Column names from the header line alone (when the first block failed to convert)."""
+        """Column names from the header line alone (for verbatim reading, or when the first block failed to convert)."""
         pa = _pyarrow()
         opener = gzip.open if _is_gzip(self.path) else open
         with opener(self.path, "rb") as fh:
