@@ -94,6 +94,17 @@ def test_text_output_rounds_computed_columns_only(tmp_path):
         assert not np.array_equal(text[computed].to_numpy(), full[computed].to_numpy(), equal_nan=True)
 
 
+def test_parquet_output_leaves_only_computed_doubles_uncompressed(tmp_path):
+    # Computed doubles have random low bits and do not compress; everything else keeps
+    # pyarrow's default codec (snappy).
+    src = write_catalog(intrinsic(50, seed=6), tmp_path / "in.parquet")
+    correct_file(src, tmp_path / "out.parquet", _make)
+    meta = pq.ParquetFile(tmp_path / "out.parquet").metadata
+    codecs = {meta.schema.column(i).name: meta.row_group(0).column(i).compression for i in range(meta.num_columns)}
+    assert codecs["kw_v"] == codecs["id"] == codecs["dered_flags"] == "SNAPPY"
+    assert codecs["kw_v_dered"] == codecs["A_kw_v"] == codecs["kw_v_dered_err"] == "UNCOMPRESSED"
+
+
 def _odd_csv(tmp_path):
     """A CSV with numbers written in unusual ways, missing words, text and a quoted comma."""
     frame = intrinsic(12, seed=5)
@@ -375,7 +386,7 @@ def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffi
     with open_catalog(src, chunk_rows=7) as reader:
         corr = _make(reader.columns)
         meta = {"redcorr_correction": corr.setup()}
-        with CatalogWriter(frames_out, meta=meta, rounded=corr.output_columns) as writer:
+        with CatalogWriter(frames_out, meta=meta, computed=corr.output_columns) as writer:
             for frame in reader:
                 writer.write(corr.correct(frame)[reader.columns + corr.output_columns])
     if (in_suffix, out_suffix) == ("csv", "csv"):  # fields copied as text: same values, not same bytes

@@ -130,7 +130,7 @@ def _stream(input_path, output_path, correction, options, text_columns, out_form
                       **options) as reader:
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
-                           delimiter=delimiter, meta=meta, rounded=correction.output_columns,
+                           delimiter=delimiter, meta=meta, computed=correction.output_columns,
                            verbatim=reader.verbatim) as writer:
             if reader.arrow:  # Arrow in, Arrow out: no DataFrame is built
                 carry = PandasLikeColumns(keep)

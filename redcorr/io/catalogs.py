@@ -574,7 +574,10 @@ class _ParquetReader(CatalogReader):
     def _tables(self):
         # Read-ahead of one batch (Arrow's default is 16 batches and 4 files, a memory cost
         # proportional to the chunk size that buys nothing when the consumer is slower).
-        batches = self._dataset.to_batches(batch_size=self.chunk_rows, batch_readahead=1, fragment_readahead=1)
+        if self.path.is_dir():
+            batches = self._dataset.to_batches(batch_size=self.chunk_rows, batch_readahead=1, fragment_readahead=1)
+        else:  # one file: decoded a batch at a time, not a whole row group before the first batch
+            batches = _pyarrow().parquet.ParquetFile(str(self.path)).iter_batches(batch_size=self.chunk_rows)
         for table in _rebatch(batches, self.chunk_rows):
             self._done += table.num_rows
             yield table
@@ -857,11 +860,13 @@ class CatalogWriter:
     meta : dict, optional
         Stored in the ECSV header, the FITS header (as COMMENT cards) or the
         Parquet schema metadata, as JSON.
-    rounded : iterable of str, optional
-        Floating-point columns written with :data:`TEXT_DECIMALS` decimals in
-        CSV and ECSV (see :func:`round_for_text`): the columns the program
-        computed. Other columns, and all columns of binary formats, are
-        written exactly.
+    computed : iterable of str, optional
+        The columns the program computed. Their floating-point values are
+        written with :data:`TEXT_DECIMALS` decimals in CSV and ECSV (see
+        :func:`round_for_text`) and stored uncompressed in Parquet (computed
+        doubles do not compress: snappy cost a third of the write and saved
+        nothing). Other columns, and FITS output, are written exactly as
+        given.
     verbatim : bool
         CSV output of text columns read verbatim (:func:`open_catalog`):
         text goes out unquoted, as it came in; a row in which some text
@@ -869,7 +874,7 @@ class CatalogWriter:
         quoted.
     """
 
-    def __init__(self, path, *, fmt=None, overwrite=False, inputs=(), delimiter=",", meta=None, rounded=(),
+    def __init__(self, path, *, fmt=None, overwrite=False, inputs=(), delimiter=",", meta=None, computed=(),
                  verbatim=False):
         self.path = Path(path)
         self.format = detect_format(self.path, fmt) if fmt or self.path.suffix else "parquet"
@@ -877,7 +882,7 @@ class CatalogWriter:
         self._inputs = list(inputs)
         self._delimiter = delimiter
         self._meta = dict(meta or {})
-        self._rounded = set(rounded)
+        self._computed = set(computed)
         self._verbatim = bool(verbatim) and self.format == "csv"
         self._schema = None
         self._sink = None
@@ -914,7 +919,10 @@ class CatalogWriter:
             self._schema = schema
             # Dictionary encoding only pays for text; on measured floats it costs ~10x in time.
             text = [f.name for f in schema if pa.types.is_string(f.type) or pa.types.is_large_string(f.type)]
-            self._writer = pa.parquet.ParquetWriter(str(self._tmp), schema, use_dictionary=text or False)
+            codecs = {f.name: "none" if f.name in self._computed and pa.types.is_floating(f.type) else "snappy"
+                      for f in schema}
+            self._writer = pa.parquet.ParquetWriter(str(self._tmp), schema, use_dictionary=text or False,
+                                                    compression=codecs)
             self._pool = concurrent.futures.ThreadPoolExecutor(1, thread_name_prefix="redcorr-parquet")
         elif self.format in ("csv", "ecsv"):
             self._sink = pa.OSFile(str(self._tmp), "wb")
@@ -950,7 +958,7 @@ class CatalogWriter:
     def _csv_text(self, table):
         pa = _pyarrow()
         for i, field in enumerate(table.schema):
-            if field.name in self._rounded and pa.types.is_floating(field.type):
+            if field.name in self._computed and pa.types.is_floating(field.type):
                 column = table.column(i)
                 values = round_for_text(column.to_numpy()).astype(field.type.to_pandas_dtype(), copy=False)
                 mask = column.is_null().to_numpy() if column.null_count else None
