@@ -285,7 +285,8 @@ def _efficiencies_numpy(m, x):
         out[0, sel] = qext
         out[1, sel] = qsca
         out[2, sel] = np.abs(np.sum(f * sign * (a - b), axis=0)) ** 2 / xs**2
-        out[3, sel] = 4 / xs**2 * cross / qsca
+        with np.errstate(invalid="ignore"):  # 0/0 only for m = 1, which mie() sets to 0
+            out[3, sel] = 4 / xs**2 * cross / qsca
     return out
 
 
@@ -361,7 +362,11 @@ def mie(m, x, *, convention="n+ik"):
 
         Q_{back} = \\frac{1}{x^2}\\Big|\\sum_n (2n+1)(-1)^n (a_n - b_n)\\Big|^2,
 
-    and ``Q_abs = Q_ext - Q_sca``. The coefficients are written with
+    and ``Q_abs = Q_ext - Q_sca``. A sphere of the medium's own index
+    (m = 1 exactly) does not scatter: every efficiency is 0, and g, which
+    is then undefined, is given as 0. For contrasts |m − 1| below about
+    1e-8 the difference D_n(mx)/m − D_n(x) is lost to rounding and the
+    (tiny, ∝ |m − 1|²) results are not to be trusted. The coefficients are written with
     ψ_n(x) and D_n(z) = ψ_n'(z)/ψ_n(z) as
 
     .. math::
@@ -393,6 +398,10 @@ def mie(m, x, *, convention="n+ik"):
         qext, qsca, qback, g = kernels.efficiencies(mf, xf)
     else:
         qext, qsca, qback, g = _efficiencies_numpy(mf, xf)
+    matched = mf == 1  # a_n = b_n = 0 exactly; the sums would hold rounding noise only
+    if matched.any():
+        for q in (qext, qsca, qback, g):
+            q[matched] = 0.0
     qabs = np.where(mf.imag == 0, 0.0, qext - qsca)
     return MieResult(*(q.reshape(shape) for q in (qext, qsca, qabs, qback, g)))
 
@@ -422,6 +431,8 @@ def mie_coefficients(m, x, *, convention="n+ik"):
     if m.ndim or x.ndim:
         raise InputError(f"m and x must be single numbers here, not shapes {m.shape} and {x.shape}")
     nstop = int(n_terms(x))
+    if m == 1:  # no contrast with the medium: no scattering
+        return np.zeros(nstop, dtype=complex), np.zeros(nstop, dtype=complex)
     start = (int(_start_index(max(abs(m), 1.0) * x)), int(_start_index(x)))
     a, b = _coefficients_block(m.reshape(1), x.reshape(1), nstop, start)
     return a[:, 0], b[:, 0]
@@ -485,6 +496,7 @@ def amplitudes(m, x, theta, *, convention="n+ik"):
         s1, s2 = kernels.amplitudes(mf, xf, mu)
     else:
         s1, s2 = _amplitudes_numpy(mf, xf, mu)
+    s1[mf == 1] = s2[mf == 1] = 0  # no contrast with the medium (see :func:`mie`)
     return s1.reshape(shape + th.shape), s2.reshape(shape + th.shape)
 
 
@@ -500,7 +512,8 @@ def phase_function(m, x, theta, *, convention="n+ik"):
     -------
     p : ndarray
         Phase function in sr⁻¹, normalized so that ∫ p dΩ = 1; shape
-        ``broadcast(m, x).shape + theta.shape``.
+        ``broadcast(m, x).shape + theta.shape``. NaN for m = 1, which
+        scatters nothing.
 
     Notes
     -----
@@ -519,7 +532,8 @@ def phase_function(m, x, theta, *, convention="n+ik"):
     res = mie(m, x, convention=convention)
     scale = 2 * np.pi * _as_size(x) ** 2 * res.qsca
     extra = s1.ndim - scale.ndim
-    return (np.abs(s1) ** 2 + np.abs(s2) ** 2) / scale.reshape(scale.shape + (1,) * extra)
+    with np.errstate(invalid="ignore"):  # NaN for m = 1: nothing is scattered
+        return (np.abs(s1) ** 2 + np.abs(s2) ** 2) / scale.reshape(scale.shape + (1,) * extra)
 
 
 class _CallableModule(types.ModuleType):
