@@ -32,7 +32,7 @@ def main(n=1_000_000):
         curve = get_curve(name)
         lo, hi = curve.x_range
         wave = 1.0 / rng.uniform(lo, hi, n)
-        t = best(lambda: curve(wave))
+        t = best(lambda curve=curve, wave=wave: curve(wave))
         print(f"{name:<12} {t * 1e3:8.1f} {t / base:7.2f}")
 
 

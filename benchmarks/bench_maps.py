@@ -24,14 +24,14 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
 import astropy_healpix
+import numpy as np
 from astropy import units as u
 from astropy.io import fits
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # this checkout's redcorr
 from redcorr.io import open_map  # noqa: E402
-from redcorr.maps import _CHUNK, _MAX_THREADS, _usable_cpus, transform_lonlat, parse_frame  # noqa: E402
+from redcorr.maps import _CHUNK, _MAX_THREADS, _usable_cpus, parse_frame, transform_lonlat  # noqa: E402
 
 
 def _write_map(path, nside):

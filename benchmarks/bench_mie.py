@@ -61,12 +61,12 @@ def main(repeat=5):
         m_peer = np.full(N_SIZES, np.conj(m))
         ours, peer = [], []
         for _ in range(repeat):
-            t, res = timed(lambda: mie(m, X))
+            t, res = timed(lambda m=m: mie(m, X))
             ours.append(t)
-            t, ref = timed(lambda: miepython.efficiencies_mx(m_peer, X))
+            t, ref = timed(lambda m_peer=m_peer: miepython.efficiencies_mx(m_peer, X))
             peer.append(t)
         mie_module.USE_NUMBA = False
-        t_numpy, res_numpy = timed(lambda: mie(m, X))
+        t_numpy, res_numpy = timed(lambda m=m: mie(m, X))
         mie_module.USE_NUMBA = True
         assert np.allclose(res_numpy.qext, res.qext, rtol=1e-10)
         mask = np.abs(m) * X >= 0.1

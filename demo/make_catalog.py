@@ -56,7 +56,7 @@ def make(seed=20261202):
                           "ra": np.round(ra, 6), "dec": np.round(dec, 6)})
     for band in BANDS:
         a_band = np.array([band_extinction(curve, load_band(band), blackbody(t), e * cloud["r_v"])
-                           for t, e in zip(teff, ebv)])
+                           for t, e in zip(teff, ebv, strict=True)])
         err = 0.004 + 0.002 * np.exp(0.6 * (mags0[band] - 14.0))
         err = np.minimum(err, 0.2)
         col = band.replace("-", "_")

@@ -67,7 +67,10 @@ def healpix_table():
     ebv = (brume_av(ra, dec) / R_V).astype(np.float32)
     ebv[_masked(ra, dec)] = HEALPIX_UNSEEN
     table = fits.BinTableHDU.from_columns(
-        [fits.Column(name="PIXEL", format="K", array=pixels), fits.Column(name="EBV", format="E", unit="mag", array=ebv)]
+        [
+            fits.Column(name="PIXEL", format="K", array=pixels),
+            fits.Column(name="EBV", format="E", unit="mag", array=ebv),
+        ]
     )
     for key, value, comment in [
         ("PIXTYPE", "HEALPIX", "HEALPix pixelisation"),

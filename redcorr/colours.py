@@ -53,7 +53,9 @@ def colour_index(mag1, mag2):
     try:
         np.broadcast_shapes(m1.shape, m2.shape)
     except ValueError:
-        raise InputError(f"colour_index: mag1 of shape {m1.shape} and mag2 of shape {m2.shape} do not broadcast") from None
+        raise InputError(
+            f"colour_index: mag1 of shape {m1.shape} and mag2 of shape {m2.shape} do not broadcast"
+        ) from None
     return m1 - m2
 
 

@@ -714,7 +714,7 @@ class Correction:
 
     def _out_names(self):
         names = []
-        for mag, label, err in zip(self.mag_cols, self.labels, self.err_cols):
+        for mag, label, err in zip(self.mag_cols, self.labels, self.err_cols, strict=True):
             names.append(mag + self.suffix)
             if self._has_errors(err):
                 names.append(mag + self.suffix + "_err")
@@ -754,10 +754,17 @@ class Correction:
             "curve": self.curve.name,
             "citation": getattr(self.curve, "citation", ""),
             "r_v": self.rv_col or self.r_v,
-            "bands": {lab: {"magnitude": m, "error": e} for lab, m, e in zip(self.labels, self.mag_cols, self.err_cols)},
-            "reddening": {"source": self.red_kind, "quantity": self.red_quantity,
-                          "column": self.red_col, "constant": self.red_const,
-                          "error_column": self.red_err_col},
+            "bands": {
+                lab: {"magnitude": m, "error": e}
+                for lab, m, e in zip(self.labels, self.mag_cols, self.err_cols, strict=True)
+            },
+            "reddening": {
+                "source": self.red_kind,
+                "quantity": self.red_quantity,
+                "column": self.red_col,
+                "constant": self.red_const,
+                "error_column": self.red_err_col,
+            },
             "mode": "nonlinear" if self.nonlinear else "linear",
             "spectrum": self.spectrum,
             "temperature_K": self.temperature if self.spectrum == "fixed" else self.t_col,
@@ -774,8 +781,8 @@ class Correction:
             temps = np.geomspace(*_T_TABLE[:2], 25)
             if not self.nonlinear:
                 self._coeff_cache[key] = _LinearCoefficients(
-                    curve, self.bands, [self.temperature] if self.spectrum == "fixed" else temps,
-                    self.extrapolate)
+                    curve, self.bands, [self.temperature] if self.spectrum == "fixed" else temps, self.extrapolate
+                )
             elif self.spectrum == "fixed":
                 self._coeff_cache[key] = _FixedTemperature(curve, self.bands, self.temperature, self.extrapolate)
             else:
@@ -978,7 +985,7 @@ class Correction:
         result = {}
         dered = mags - a_band
         mag_err = np.sqrt(variance)
-        for b, (mag, label, err_col) in enumerate(zip(self.mag_cols, self.labels, self.err_cols)):
+        for b, (mag, label, err_col) in enumerate(zip(self.mag_cols, self.labels, self.err_cols, strict=True)):
             result[mag + self.suffix] = dered[:, b]
             if self._has_errors(err_col):
                 result[mag + self.suffix + "_err"] = mag_err[:, b]

@@ -704,7 +704,7 @@ def plan_exposure(
         raise InputError("bands is empty; give at least one band of the instrument")
     mags = _band_mags(instrument, names, mag, sed, mag_band)
     plans = []
-    for name, m in zip(names, mags):
+    for name, m in zip(names, mags, strict=True):
         ch = instrument.channel(name)
         a_band = float(_band_extinction(curve, ch.band, sed, a_v, extrapolate))
         if snr is not None:
@@ -761,7 +761,7 @@ def time_vs_av(instrument, bands, mag, *, curve, sed, a_v, snr, mag_band=None, e
     names = [instrument.channel(b).name for b in bands]
     mags = _band_mags(instrument, names, mag, sed, mag_band)
     times, a_bands = {}, {}
-    for name, m in zip(names, mags):
+    for name, m in zip(names, mags, strict=True):
         ch = instrument.channel(name)
         a_b = np.broadcast_to(_band_extinction(curve, ch.band, sed, grid, extrapolate), grid.shape)
         a_bands[name] = np.array(a_b)

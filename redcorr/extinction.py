@@ -154,7 +154,9 @@ def _curve_at(curve, band, nodes, extrapolate):
 
 def _check_band(band):
     if not isinstance(band, Band):
-        raise InputError(f"band must be a Band; got {type(band).__name__} (load names with redcorr.io.filters.load_band)")
+        raise InputError(
+            f"band must be a Band; got {type(band).__name__} (load names with redcorr.io.filters.load_band)"
+        )
     band.warn_if_truncated()
 
 
@@ -373,7 +375,9 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
         "law": curve.name,
         "citation": curve.citation,
         "R_V": float(curve.r_v),
-        "bands": {b.name: {"convention": b.convention, "pivot_um": b.pivot_um, "provenance": b.provenance} for b in bands},
+        "bands": {
+            b.name: {"convention": b.convention, "pivot_um": b.pivot_um, "provenance": b.provenance} for b in bands
+        },
     }
     return CoefficientGrid(names, temps, avs, ratio, mag0, meta=meta)
 
@@ -424,10 +428,7 @@ class CoefficientGrid:
         """bool ndarray: whether (a_v, temperature) lies inside the grid (NaN → False)."""
         a = _as_av(a_v)
         t = _as_kelvin(temperature)
-        return (
-            (a >= self.a_v[0]) & (a <= self.a_v[-1])
-            & (t >= self.temperatures[0]) & (t <= self.temperatures[-1])
-        )
+        return (a >= self.a_v[0]) & (a <= self.a_v[-1]) & (t >= self.temperatures[0]) & (t <= self.temperatures[-1])
 
     @staticmethod
     def _locate(axis, values):
@@ -552,11 +553,15 @@ class CoefficientGrid:
             }
         )
         table["A_over_AV"].description = "A_band/A_V (the A_V -> 0 limit in the A_V = 0 rows)"
-        table["mag0"].description = "unreddened synthetic AB magnitude of the blackbody, up to a constant per temperature"
+        table[
+            "mag0"
+        ].description = "unreddened synthetic AB magnitude of the blackbody, up to a constant per temperature"
         meta = dict(self.meta)
         meta["source_spectrum"] = "blackbody B_lambda(T)"
         meta["E(B-V)"] = "A_V / R_V with the curve's R_V (not a band-integrated colour excess)"
-        meta["formula"] = "A_b = -2.5 log10[ int F T w 10^(-0.4 A_V r) dl / int F T w dl ], w = l (photon) or 1 (energy)"
+        meta["formula"] = (
+            "A_b = -2.5 log10[ int F T w 10^(-0.4 A_V r) dl / int F T w dl ], w = l (photon) or 1 (energy)"
+        )
         if polynomial is None and len(self.bands) >= 2:
             polynomial = self.fit_polynomial()
         if polynomial is not None:
@@ -575,9 +580,16 @@ class CoefficientGrid:
         avs = np.unique(u.Quantity(table["A_V"], u.mag).value)
         shape = (len(bands), temps.size, avs.size)
         if len(table) != np.prod(shape):
-            raise InputError(f"the grid table has {len(table)} rows; a full grid of shape {shape} needs {np.prod(shape)}")
-        order = np.lexsort((u.Quantity(table["A_V"], u.mag).value, u.Quantity(table["temperature"], u.K).value,
-                            [bands.index(str(b)) for b in table["band"]]))
+            raise InputError(
+                f"the grid table has {len(table)} rows; a full grid of shape {shape} needs {np.prod(shape)}"
+            )
+        order = np.lexsort(
+            (
+                u.Quantity(table["A_V"], u.mag).value,
+                u.Quantity(table["temperature"], u.K).value,
+                [bands.index(str(b)) for b in table["band"]],
+            )
+        )
         ratio = np.asarray(table["A_over_AV"], dtype=float)[order].reshape(shape)
         mag0 = u.Quantity(table["mag0"], u.mag).value[order].reshape(shape)[:, :, 0]
         meta = {k: v for k, v in table.meta.items() if k in ("law", "citation", "R_V", "bands")}
@@ -638,6 +650,6 @@ class GridPolynomial:
             "colour_range": list(self.colour_range),
             "A_V_range": list(self.a_v_range),
             "coefficients": {b: self.coeffs[k].tolist() for k, b in enumerate(self.bands)},
-            "residual_rms_mag": {b: float(v) for b, v in zip(self.bands, self.rms_mag)},
-            "residual_max_mag": {b: float(v) for b, v in zip(self.bands, self.max_mag)},
+            "residual_rms_mag": {b: float(v) for b, v in zip(self.bands, self.rms_mag, strict=True)},
+            "residual_max_mag": {b: float(v) for b, v in zip(self.bands, self.max_mag, strict=True)},
         }

@@ -378,7 +378,9 @@ class HealpixMap(DustMap):
     kind = "healpix"
     _threaded = True  # astropy-healpix and numpy release the GIL; astropy.wcs is not shared safely
 
-    def __init__(self, values, nside, order="ring", frame="galactic", pixels=None, blank_value=HEALPIX_UNSEEN, **kwargs):
+    def __init__(
+        self, values, nside, order="ring", frame="galactic", pixels=None, blank_value=HEALPIX_UNSEEN, **kwargs
+    ):
         super().__init__(**kwargs)
         import astropy_healpix  # noqa: PLC0415 - keep import time of redcorr low
 
@@ -419,7 +421,9 @@ class HealpixMap(DustMap):
                 pixels, values = pixels[sort], values[sort]
                 dup = pixels[1:] == pixels[:-1]
                 if np.any(dup):
-                    raise InputError(f"pixel index {pixels[1:][dup][0]} appears more than once in a partial HEALPix map")
+                    raise InputError(
+                        f"pixel index {pixels[1:][dup][0]} appears more than once in a partial HEALPix map"
+                    )
             self.pixels = pixels
         self.values = values
 

@@ -145,7 +145,8 @@ def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate
         line = twin.fill_between(band.wave_um, band.response / band.response.max(), alpha=0.25, label=band.name)
         colour = line.get_facecolor()[0]
         ratio = band_extinction(curve, band, sed, a_v, extrapolate) / a_v
-        right.plot(np.r_[0.0, a_v], np.r_[band_ratio(curve, band, sed, extrapolate), ratio], color=colour[:3], label=band.name)
+        ratios = np.r_[band_ratio(curve, band, sed, extrapolate), ratio]
+        right.plot(np.r_[0.0, a_v], ratios, color=colour[:3], label=band.name)
     left.set_zorder(twin.get_zorder() + 1)  # the curve above the filled bands
     left.patch.set_visible(False)
     twin.set_ylim(0, 1.05)

@@ -191,7 +191,7 @@ def d03_tables(sd):
 
 def sizes(sd):
     cols = {}
-    for r_v, tag, _ in MIXTURES:
+    for _r_v, tag, _ in MIXTURES:
         for comp in ("graphite", "silicate"):
             rows = sd.rows(f"input/d03/wd01/sizes/wd01_{comp}_{tag}")
             if "a" not in cols:

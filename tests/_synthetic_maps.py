@@ -5,16 +5,16 @@ polynomial in the galactic unit vector), so interpolation errors scale as
 the pixel size (nearest) or its square (bilinear).
 """
 
+import astropy_healpix
 import numpy as np
 from astropy.io import fits
 from astropy.wcs import WCS
-import astropy_healpix
 
 
 def smooth(l_deg, b_deg):
     """f = 1 + 0.3 x + 0.2 y z + 0.5 z², with (x, y, z) the galactic unit vector."""
-    l, b = np.radians(l_deg), np.radians(b_deg)
-    x, y, z = np.cos(b) * np.cos(l), np.cos(b) * np.sin(l), np.sin(b)
+    lon, lat = np.radians(l_deg), np.radians(b_deg)
+    x, y, z = np.cos(lat) * np.cos(lon), np.cos(lat) * np.sin(lon), np.sin(lat)
     return 1.0 + 0.3 * x + 0.2 * y * z + 0.5 * z * z
 
 

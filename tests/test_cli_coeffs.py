@@ -46,7 +46,8 @@ def test_coeffs_zero_av_gives_the_limit(capsys):
 
 
 def test_coeffs_table_output_has_colour_excess_ratios(capsys):
-    assert main(["coeffs", "--law", "f99", "--band", "kw-b", "--band", "kw-v", "--sed", "blackbody:6000", "--av", "1"]) == 0
+    argv = ["coeffs", "--law", "f99", "--band", "kw-b", "--band", "kw-v", "--sed", "blackbody:6000", "--av", "1"]
+    assert main(argv) == 0
     out = capsys.readouterr().out
     assert "E(B-V) = A_V/R_V" in out and "kw-b - kw-v" in out
 
@@ -81,7 +82,8 @@ def test_coeffs_grid_and_plot(tmp_path, capsys):
         (["--law", "f99", "--band", "kw-v", "--sed", "flat", "--av", "-1"], "negative"),
         (["--law", "f99", "--rv", "9", "--band", "kw-v", "--sed", "flat", "--av", "1"], "r_v"),
         (["--law", "f99", "--band", "file:/no/such.ecsv", "--sed", "flat", "--av", "1"], "does not exist"),
-        (["--law", "f99", "--band", "kw-v", "--sed", "flat", "--av", "1", "--grid", "/no/dir/g.ecsv"], "does not exist"),
+        (["--law", "f99", "--band", "kw-v", "--sed", "flat", "--av", "1", "--grid", "/no/dir/g.ecsv"],
+         "does not exist"),
     ],
 )
 def test_coeffs_bad_input_exit_2_one_line(capsys, argv, match):

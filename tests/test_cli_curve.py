@@ -23,7 +23,11 @@ def test_acceptance_json(capsys):
 
 @pytest.mark.parametrize(
     ("args", "wave_um"),
-    [(["--wave", "5500", "--unit", "AA"], 0.55), (["--wave", "550", "--unit", "nm"], 0.55), (["--wave", "2", "--unit", "invum"], 0.5)],
+    [
+        (["--wave", "5500", "--unit", "AA"], 0.55),
+        (["--wave", "550", "--unit", "nm"], 0.55),
+        (["--wave", "2", "--unit", "invum"], 0.5),
+    ],
 )
 def test_units(capsys, args, wave_um):
     assert main(["curve", "o94", *args, "--json"]) == 0
@@ -84,7 +88,10 @@ def test_python_dash_m():
     root = Path(__file__).resolve().parents[1]
     proc = subprocess.run(
         [sys.executable, "-m", "redcorr", "curve", "ccm89", "--wave", "0.55", "--json"],
-        capture_output=True, text=True, cwd=root, check=False,
+        capture_output=True,
+        text=True,
+        cwd=root,
+        check=False,
     )
     assert proc.returncode == 0, proc.stderr
     assert json.loads(proc.stdout)[0]["A_over_AV"] == pytest.approx(float(CCM89(3.1)(0.55)))

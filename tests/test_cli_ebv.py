@@ -4,10 +4,10 @@ import json
 
 import numpy as np
 import pytest
+from _synthetic_maps import healpix_values, smooth, write_healpix
 from astropy import units as u
 from astropy.coordinates import SkyCoord
 
-from _synthetic_maps import healpix_values, smooth, write_healpix
 from redcorr.cli import main
 
 KEYS = ["ra_deg", "dec_deg", "l_deg", "b_deg", "ebv", "flag"]

@@ -61,7 +61,15 @@ def test_time_mode_reports_snr_and_depth(capsys):
 
 def test_ebv_is_av_over_rv(capsys):
     a, _ = _json(capsys, [*BASE, "--band", "kw-v", "--snr", "10", "--json"])
-    argv = [x for x in BASE if x not in ("--av", "2.5")] + ["--ebv", str(2.5 / 4.3), "--band", "kw-v", "--snr", "10", "--json"]
+    argv = [x for x in BASE if x not in ("--av", "2.5")] + [
+        "--ebv",
+        str(2.5 / 4.3),
+        "--band",
+        "kw-v",
+        "--snr",
+        "10",
+        "--json",
+    ]
     b, _ = _json(capsys, argv)
     assert_allclose(a[0]["A_band"], b[0]["A_band"], rtol=1e-9)
 
@@ -71,8 +79,9 @@ def test_mag_band_carries_the_magnitude_with_the_sed_colour(capsys):
     flat, _ = _json(capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--mag-band", "kw-v", "--json"])
     same, _ = _json(capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--json"])
     assert_allclose(flat[0]["t_clear_s"], same[0]["t_clear_s"], rtol=1e-9)
-    red, _ = _json(capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--mag-band", "kw-v",
-                            "--sed", "blackbody:3500", "--json"])
+    red, _ = _json(
+        capsys, [*BASE, "--band", "kw-b", "--snr", "10", "--mag-band", "kw-v", "--sed", "blackbody:3500", "--json"]
+    )
     assert red[0]["t_clear_s"] > flat[0]["t_clear_s"]  # a cool star is fainter in B than in V
 
 
@@ -117,7 +126,7 @@ def test_missing_sky_value_in_a_user_instrument(tmp_path, capsys):
     text = (
         "[telescope]\naperture_m = 1.0\n[camera]\npixel_scale_arcsec = 0.5\nread_noise_e = 5\n"
         "dark_e_per_s = 0.0\ngain_e_per_adu = 1.0\n[site]\nseeing_fwhm_arcsec = 1.0\n"
-        "[photometry]\naperture_radius_arcsec = 1.5\n[bands.v]\nfilter = \"tophat:0.55:0.09\"\n"
+        '[photometry]\naperture_radius_arcsec = 1.5\n[bands.v]\nfilter = "tophat:0.55:0.09"\n'
         "extinction_mag_per_airmass = 0.1\n"
     )
     path = tmp_path / "nosky.toml"
@@ -150,7 +159,7 @@ def test_flux_calibrated_spectrum_gives_the_ab_magnitude(tmp_path, capsys):
     common = ["plan", "--instrument", "demo", "--av", "1", "--snr", "20", "--json", "--sed", f"file:{path}"]
     calibrated, _ = _json(capsys, [*common, "--calibrated"])
     given, _ = _json(capsys, [*common, "--mag", "18"])
-    for a, b in zip(calibrated, given):
+    for a, b in zip(calibrated, given, strict=True):
         assert a["band"] == b["band"]
         assert_allclose(a["t_dust_s"], b["t_dust_s"], rtol=1e-4)  # linear interpolation of the table
     assert main([*common[:-2], "--sed", "flat", "--calibrated"]) == 2
@@ -162,8 +171,9 @@ def test_time_vs_av_table_starts_at_the_clear_time_and_grows(capsys):
 
     inst = load_instrument("demo")
     curve, sed = load_curve("f99", r_v=4.3), load_sed("blackbody:5800")
-    grid, times, a_band = time_vs_av(inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed,
-                                     a_v=[0.0, 1.0, 2.5, 6.0], snr=50.0)
+    grid, times, a_band = time_vs_av(
+        inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed, a_v=[0.0, 1.0, 2.5, 6.0], snr=50.0
+    )
     plans = {p.band: p for p in plan_exposure(inst, ["kw-v", "kw-i"], 19.0, curve=curve, sed=sed, a_v=2.5, snr=50.0)}
     for band in ("kw-v", "kw-i"):
         assert_allclose(times[band][0], plans[band].t_clear_s, rtol=1e-12)

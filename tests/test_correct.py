@@ -217,7 +217,7 @@ def test_any_chunking_gives_identical_output(sizes):
     corr, whole = _chunk_correction()
     bounds = np.cumsum([0] + sizes)
     bounds = [b for b in bounds if b < len(_STARS)] + [len(_STARS)]
-    parts = [corr.correct(_STARS.iloc[a:b]) for a, b in zip(bounds[:-1], bounds[1:])]
+    parts = [corr.correct(_STARS.iloc[a:b]) for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
     pd.testing.assert_frame_equal(pd.concat(parts), whole, check_exact=True)
 
 

@@ -139,8 +139,15 @@ sizes = { type = "table", file = "sizes.csv" }
 material = "graphite-d03"
 abundance = 0.5
 n_sizes = 40
-sizes = { type = "wd01-carbonaceous", alpha = -1.54, beta = -0.165, a_t = 0.0107, a_c = 0.428, c = 9.99e-12, b_c = 6e-5 }
 pah = {}
+[component.sizes]
+type = "wd01-carbonaceous"
+alpha = -1.54
+beta = -0.165
+a_t = 0.0107
+a_c = 0.428
+c = 9.99e-12
+b_c = 6e-5
 """)
     model = read_grain_model(path)
     assert model.name == "grain:all.toml" and len(model.components) == 6
@@ -153,18 +160,36 @@ pah = {}
     ("text", "error", "match"),
     [
         ("name = 'x'\n", InputError, "no \\[\\[component\\]\\]"),
-        ("colour = 1\n[[component]]\nmaterial='silicate-d03'\nsizes={type='mrn', component='silicate'}\n",
-         InputError, "unknown key\\(s\\) \\['colour'\\]"),
-        ("[[component]]\nmaterial='basalt'\nsizes={type='mrn', component='silicate'}\n",
-         UnknownNameError, "component 1: material='basalt' is not known"),
-        ("[[component]]\nmaterial='silicate-d03'\nsizes={type='power-law', q=3.5}\n",
-         InputError, "need key\\(s\\) \\['a_max', 'a_min', 'amplitude'\\]"),
-        ("[[component]]\nmaterial='file:ice.csv'\nsizes={type='mrn', component='silicate'}\n",
-         InputError, "needs density"),
-        ("[[component]]\nmaterial='silicate-d03'\npah={}\nsizes={type='mrn', component='silicate'}\n",
-         InputError, "only carbonaceous"),
-        ("[[component]]\nmaterial='silicate-d03'\nsizes={type='table', file='missing.csv'}\n",
-         InputError, "size-distribution file .*missing.csv' does not exist"),
+        (
+            "colour = 1\n[[component]]\nmaterial='silicate-d03'\nsizes={type='mrn', component='silicate'}\n",
+            InputError,
+            "unknown key\\(s\\) \\['colour'\\]",
+        ),
+        (
+            "[[component]]\nmaterial='basalt'\nsizes={type='mrn', component='silicate'}\n",
+            UnknownNameError,
+            "component 1: material='basalt' is not known",
+        ),
+        (
+            "[[component]]\nmaterial='silicate-d03'\nsizes={type='power-law', q=3.5}\n",
+            InputError,
+            "need key\\(s\\) \\['a_max', 'a_min', 'amplitude'\\]",
+        ),
+        (
+            "[[component]]\nmaterial='file:ice.csv'\nsizes={type='mrn', component='silicate'}\n",
+            InputError,
+            "needs density",
+        ),
+        (
+            "[[component]]\nmaterial='silicate-d03'\npah={}\nsizes={type='mrn', component='silicate'}\n",
+            InputError,
+            "only carbonaceous",
+        ),
+        (
+            "[[component]]\nmaterial='silicate-d03'\nsizes={type='table', file='missing.csv'}\n",
+            InputError,
+            "size-distribution file .*missing.csv' does not exist",
+        ),
         ("[[component]\n", InputError, "is not valid TOML"),
     ],
 )

@@ -122,7 +122,7 @@ def _odd_csv(tmp_path):
     notes = ["plain"] * 12
     notes[6] = '"cluster, core"'  # needs its quotes
     notes[7] = '"say ""hi"""'
-    text = ",".join(names) + "\n" + "\n".join(",".join([n] + r) for n, r in zip(notes, rows)) + "\n"
+    text = ",".join(names) + "\n" + "\n".join(",".join([n] + r) for n, r in zip(notes, rows, strict=True)) + "\n"
     (tmp_path / "odd.csv").write_text(text)
     return tmp_path / "odd.csv", text
 
@@ -140,7 +140,7 @@ def test_csv_to_csv_copies_the_input_text_unchanged(tmp_path):
     correct_file(src, tmp_path / "typed.parquet", _make, chunk_rows=5)
     written = out.read_text().splitlines()
     n_in = len(text.splitlines()[0].split(","))
-    for line_in, line_out in zip(text.splitlines()[1:], written[1:]):
+    for line_in, line_out in zip(text.splitlines()[1:], written[1:], strict=True):
         if '"' not in line_in:  # rows without quoted text: the input line starts the output line
             assert line_out.startswith(line_in + ","), (line_in, line_out)
             assert len(line_out.split(",")) > n_in

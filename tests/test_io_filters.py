@@ -19,7 +19,7 @@ def test_list_has_project_and_speclite_bands():
         assert name in names
 
 
-@pytest.mark.parametrize("name, centre", list(zip(KW, [0.44, 0.545, 0.64, 0.80, 0.90])))
+@pytest.mark.parametrize("name, centre", list(zip(KW, [0.44, 0.545, 0.64, 0.80, 0.90], strict=True)))
 def test_kw_cam_filters_are_valid_and_documented(name, centre):
     # Centres from demo/scenario.toml (invented instrument).
     band = load_band(name)

@@ -2,14 +2,9 @@
 
 import mmap
 
+import astropy_healpix
 import numpy as np
 import pytest
-import astropy_healpix
-from astropy import units as u
-from astropy.io import fits
-from astropy.table import Table
-from astropy.wcs import WCS
-
 from _synthetic_maps import (
     car_wcs,
     healpix_values,
@@ -19,6 +14,11 @@ from _synthetic_maps import (
     write_image,
     zea_pole_wcs,
 )
+from astropy import units as u
+from astropy.io import fits
+from astropy.table import Table
+from astropy.wcs import WCS
+
 from redcorr.exceptions import InputError
 from redcorr.io import open_map
 from redcorr.io.maps import read_healpix_table, read_image_map
@@ -152,10 +152,17 @@ def test_description_file(tmp_path):
     nside = 16
     write_healpix(tmp_path / "m.fits", healpix_values(nside, "ring"), nside, column="AV")
     desc = tmp_path / "m.toml"
-    desc.write_text('name = "test map"\nunit = "A_V"\nr_v = 3.1\nscale = 2.0\ninterpolation = "nearest"\nfiles = ["m.fits"]\n')
+    desc.write_text(
+        'name = "test map"\nunit = "A_V"\nr_v = 3.1\nscale = 2.0\ninterpolation = "nearest"\nfiles = ["m.fits"]\n'
+    )
     hp_map = open_map(desc)
     assert (hp_map.name, hp_map.unit, hp_map.r_v, hp_map.scale, hp_map.interpolation) == (
-        "test map", "A_V", 3.1, 2.0, "nearest")
+        "test map",
+        "A_V",
+        3.1,
+        2.0,
+        "nearest",
+    )
     index = astropy_healpix.lonlat_to_healpix(40 * u.deg, 20 * u.deg, nside)
     expected = 2.0 * healpix_values(nside, "ring")[index]
     assert hp_map.lookup(40.0, 20.0, "galactic")[0] == pytest.approx(expected, rel=1e-6)

@@ -1,13 +1,13 @@
 """Core map lookup (redcorr.maps): arrays in, values and flags out; no files."""
 
+import astropy_healpix
 import numpy as np
 import pytest
-import astropy_healpix
+from _synthetic_maps import car_wcs, healpix_values, image_values, smooth, zea_pole_wcs
 from astropy import units as u
 from astropy.coordinates import FK5, SkyCoord
 from astropy.wcs import WCS
 
-from _synthetic_maps import car_wcs, healpix_values, image_values, smooth, zea_pole_wcs
 from redcorr.exceptions import InputError
 from redcorr.maps import (
     FLAG_BLANK,
@@ -157,10 +157,10 @@ def test_north_galactic_pole_j2000():
     # ascending node of the galactic plane on the equator, l = 32.93192° (ESA 1997, The Hipparcos
     # and Tycho Catalogues, Vol. 1, Sect. 1.5.3; from memory). Galactic coordinates as defined by
     # the IAU in 1958 (Blaauw et al. 1960, MNRAS 121, 123).
-    l, b = transform_lonlat(np.array([192.85948]), np.array([27.12825]), FK5(), _galactic())
+    _, b = transform_lonlat(np.array([192.85948]), np.array([27.12825]), FK5(), _galactic())
     assert b[0] == pytest.approx(90.0, abs=1e-4)
-    l, b = transform_lonlat(np.array([192.85948 + 90.0]), np.array([0.0]), FK5(), _galactic())
-    assert (l[0], b[0]) == pytest.approx((32.93192, 0.0), abs=1e-4)
+    lon, b = transform_lonlat(np.array([192.85948 + 90.0]), np.array([0.0]), FK5(), _galactic())
+    assert (lon[0], b[0]) == pytest.approx((32.93192, 0.0), abs=1e-4)
 
 
 def test_galactic_centre_direction():
@@ -177,7 +177,7 @@ def test_lookup_in_equatorial_frames_reaches_galactic_map():
     # A galactic map holding sin(b) must give 1 at the north galactic pole asked in J2000 RA/Dec
     # (Hipparcos Vol. 1 Sect. 1.5.3, from memory) and 0 on the galactic plane.
     nside = 64
-    hp_map = HealpixMap(healpix_values(nside, "ring", lambda l, b: np.sin(np.radians(b))), nside, "ring")
+    hp_map = HealpixMap(healpix_values(nside, "ring", lambda lon, b: np.sin(np.radians(b))), nside, "ring")
     ngp, _ = hp_map.lookup(192.85948, 27.12825, frame="fk5")
     assert ngp == pytest.approx(1.0, abs=1e-3)
     node = SkyCoord(282.85948 * u.deg, 0 * u.deg, frame="fk5")
@@ -308,7 +308,7 @@ def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
     monkeypatch.setattr(maps, "_MAX_THREADS", 4)
     monkeypatch.setattr(maps, "_usable_cpus", lambda: 4)
     many = [hp_map.lookup(lon, lat, "icrs", method) for method in INTERPOLATIONS]
-    for (v1, f1), (v2, f2) in zip(one, many):
+    for (v1, f1), (v2, f2) in zip(one, many, strict=True):
         np.testing.assert_array_equal(v1, v2)
         np.testing.assert_array_equal(f1, f2)
         assert {0, FLAG_BLANK} <= set(np.unique(f1))

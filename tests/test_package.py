@@ -20,4 +20,4 @@ def test_lazy_names_are_the_library_objects():
 
 def test_unknown_attribute():
     with pytest.raises(AttributeError, match="no_such_thing"):
-        redcorr.no_such_thing
+        _ = redcorr.no_such_thing

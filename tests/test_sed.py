@@ -59,7 +59,11 @@ def test_tabulated_sed_refuses_outside_its_range():
 
 @pytest.mark.parametrize(
     "spec, cls_name, name",
-    [("blackbody:7000", "BlackBody", "blackbody:7000"), ("powerlaw:-1", "PowerLaw", "powerlaw:-1"), ("flat", "PowerLaw", "flat")],
+    [
+        ("blackbody:7000", "BlackBody", "blackbody:7000"),
+        ("powerlaw:-1", "PowerLaw", "powerlaw:-1"),
+        ("flat", "PowerLaw", "flat"),
+    ],
 )
 def test_load_sed_specs(spec, cls_name, name):
     sed = load_sed(spec)

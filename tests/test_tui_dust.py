@@ -106,7 +106,7 @@ def test_e_bv_fixed_r_v_laws_grain_models_and_warnings(tmp_path, monkeypatch):
         # a user's table: here CCM89 itself, tabulated by the core, read back through file:PATH
         table = tmp_path / "mine.csv"
         wave = np.linspace(0.3, 3.0, 28)
-        rows = "\n".join(f"{float(w)!r},{float(r)!r}" for w, r in zip(wave, load_curve("ccm89")(wave)))
+        rows = "\n".join(f"{float(w)!r},{float(r)!r}" for w, r in zip(wave, load_curve("ccm89")(wave), strict=True))
         table.write_text("wavelength_um,A_over_AV\n" + rows + "\n")
         await set_value(pilot, "#r-v", "3.1")
         await pick(pilot, f"file:{table}")

@@ -67,7 +67,7 @@ def print_table(rows, columns, formats=None, file=None):
     widths = [max(len(r[i]) for r in cells) for i in range(len(columns))]
     out = file or sys.stdout
     for i, line in enumerate(cells):
-        text = (c.rjust(w) if num else c.ljust(w) for c, w, num in zip(line, widths, numeric))
+        text = (c.rjust(w) if num else c.ljust(w) for c, w, num in zip(line, widths, numeric, strict=True))
         print("  ".join(text).rstrip(), file=out)
         if i == 0:
             print("  ".join("-" * w for w in widths), file=out)

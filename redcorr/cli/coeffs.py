@@ -41,7 +41,9 @@ def add_parser(sub):
     amount = p.add_mutually_exclusive_group(required=True)
     amount.add_argument("--av", type=finite_float, metavar="A", help="A_V in mag")
     amount.add_argument("--ebv", type=finite_float, metavar="E", help="E(B-V) in mag; A_V = R_V × E(B-V)")
-    p.add_argument("--extrapolate", action="store_true", help="let the curve extrapolate beyond its range, with a warning")
+    p.add_argument(
+        "--extrapolate", action="store_true", help="let the curve extrapolate beyond its range, with a warning"
+    )
     p.add_argument("--json", action="store_true", help="print a JSON list, one object per band")
     p.add_argument(
         "--grid",
@@ -77,7 +79,9 @@ def _write_grid(curve, bands, path, extrapolate, out):
     grid = coefficient_grid(curve, bands, extrapolate=extrapolate)
     poly = grid.fit_polynomial() if len(bands) >= 2 else None
     write_coefficient_grid(grid, path, poly)
-    print(f"# grid: {len(bands)} band(s) x {grid.temperatures.size} T x {grid.a_v.size} A_V written to {path}", file=out)
+    print(
+        f"# grid: {len(bands)} band(s) x {grid.temperatures.size} T x {grid.a_v.size} A_V written to {path}", file=out
+    )
     if poly is None:
         print("# polynomial fit skipped: the intrinsic colour needs two bands", file=out)
         return
@@ -87,7 +91,7 @@ def _write_grid(curve, bands, path, extrapolate, out):
         f"{poly.coeffs.shape[2] - 1}; residuals in A_b over the grid:",
         file=out,
     )
-    for name, rms, worst in zip(poly.bands, poly.rms_mag, poly.max_mag):
+    for name, rms, worst in zip(poly.bands, poly.rms_mag, poly.max_mag, strict=True):
         print(f"#   {name}: rms {rms:.2e} mag, max {worst:.2e} mag", file=out)
 
 
@@ -114,7 +118,7 @@ def run(args):
                     "colour": f"{b1.name} - {b2.name}",
                     "E_over_EBV": float(colour_excess_ratio(curve, b1, b2, sed, a_v, args.extrapolate)),
                 }
-                for b1, b2 in zip(bands[:-1], bands[1:])
+                for b1, b2 in zip(bands[:-1], bands[1:], strict=True)
             ]
             print_table(pairs, ["colour", "E_over_EBV"])
     if args.grid:

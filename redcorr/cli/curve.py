@@ -71,7 +71,7 @@ def run(args):
     ratio = np.atleast_1d(curve(wave, extrapolate=args.extrapolate))
     rows = [
         {"wavelength_um": float(w), "A_over_AV": float(r), "A_over_EBV": float(r * curve.r_v)}
-        for w, r in zip(np.atleast_1d(wave_um), ratio)
+        for w, r in zip(np.atleast_1d(wave_um), ratio, strict=True)
     ]
     if args.plot:
         from redcorr.plotting import plot_curve  # noqa: PLC0415 - matplotlib only when asked

@@ -21,13 +21,15 @@ def add_parser(sub):
             "Look up E(B-V) in a local dust map: a HEALPix FITS table, one or more FITS images "
             "with a celestial WCS, or a .toml map description. Positions are RA/Dec (ICRS unless "
             "--frame says otherwise) or galactic l/b, in degrees; give several as repeated values "
-            "or comma lists (write a list starting with a minus sign as --dec=-27.4,-27.5). Output ra_deg/dec_deg are ICRS, l_deg/b_deg galactic. Flag bits: "
+            "or comma lists (write a list starting with a minus sign as --dec=-27.4,-27.5). "
+            "Output ra_deg/dec_deg are ICRS, l_deg/b_deg galactic. Flag bits: "
             + ", ".join(f"{bit} {name}" for bit, name in FLAG_NAMES.items())
             + " (0 = ok)."
         ),
     )
-    p.add_argument("--map", nargs="+", required=True, metavar="FILE_OR_DESCRIPTION",
-                   help="map file(s) or a .toml map description")
+    p.add_argument(
+        "--map", nargs="+", required=True, metavar="FILE_OR_DESCRIPTION", help="map file(s) or a .toml map description"
+    )
     p.add_argument("--ra", nargs="+", action="extend", metavar="RA", help="right ascension(s), degrees")
     p.add_argument("--dec", nargs="+", action="extend", metavar="DEC", help="declination(s), degrees")
     p.add_argument("--l", nargs="+", action="extend", metavar="L", help="galactic longitude(s), degrees")
@@ -89,16 +91,20 @@ def run(args):
     gl, gb = transform_lonlat(lon, lat, frame, parse_frame("galactic"))
     rows = [
         {"ra_deg": float(r), "dec_deg": float(d), "l_deg": float(x), "b_deg": float(y), "ebv": float(e), "flag": int(f)}
-        for r, d, x, y, e, f in zip(ra, dec, gl, gb, np.atleast_1d(ebv), np.atleast_1d(flags))
+        for r, d, x, y, e, f in zip(ra, dec, gl, gb, np.atleast_1d(ebv), np.atleast_1d(flags), strict=True)
     ]
     if args.json:
         print_json(rows)
         return 0
     info = dust_map.describe()
     unit_note = "" if dust_map.unit == "E(B-V)" else f", A_V / R_V with R_V = {args.rv or dust_map.r_v:g}"
-    print(f"# map {info['name']} ({info['kind']}, {dust_map.unit}{unit_note}, "
-          f"{args.interpolation or dust_map.interpolation}, scale {dust_map.scale:g})")
-    print_table(rows, _COLUMNS, formats={"ebv": ".4f", "ra_deg": ".5f", "dec_deg": ".5f", "l_deg": ".5f", "b_deg": ".5f"})
+    print(
+        f"# map {info['name']} ({info['kind']}, {dust_map.unit}{unit_note}, "
+        f"{args.interpolation or dust_map.interpolation}, scale {dust_map.scale:g})"
+    )
+    print_table(
+        rows, _COLUMNS, formats={"ebv": ".4f", "ra_deg": ".5f", "dec_deg": ".5f", "l_deg": ".5f", "b_deg": ".5f"}
+    )
     flagged = sorted({int(f) for f in np.atleast_1d(flags) if f})
     if flagged:
         print("# flags: " + "; ".join(f"{f} = {describe_flags(f)}" for f in flagged))

@@ -53,7 +53,9 @@ def grain_rows(model, wave_um, *, cache=True):
             "C_ext_per_H": float(c),
             "kappa_ext": float(k),
         }
-        for w, c, alb, g, k in zip(wave_um, optics.c_ext, optics.albedo, optics.g, optics.kappa_ext)
+        for w, c, alb, g, k in zip(
+            wave_um, optics.c_ext[:-2], optics.albedo[:-2], optics.g[:-2], optics.kappa_ext[:-2], strict=True
+        )
     ]
     return r_v_from_cross_sections(c_b, c_v, model.name), rows
 

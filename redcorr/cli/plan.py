@@ -59,9 +59,10 @@ def add_parser(sub):
                    help="S/N that defines limiting_mag (default 5)")
     p.add_argument("--av-grid", nargs="+", type=finite_float, metavar="A",
                    help="also tabulate the time needed (at --snr, else --limit-snr) at these A_V values")
-    p.add_argument("--extrapolate", action="store_true", help="let the law extrapolate outside its range, with a warning")
-    p.add_argument("--json", action="store_true",
-                   help="print one JSON object per band: " + ", ".join(JSON_KEYS))
+    p.add_argument(
+        "--extrapolate", action="store_true", help="let the law extrapolate outside its range, with a warning"
+    )
+    p.add_argument("--json", action="store_true", help="print one JSON object per band: " + ", ".join(JSON_KEYS))
     p.add_argument("--plot", metavar="FILE.png", help="draw S/N against time, with and without the dust")
     p.add_argument("--av-plot", metavar="FILE.png", help="draw the time needed against A_V, per band")
     p.set_defaults(func=run)
@@ -110,8 +111,9 @@ def run(args):
         mag = args.mag
     mag_band = _mag_band(args, instrument)
     common = dict(curve=curve, sed=sed, mag_band=mag_band, extrapolate=args.extrapolate)
-    plans = plan_exposure(instrument, bands, mag, a_v=a_v, snr=args.snr, time=args.time,
-                          limit_snr=args.limit_snr, **common)
+    plans = plan_exposure(
+        instrument, bands, mag, a_v=a_v, snr=args.snr, time=args.time, limit_snr=args.limit_snr, **common
+    )
 
     where = f" in {args.mag_band}" if args.mag_band else ""
     label = "from the spectrum" if args.calibrated else f"{args.mag:g}"
@@ -126,14 +128,23 @@ def run(args):
 
         t_hi = max(p.t_dust_s for p in plans if np.isfinite(p.t_dust_s)) * 4.0
         t = np.geomspace(max(t_hi, 1.0) * 1e-4, max(t_hi, 1.0), 200)
-        plot_snr_vs_time(t, snr_vs_time(instrument, plans, t), args.plot, target=args.snr,
-                         title=f"{instrument.name}: AB {label}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})")
+        plot_snr_vs_time(
+            t,
+            snr_vs_time(instrument, plans, t),
+            args.plot,
+            target=args.snr,
+            title=f"{instrument.name}: AB {label}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})",
+        )
     if args.av_plot:
         from redcorr.plotting import plot_time_vs_av  # noqa: PLC0415
 
-        plot_time_vs_av(table[0], table[1], args.av_plot, mark=a_v,
-                        title=f"{instrument.name}: AB {label}{where} to S/N {grid_snr:g} "
-                              f"({curve.name}, R_V {curve.r_v:g})")
+        plot_time_vs_av(
+            table[0],
+            table[1],
+            args.av_plot,
+            mark=a_v,
+            title=f"{instrument.name}: AB {label}{where} to S/N {grid_snr:g} ({curve.name}, R_V {curve.r_v:g})",
+        )
 
     if args.json:
         print_json([p.as_dict(JSON_KEYS) for p in plans])
@@ -148,8 +159,19 @@ def run(args):
         p.as_dict(("band", "mag", "A_band", "t_clear_s", "t_dust_s", "time_factor", "snr", "limiting_mag", "noise"))
         for p in plans
     ]
-    print_table(rows, list(rows[0]), formats={"mag": ".3f", "A_band": ".3f", "t_clear_s": ".4g", "t_dust_s": ".4g",
-                                             "time_factor": ".3g", "snr": ".1f", "limiting_mag": ".2f"})
+    print_table(
+        rows,
+        list(rows[0]),
+        formats={
+            "mag": ".3f",
+            "A_band": ".3f",
+            "t_clear_s": ".4g",
+            "t_dust_s": ".4g",
+            "time_factor": ".3g",
+            "snr": ".1f",
+            "limiting_mag": ".2f",
+        },
+    )
     order = "time needed" if args.snr is not None else "S/N reached"
     print(f"Ranked by {order}: " + ", ".join(p.band for p in plans))
     if table is not None and args.av_grid:

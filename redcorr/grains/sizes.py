@@ -320,7 +320,7 @@ class WD01Carbonaceous(WD01Silicate):
         """B_1, B_2 of WD01 eq. (3), dimensionless (grains per H per unit ln a)."""
         s = self.SIGMA
         out = []
-        for a0_um, frac in zip(self.A0_UM, self.FRACTIONS):
+        for a0_um, frac in zip(self.A0_UM, self.FRACTIONS, strict=True):
             a0_cm = a0_um * 1e-4
             norm = 1.0 + erf(3 * s / math.sqrt(2) + math.log(a0_um / A_MIN_WD01_UM) / (s * math.sqrt(2)))
             out.append(
@@ -332,7 +332,7 @@ class WD01Carbonaceous(WD01Silicate):
     def _dnda(self, a):
         vsg = sum(
             b / a * np.exp(-0.5 * (np.log(a / a0) / self.SIGMA) ** 2)
-            for b, a0 in zip(self.vsg_amplitudes(), self.A0_UM)
+            for b, a0 in zip(self.vsg_amplitudes(), self.A0_UM, strict=True)
         )
         return super()._dnda(a) + self.scale * vsg
 

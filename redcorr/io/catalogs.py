@@ -286,7 +286,7 @@ class CatalogReader(abc.ABC):
         if empty:
             yield pa.table({name: pa.array([], pa.float64()) for name in self.columns})
 
-    def close(self):
+    def close(self):  # noqa: B027 - a reader that holds no file has nothing to release
         """Release the file."""
 
     def __enter__(self):
@@ -989,7 +989,7 @@ class CatalogWriter:
         edges = np.concatenate([[0], np.flatnonzero(np.diff(needs)) + 1, [table.num_rows]])
         parts = [
             _csv_bytes(table.slice(a, b - a), self._csv_options if needs[a] else self._plain_options)
-            for a, b in zip(edges[:-1], edges[1:])
+            for a, b in zip(edges[:-1], edges[1:], strict=True)
         ]
         return b"".join(part.to_pybytes() for part in parts)
 

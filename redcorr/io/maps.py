@@ -200,7 +200,9 @@ def _healpix_from_hdul(hdul, path, column, hdu, kwargs):
         raise InputError(f"map file {str(path)!r}: ORDERING={ordering!r}; RING or NESTED is needed")
     coordsys = str(_header_value("COORDSYS", header, primary) or "").strip()
     if not coordsys:
-        raise InputError(f"map file {str(path)!r}: COORDSYS is missing; G (galactic), C (ICRS) or E (ecliptic) is needed")
+        raise InputError(
+            f"map file {str(path)!r}: COORDSYS is missing; G (galactic), C (ICRS) or E (ecliptic) is needed"
+        )
     frame = _COORDSYS.get(coordsys.lower(), coordsys)
     data = table_hdu.data
     names = [n.upper() for n in table_hdu.columns.names]
@@ -273,7 +275,7 @@ def read_image_map(paths, hemispheres=None, hdus=None, **kwargs):
     hemispheres = list(hemispheres) if hemispheres is not None else [None] * len(paths)
     hdus = list(hdus) if hdus is not None else [None] * len(paths)
     tiles = []
-    for path, hemisphere, hdu in zip(paths, hemispheres, hdus):
+    for path, hemisphere, hdu in zip(paths, hemispheres, hdus, strict=True):
         with _open_fits(path) as hdul:
             kind, index = _classify(hdul, path, hdu)
             if kind != "image":
@@ -369,7 +371,9 @@ def open_map(spec, *, unit=None, scale=None, interpolation=None, r_v=None, colum
     specs = [spec] if isinstance(spec, (str, Path)) else list(spec)
     if not specs:
         raise InputError("map is empty; give a FITS file or a .toml map description")
-    options = {k: v for k, v in dict(unit=unit, scale=scale, interpolation=interpolation, r_v=r_v).items() if v is not None}
+    options = {
+        k: v for k, v in dict(unit=unit, scale=scale, interpolation=interpolation, r_v=r_v).items() if v is not None
+    }
     if len(specs) == 1 and Path(specs[0]).suffix.lower() == ".toml":
         return read_map_description(specs[0], column=column, **options)
     if any(Path(s).suffix.lower() == ".toml" for s in specs):

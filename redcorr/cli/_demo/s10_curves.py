@@ -28,7 +28,7 @@ def section(scn, demo_dir):
             "A_diffuse_mag": float(a_v * rd),
             "diff_mag": float(a_v * (ri - rd)),
         }
-        for band, c, ri, rd in zip(inst["bands"], centres, r_in, r_diff)
+        for band, c, ri, rd in zip(inst["bands"], centres, r_in, r_diff, strict=True)
     ]
     print_table(rows, list(rows[0]), formats={"centre_um": ".3f"})
     worst = max(rows, key=lambda r: abs(r["diff_mag"]))

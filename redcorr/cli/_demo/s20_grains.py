@@ -32,7 +32,7 @@ def section(scn, demo_dir):
             "albedo_grown": g["albedo"],
             "g_grown": g["g"],
         }
-        for band, c, g, d in zip(inst["bands"], centres, rows_grown, rows_diffuse)
+        for band, c, g, d in zip(inst["bands"], centres, rows_grown, rows_diffuse, strict=True)
     ]
     print_table(rows, list(rows[0]), formats={"centre_um": ".3f"})
     print(

@@ -42,7 +42,7 @@ def section(scn, demo_dir):
             "A_V_image": float(av),
             "flag": describe_flags(f1 | f2),
         }
-        for (name, r, d), e1, e2, av, f1, f2 in zip(_PLACES, ebv_hp, ebv_im, a_v, flag_hp, flag_im)
+        for (name, r, d), e1, e2, av, f1, f2 in zip(_PLACES, ebv_hp, ebv_im, a_v, flag_hp, flag_im, strict=True)
     ]
     print_table(rows, list(rows[0]), formats={"ra_deg": ".3f", "dec_deg": ".3f", "A_V_image": ".2f"})
     print(

@@ -50,7 +50,7 @@ def section(scn, demo_dir):
     rows = [
         {"star": a["star"], "E(B-V)_column": a["ebv"], "E(B-V)_map": b["ebv_used"],
          "b-v_0_column": a["kw_b-kw_v_dered"], "b-v_0_map": b["kw_b-kw_v_dered"]}
-        for (_, a), (_, b) in zip(out.head(_SHOW).iterrows(), from_map.head(_SHOW).iterrows())
+        for (_, a), (_, b) in zip(out.head(_SHOW).iterrows(), from_map.head(_SHOW).iterrows(), strict=True)
     ]
     print_table(rows, list(rows[0]), formats={"E(B-V)_column": ".3f", "E(B-V)_map": ".3f"})
     print(f"Map coverage: {map_summary['flagged']['map_coverage']} of {map_summary['rows']} stars fall "

@@ -93,9 +93,12 @@ class CatalogScreen(GrainWait, Screen):
                 with Horizontal(classes="form"):
                     yield Select([(v, k) for k, v in RED_KINDS.items()], value=s.cat_red_kind, allow_blank=False,
                                  id="cat-red-kind")
-                    yield Field("", s.cat_red_value, input_id="cat-red-value", placeholder="column, value or map", width=30)
-                    yield Select([(v, k) for k, v in SPECTRA.items()], value=s.cat_spectrum, allow_blank=False,
-                                 id="cat-spectrum")
+                    yield Field(
+                        "", s.cat_red_value, input_id="cat-red-value", placeholder="column, value or map", width=30
+                    )
+                    yield Select(
+                        [(v, k) for k, v in SPECTRA.items()], value=s.cat_spectrum, allow_blank=False, id="cat-spectrum"
+                    )
                     yield Field("", s.cat_teff, input_id="cat-teff", placeholder="K", width=10)
                 yield Static(id="cat-dust", classes="info")
                 yield Label("Columns (guessed; change them here)", classes="section")
@@ -243,8 +246,9 @@ class CatalogScreen(GrainWait, Screen):
         s = self.session
         law, r_v = self._law(for_run)
         mapping = self.query_one(ColumnMapping).mapping
-        return correction_options(mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum,
-                                  s.cat_teff, s.cat_colour)
+        return correction_options(
+            mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum, s.cat_teff, s.cat_colour
+        )
 
     def update_preview(self):
         """Correct the first rows through `Correction` and show them before and after."""
@@ -297,7 +301,9 @@ class CatalogScreen(GrainWait, Screen):
             status.show("the columns are not mapped: fix the bands, then open the catalog again (ctrl+o)", "error")
             return
         options = guarded(lambda: (self._bands(), self._options()))
-        checked = guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
+        checked = (
+            guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
+        )
         if not checked.ok:
             status.show_outcome(checked)
             return
@@ -331,8 +337,11 @@ class CatalogScreen(GrainWait, Screen):
         def run():
             try:
                 return correct_file(
-                    input_path, output_path, lambda columns: Correction(bands, columns=columns, **options),
-                    overwrite=overwrite, progress=progress,
+                    input_path,
+                    output_path,
+                    lambda columns: Correction(bands, columns=columns, **options),
+                    overwrite=overwrite,
+                    progress=progress,
                 )
             except RunCancelled:
                 return None

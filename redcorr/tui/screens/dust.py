@@ -10,8 +10,8 @@ from textual.widgets import Footer, Header, Input, Select, Static
 
 from redcorr.curves import list_curves
 from redcorr.grains import list_grain_models
-from redcorr.tui._guard import combine, guarded
 from redcorr.tui import _cache
+from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
 from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import BandTable, CurvePlot, Field, NamePicker, StatusLine

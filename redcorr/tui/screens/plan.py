@@ -63,7 +63,13 @@ class PlanScreen(GrainWait, Screen):
         yield Header()
         with Vertical(id="plan-body"):
             with Horizontal(classes="form"):
-                yield Field("instrument", s.plan_instrument, input_id="plan-instrument", placeholder="demo or PATH.toml", width=30)
+                yield Field(
+                    "instrument",
+                    s.plan_instrument,
+                    input_id="plan-instrument",
+                    placeholder="demo or PATH.toml",
+                    width=30,
+                )
                 yield Field("AB mag", s.plan_mag, input_id="plan-mag", width=10)
                 yield Field("in", s.plan_mag_band, input_id="plan-mag-band", placeholder="every band", width=14)
                 yield Field("source", s.plan_sed, input_id="plan-sed", width=20)
@@ -118,12 +124,31 @@ class PlanScreen(GrainWait, Screen):
             f"dust: [b]{curve.name}[/] R_V = {curve.r_v:g}, A_V = {a_v:.4g} mag (set on the Dust screen, F2)"
         )
         outcome = guarded(
-            plan_state, curve, a_v, s.plan_instrument, s.plan_mag, s.plan_mag_band, s.plan_sed,
-            s.plan_goal, s.plan_goal_value, s.plan_limit_snr,
+            plan_state,
+            curve,
+            a_v,
+            s.plan_instrument,
+            s.plan_mag,
+            s.plan_mag_band,
+            s.plan_sed,
+            s.plan_goal,
+            s.plan_goal_value,
+            s.plan_limit_snr,
         )
         if outcome.ok:
-            av = guarded(av_table, curve, outcome.value[1], s.plan_instrument, s.plan_mag, s.plan_mag_band,
-                         s.plan_sed, s.plan_goal, s.plan_goal_value, s.plan_limit_snr, s.plan_av_grid)
+            av = guarded(
+                av_table,
+                curve,
+                outcome.value[1],
+                s.plan_instrument,
+                s.plan_mag,
+                s.plan_mag_band,
+                s.plan_sed,
+                s.plan_goal,
+                s.plan_goal_value,
+                s.plan_limit_snr,
+                s.plan_av_grid,
+            )
         else:
             av = outcome
         self._mark_refused(outcome.error or av.error or "")

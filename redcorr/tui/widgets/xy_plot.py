@@ -41,10 +41,14 @@ class XYPlot(PlotextPlot):
         plt.xscale("log" if xlog else "linear")
         plt.yscale("log" if ylog else "linear")
         for name, x, y in self.series:
-            keep = [(a, b) for a, b in zip(x, y) if a == a and b == b and (not xlog or a > 0) and (not ylog or b > 0)]
+            keep = [
+                (a, b)
+                for a, b in zip(x, y, strict=True)
+                if a == a and b == b and (not xlog or a > 0) and (not ylog or b > 0)
+            ]
             if not keep:
                 continue
-            xs, ys = zip(*keep)
+            xs, ys = zip(*keep, strict=True)
             if points:
                 plt.scatter(xs, ys, label=name, marker="dot")
             else:
