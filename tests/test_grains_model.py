@@ -246,7 +246,25 @@ def test_grey_dust_warns_that_r_v_means_nothing():
     assert not 0 < r_v < 100
     with pytest.warns(OutOfRangeWarning):
         curve = big.curve([0.3, 0.5, 0.7, 1.0], cache=False)
+    # bitwise: R_V of grey dust subtracts two nearly equal cross sections, so it is only
+    # reproducible because a wavelength's cross sections do not depend on the other
+    # wavelengths computed with it (documented in GrainModel.optics)
     assert curve.r_v == r_v
+
+
+@pytest.mark.parametrize("numba", [True, False])
+def test_cross_sections_do_not_depend_on_the_other_wavelengths(monkeypatch, numba):
+    # The property documented in GrainModel.optics, bitwise, on both Mie paths and with a
+    # PAH-blended carbonaceous component (common practice, no source).
+    import redcorr.mie as mie_module
+
+    monkeypatch.setattr(mie_module, "USE_NUMBA", numba and mie_module.USE_NUMBA)
+    model = get_grain_model("wd01-rv3.1")
+    alone = model.optics([0.44, 0.55], cache=False)
+    wave = [0.2, 0.44, 0.3, 1.2, 0.55, 2.2, 0.12]
+    mixed = model.optics(wave, cache=False)
+    for name in ("c_ext", "c_sca", "c_abs", "g"):
+        np.testing.assert_array_equal(getattr(mixed, name)[[1, 4]], getattr(alone, name), err_msg=name)
 
 
 def test_two_processes_share_the_cache(tmp_path):

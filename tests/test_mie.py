@@ -241,6 +241,25 @@ def test_numba_and_numpy_paths_agree(monkeypatch):
 
 
 @pytest.mark.parametrize("numba", [True, False])
+def test_a_sphere_gets_the_same_bits_alone_or_in_a_batch(monkeypatch, numba):
+    # A sphere's efficiencies are a function of its own (m, x) only; quantities built by
+    # subtracting nearly equal results (R_V of grey dust) rely on it, so this is bitwise
+    # (a documented property of redcorr.mie, common practice, no source).
+    monkeypatch.setattr(mie_module, "USE_NUMBA", numba and mie_module.USE_NUMBA)
+    rng = np.random.default_rng(7)
+    x = 10 ** rng.uniform(-3, 3, 60)
+    m = rng.uniform(1.1, 2.5, 60) + 1j * 10 ** rng.uniform(-4, 0, 60)
+    batch = mie(m, x)
+    for i in (0, 17, 42, 59):
+        alone = mie(m[i], x[i])
+        for name in ("qext", "qsca", "qabs", "qback", "g"):
+            assert getattr(alone, name) == getattr(batch, name)[i], name
+    reordered = mie(m[::-1], x[::-1])
+    for name in ("qext", "qsca", "qabs", "qback", "g"):
+        np.testing.assert_array_equal(getattr(reordered, name)[::-1], getattr(batch, name), err_msg=name)
+
+
+@pytest.mark.parametrize("numba", [True, False])
 def test_sphere_of_the_medium_index_does_not_scatter(numba):
     # Bohren & Huffman 1983, eq. 4.53 (from memory): with m = 1 the numerators of a_n and b_n
     # vanish term by term, so nothing is scattered or absorbed at any size; g is then
