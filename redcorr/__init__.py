@@ -9,16 +9,20 @@ correction (:mod:`redcorr.correct`) and exposure planning
 :mod:`redcorr.io`; the command line (:mod:`redcorr.cli`) and the terminal UI
 (:mod:`redcorr.tui`) are thin shells over both.
 
-The names below are importable from ``redcorr`` directly; all but the curve
-interface are loaded on first use, so ``import redcorr`` stays light.
+The names below are importable from ``redcorr`` directly. Each is loaded on
+first use, so ``import redcorr`` (which every ``redcorr.*`` import runs first)
+imports neither numpy nor astropy and the command line starts quickly.
+``redcorr.mie`` is the module itself, which is callable: ``redcorr.mie(m, x)``
+is ``redcorr.mie.mie(m, x)``.
 """
 
 import importlib
 
-from redcorr import mie  # a callable module: redcorr.mie(m, x) is redcorr.mie.mie(m, x)
-from redcorr.curves import ExtinctionCurve, TabulatedCurve, get_curve, list_curves
-
 _LAZY = {
+    "ExtinctionCurve": "redcorr.curves",
+    "TabulatedCurve": "redcorr.curves",
+    "get_curve": "redcorr.curves",
+    "list_curves": "redcorr.curves",
     "get_grain_model": "redcorr.grains",
     "list_grain_models": "redcorr.grains",
     "Band": "redcorr.bandpass",
@@ -33,11 +37,13 @@ _LAZY = {
     "open_map": "redcorr.io",
 }
 
-__all__ = ["ExtinctionCurve", "TabulatedCurve", "get_curve", "list_curves", "mie", *_LAZY]
+__all__ = [*_LAZY, "mie"]
 __version__ = "0.1.0"
 
 
 def __getattr__(name):
     if name in _LAZY:
         return getattr(importlib.import_module(_LAZY[name]), name)
+    if name == "mie":  # importing a submodule also binds it here, so this runs once
+        return importlib.import_module("redcorr.mie")
     raise AttributeError(f"module 'redcorr' has no attribute {name!r}")

@@ -100,6 +100,7 @@ import warnings
 import numpy as np
 import pandas as pd
 
+from redcorr._constants import CORRECTION_FLAG_BITS, DEFAULT_TEMPERATURE
 from redcorr._validate import check_choice, check_finite, check_positive
 from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.extinction import band_extinction, band_ratio, coefficient_grid
@@ -117,20 +118,10 @@ __all__ = [
     "warn_summary",
 ]
 
-FLAG_BITS = {
-    "non_numeric": 1,
-    "missing": 2,
-    "negative_reddening": 4,
-    "outside_grid": 8,
-    "outside_curve": 16,
-    "map_coverage": 32,
-    "not_converged": 64,
-}
+FLAG_BITS = CORRECTION_FLAG_BITS
 """dict: name → value of each bit of the ``dered_flags`` column."""
 
 FLAG_COLUMN = "dered_flags"
-DEFAULT_TEMPERATURE = 7000.0
-"""K: default blackbody source, a mid-F star, typical of field stars (common practice, no source)."""
 
 _RV_HALF_STEP = 0.05
 _DIFF_STEP = 1e-3

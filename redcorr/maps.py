@@ -50,6 +50,7 @@ import numpy as np
 from astropy import units as u
 from astropy.coordinates import BaseCoordinateFrame, UnitSphericalRepresentation, frame_transform_graph
 
+from redcorr._constants import INTERPOLATIONS, MAP_FLAG_NAMES, MAP_UNITS
 from redcorr._validate import as_float_array, check_choice, check_finite, check_positive
 from redcorr.exceptions import InputError
 
@@ -75,7 +76,7 @@ FLAG_OUTSIDE = np.uint8(1)
 FLAG_BLANK = np.uint8(2)
 FLAG_PARTIAL = np.uint8(4)
 FLAG_NO_POSITION = np.uint8(8)
-FLAG_NAMES = {1: "outside", 2: "blank", 4: "partial", 8: "no-position"}
+FLAG_NAMES = MAP_FLAG_NAMES
 """Flag bit → short name, for printing."""
 
 _NO_VALUE = FLAG_OUTSIDE | FLAG_BLANK | FLAG_NO_POSITION
@@ -83,9 +84,6 @@ _NO_VALUE = FLAG_OUTSIDE | FLAG_BLANK | FLAG_NO_POSITION
 HEALPIX_UNSEEN = -1.6375e30
 """Value HEALPix software writes for pixels without data (Górski et al. 2005, the HEALPix
 software conventions; from memory)."""
-
-INTERPOLATIONS = ("bilinear", "nearest")
-MAP_UNITS = ("E(B-V)", "A_V")
 
 _CHUNK = 1 << 20
 """Positions processed per step, to keep temporary arrays of bounded size."""

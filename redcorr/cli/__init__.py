@@ -6,6 +6,15 @@ sets ``func=run`` as its default) and ``run(args) -> int``. Adding a command
 is adding such a module: they are discovered by name (modules whose names
 start with an underscore are helpers, not commands).
 
+Start-up: building the parser imports every command module, so a command
+module imports at module level only the standard library,
+:mod:`redcorr.exceptions`, :mod:`redcorr.cli._common` and
+:mod:`redcorr._constants` (the values its options need). numpy, astropy and
+the library modules are imported inside ``run`` and the functions that use
+them. ``redcorr --help`` thus loads none of them, and ``redcorr COMMAND``
+only what COMMAND uses (``tests/test_cli_startup.py`` checks this,
+``benchmarks/bench_startup.py`` times it).
+
 Exit status: 0 on success, 2 for a user mistake (one line on stderr, no
 traceback), 1 for an unexpected failure, 130 on Ctrl-C.
 """

@@ -5,12 +5,31 @@ import json
 import math
 import sys
 
-from astropy import units as u
+__all__ = ["WAVE_UNITS", "wavelengths", "print_json", "print_table", "finite_float"]
 
-__all__ = ["WAVE_UNITS", "print_json", "print_table", "finite_float"]
+WAVE_UNITS = {"um": "um", "nm": "nm", "AA": "AA", "invum": "1 / um"}
+"""Choices of ``--unit`` (micron, nanometre, ångström, inverse micron) → astropy unit string."""
 
-WAVE_UNITS = {"um": u.um, "nm": u.nm, "AA": u.AA, "invum": u.um**-1}
-"""Choices of ``--unit``: micron, nanometre, ångström, inverse micron."""
+
+def wavelengths(values, unit):
+    """Numbers given in ``--unit`` as a Quantity, and the same wavelengths in µm.
+
+    Parameters
+    ----------
+    values : list of float
+    unit : str
+        A key of :data:`WAVE_UNITS`.
+
+    Returns
+    -------
+    wave : `~astropy.units.Quantity`
+    wave_um : ndarray
+    """
+    import numpy as np  # heavy: loaded on use, so that the parser builds without numpy or astropy
+    from astropy import units as u
+
+    wave = np.asarray(values) * u.Unit(WAVE_UNITS[unit])
+    return wave, wave.to_value(u.um, equivalencies=u.spectral())
 
 
 def finite_float(text):

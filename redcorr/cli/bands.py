@@ -2,7 +2,6 @@
 
 from redcorr.cli._common import print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.io.filters import list_bands, load_band, project_bands
 
 __all__ = ["add_parser", "run"]
 
@@ -25,6 +24,8 @@ def add_parser(sub):
 
 
 def _list(as_json):
+    from redcorr.io.filters import list_bands, project_bands  # heavy: loaded on use
+
     own = set(project_bands())
     rows = [{"band": n, "from": "filters/" if n in own else "speclite"} for n in list_bands()]
     if as_json:
@@ -36,6 +37,8 @@ def _list(as_json):
 
 
 def run(args):
+    from redcorr.io.filters import load_band
+
     if args.list:
         return _list(args.json)
     if not args.names:

@@ -1,17 +1,10 @@
 """``redcorr coeffs``: band-integrated extinction for a source behind dust."""
 
+import math
 import sys
 
-import numpy as np
-
-from redcorr.band_table import band_table
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.extinction import coefficient_grid, colour_excess_ratio
-from redcorr.io import check_output_path, load_curve
-from redcorr.io.filters import load_band
-from redcorr.io.grids import write_coefficient_grid
-from redcorr.io.spectra import load_sed
 
 __all__ = ["add_parser", "run"]
 
@@ -56,6 +49,8 @@ def add_parser(sub):
 
 
 def _curve(args):
+    from redcorr.io import load_curve  # heavy: loaded on use
+
     if args.grain is not None:
         if args.rv is not None:
             raise InputError("--rv cannot be used with --grain: a grain model fixes its own R_V")
@@ -67,7 +62,7 @@ def _a_v(args, curve):
     if args.av is not None:
         a_v = args.av
     else:
-        if not np.isfinite(curve.r_v):
+        if not math.isfinite(curve.r_v):
             raise InputError(f"--ebv needs the curve's R_V, which {curve.name} does not define; give --av")
         a_v = curve.r_v * args.ebv
     if a_v < 0:
@@ -76,6 +71,9 @@ def _a_v(args, curve):
 
 
 def _write_grid(curve, bands, path, extrapolate, out):
+    from redcorr.extinction import coefficient_grid
+    from redcorr.io.grids import write_coefficient_grid
+
     grid = coefficient_grid(curve, bands, extrapolate=extrapolate)
     poly = grid.fit_polynomial() if len(bands) >= 2 else None
     write_coefficient_grid(grid, path, poly)
@@ -96,6 +94,12 @@ def _write_grid(curve, bands, path, extrapolate, out):
 
 
 def run(args):
+    from redcorr.band_table import band_table
+    from redcorr.extinction import colour_excess_ratio
+    from redcorr.io import check_output_path
+    from redcorr.io.filters import load_band
+    from redcorr.io.spectra import load_sed
+
     for path in (args.grid, args.plot):
         if path:
             check_output_path(path)

@@ -3,14 +3,13 @@
 import argparse
 import sys
 
+from redcorr._constants import CORRECTION_FLAG_BITS, DEFAULT_CHUNK_ROWS, DEFAULT_TEMPERATURE
 from redcorr.cli._common import finite_float, print_json
-from redcorr.correct import DEFAULT_TEMPERATURE, FLAG_BITS, Correction
 from redcorr.exceptions import InputError
-from redcorr.io.catalogs import DEFAULT_CHUNK_ROWS
 
 __all__ = ["add_parser", "run"]
 
-_EPILOG = "dered_flags bits: " + ", ".join(f"{v}={k}" for k, v in FLAG_BITS.items())
+_EPILOG = "dered_flags bits: " + ", ".join(f"{v}={k}" for k, v in CORRECTION_FLAG_BITS.items())
 
 
 def _mapping(text):
@@ -177,6 +176,7 @@ class _Progress:
 
 
 def run(args):
+    from redcorr.correct import Correction  # heavy (pandas): loaded on use
     from redcorr.io.batch import correct_file, correct_file_dask  # noqa: PLC0415
 
     options = _options(args)

@@ -1,13 +1,7 @@
 """``redcorr curve``: evaluate an extinction law at given wavelengths."""
 
-import numpy as np
-from astropy import units as u
-
-from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table
-from redcorr.curves import list_curves
+from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table, wavelengths
 from redcorr.exceptions import InputError
-from redcorr.grains import list_grain_models
-from redcorr.io import load_curve
 
 __all__ = ["add_parser", "run"]
 
@@ -34,6 +28,9 @@ def add_parser(sub):
 
 
 def _list(as_json):
+    from redcorr.curves import list_curves  # heavy: loaded on use, so that the parser builds quickly
+    from redcorr.grains import list_grain_models
+
     rows = []
     for info in list_curves():
         r_lo_hi = info["r_v_range"]
@@ -59,6 +56,10 @@ def _list(as_json):
 
 
 def run(args):
+    import numpy as np
+
+    from redcorr.io import load_curve
+
     if args.list:
         return _list(args.json)
     if not args.law:
@@ -66,8 +67,7 @@ def run(args):
     if not args.wave:
         raise InputError("--wave is missing; give one or more wavelengths")
     curve = load_curve(args.law, r_v=args.rv)
-    wave = np.asarray(args.wave) * WAVE_UNITS[args.unit]
-    wave_um = wave.to_value(u.um, equivalencies=u.spectral())
+    wave, wave_um = wavelengths(args.wave, args.unit)
     ratio = np.atleast_1d(curve(wave, extrapolate=args.extrapolate))
     rows = [
         {"wavelength_um": float(w), "A_over_AV": float(r), "A_over_EBV": float(r * curve.r_v)}

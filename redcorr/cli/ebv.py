@@ -1,12 +1,8 @@
 """``redcorr ebv``: look up E(B-V) in a local dust map at given positions."""
 
-import numpy as np
-
-from redcorr._validate import check_finite, check_range
+from redcorr._constants import INTERPOLATIONS, MAP_FLAG_NAMES, MAP_UNITS
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.io.maps import open_map
-from redcorr.maps import FLAG_NAMES, INTERPOLATIONS, MAP_UNITS, describe_flags, parse_frame, transform_lonlat
 
 __all__ = ["add_parser", "run"]
 
@@ -23,7 +19,7 @@ def add_parser(sub):
             "--frame says otherwise) or galactic l/b, in degrees; give several as repeated values "
             "or comma lists (write a list starting with a minus sign as --dec=-27.4,-27.5). "
             "Output ra_deg/dec_deg are ICRS, l_deg/b_deg galactic. Flag bits: "
-            + ", ".join(f"{bit} {name}" for bit, name in FLAG_NAMES.items())
+            + ", ".join(f"{bit} {name}" for bit, name in MAP_FLAG_NAMES.items())
             + " (0 = ok)."
         ),
     )
@@ -46,6 +42,10 @@ def add_parser(sub):
 
 def _numbers(name, texts):
     """Floats from repeated values and comma lists."""
+    import numpy as np  # heavy: loaded on use
+
+    from redcorr._validate import check_finite
+
     out = []
     for text in texts:
         for item in str(text).split(","):
@@ -58,6 +58,11 @@ def _numbers(name, texts):
 
 def _positions(args):
     """(lon, lat, frame name) from --ra/--dec or --l/--b."""
+    import numpy as np
+
+    from redcorr._validate import check_range
+    from redcorr.maps import parse_frame
+
     equatorial = args.ra is not None or args.dec is not None
     galactic = args.l is not None or args.b is not None
     if equatorial == galactic:
@@ -77,6 +82,11 @@ def _positions(args):
 
 
 def run(args):
+    import numpy as np
+
+    from redcorr.io.maps import open_map
+    from redcorr.maps import describe_flags, parse_frame, transform_lonlat
+
     lon, lat, frame = _positions(args)
     dust_map = open_map(
         args.map[0] if len(args.map) == 1 else args.map,

@@ -1,13 +1,7 @@
 """``redcorr grain``: extinction, albedo and g of a grain model at given wavelengths."""
 
-import numpy as np
-from astropy import units as u
-
-from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table
-from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM
+from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table, wavelengths
 from redcorr.exceptions import InputError
-from redcorr.grains import get_grain_model, list_grain_models, list_materials
-from redcorr.grains.model import r_v_from_cross_sections
 
 __all__ = ["add_parser", "run", "grain_rows"]
 
@@ -41,6 +35,11 @@ def grain_rows(model, wave_um, *, cache=True):
 
     Cross sections are computed at exactly these wavelengths (no interpolation).
     """
+    import numpy as np  # heavy: loaded on use
+
+    from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM
+    from redcorr.grains.model import r_v_from_cross_sections
+
     wave_um = np.atleast_1d(np.asarray(wave_um, dtype=float))
     optics = model.optics(np.append(wave_um, [B_WAVE_UM, V_WAVE_UM]), cache=cache)
     c_b, c_v = optics.c_ext[-2:]
@@ -61,6 +60,8 @@ def grain_rows(model, wave_um, *, cache=True):
 
 
 def _list(as_json):
+    from redcorr.grains import list_grain_models, list_materials
+
     models, materials = list_grain_models(), list_materials()
     if as_json:
         print_json({"models": models, "materials": materials})
@@ -74,6 +75,8 @@ def _list(as_json):
 
 
 def run(args):
+    from redcorr.grains import get_grain_model
+
     if args.list:
         return _list(args.json)
     if not args.model:
@@ -84,8 +87,7 @@ def run(args):
     cache = not args.no_cache
     r_v, rows = None, []
     if args.wave:
-        wave = np.asarray(args.wave) * WAVE_UNITS[args.unit]
-        wave_um = wave.to_value(u.um, equivalencies=u.spectral())
+        _, wave_um = wavelengths(args.wave, args.unit)
         r_v, rows = grain_rows(model, wave_um, cache=cache)
     if args.plot:
         _plot(model, args.plot, cache=cache)
@@ -106,6 +108,9 @@ def run(args):
 
 
 def _plot(model, path, *, cache):
+    import numpy as np
+
+    from redcorr.curves.tabulated import V_WAVE_UM
     from redcorr.io import atomic_path, check_output_path  # noqa: PLC0415
     from redcorr.phase import henyey_greenstein  # noqa: PLC0415
     from redcorr.plotting import _figure  # noqa: PLC0415 - matplotlib only when asked

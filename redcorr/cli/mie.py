@@ -1,10 +1,7 @@
 """``redcorr mie``: Mie efficiencies of homogeneous spheres."""
 
-import numpy as np
-
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.mie import mie
 
 __all__ = ["add_parser", "run"]
 
@@ -44,6 +41,10 @@ def add_parser(sub):
 
 
 def run(args):
+    import numpy as np  # heavy: loaded on use
+
+    from redcorr.mie import mie
+
     m = _complex(args.m)
     x = np.asarray(args.x, dtype=float)
     res = mie(m, x, convention=args.convention)

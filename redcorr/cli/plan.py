@@ -2,15 +2,8 @@
 
 import sys
 
-import numpy as np
-
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
-from redcorr.exposure import ab_mag_of_spectrum, plan_exposure, snr_vs_time, time_vs_av
-from redcorr.io import check_output_path, load_curve
-from redcorr.io.filters import load_band
-from redcorr.io.instrument import load_instrument
-from redcorr.io.spectra import load_sed
 
 __all__ = ["add_parser", "run", "CAUTION"]
 
@@ -69,6 +62,8 @@ def add_parser(sub):
 
 
 def _curve(args):
+    from redcorr.io import load_curve  # heavy: loaded on use
+
     if args.grain:
         if args.rv is not None:
             raise InputError(f"--rv={args.rv:g} applies to a law; a grain model fixes its own R_V")
@@ -77,6 +72,8 @@ def _curve(args):
 
 
 def _mag_band(args, instrument):
+    from redcorr.io.filters import load_band
+
     if args.mag_band is None:
         return None
     if args.mag_band in instrument.channels:
@@ -85,6 +82,13 @@ def _mag_band(args, instrument):
 
 
 def run(args):
+    import numpy as np
+
+    from redcorr.exposure import ab_mag_of_spectrum, plan_exposure, snr_vs_time, time_vs_av
+    from redcorr.io import check_output_path
+    from redcorr.io.instrument import load_instrument
+    from redcorr.io.spectra import load_sed
+
     for path in (args.plot, args.av_plot):
         if path:
             check_output_path(path)

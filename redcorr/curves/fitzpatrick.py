@@ -17,7 +17,6 @@ applies, shortward the FM90 form. We use a natural cubic spline
 import abc
 
 import numpy as np
-from scipy.interpolate import CubicSpline
 
 from redcorr._validate import check_finite, check_positive
 from redcorr.curves._base import ExtinctionCurve
@@ -75,6 +74,8 @@ class _SplineFM(ExtinctionCurve):
 
     def _spline(self):
         if getattr(self, "_cached_spline", None) is None:
+            from scipy.interpolate import CubicSpline  # heavy: loaded on first evaluation, not on import
+
             ax, ay = self._anchors()
             uv = fm90_excess(_X_UV_KNOTS, *self._fm_params()) + self.r_v
             knots_x = np.concatenate([[0.0], ax, _X_UV_KNOTS])

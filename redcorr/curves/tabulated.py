@@ -2,7 +2,6 @@
 
 import numpy as np
 from astropy import units as u
-from scipy.interpolate import PchipInterpolator
 
 from redcorr._validate import check_positive, inverse_micron
 from redcorr.curves._base import ExtinctionCurve
@@ -58,6 +57,8 @@ class TabulatedCurve(ExtinctionCurve):
     r_v_range = None
 
     def __init__(self, wave, a_over_av, *, r_v=None, name="table", citation="user table"):
+        from scipy.interpolate import PchipInterpolator  # heavy: loaded when a table is built, not on import
+
         x = inverse_micron(wave, name="wave")
         y = np.asarray(a_over_av, dtype=float)
         if x.ndim != 1 or y.shape != x.shape:

@@ -1,27 +1,33 @@
-"""The edge of redcorr that touches files; the physics modules never do."""
+"""The edge of redcorr that touches files; the physics modules never do.
 
-from redcorr.io._atomic import atomic_path, check_output_path
-from redcorr.io.curves import load_curve, read_curve_table
-from redcorr.io.filters import list_bands, load_band
-from redcorr.io.grains import read_grain_model, read_optical_constants, read_size_table
-from redcorr.io.grids import read_coefficient_grid, write_coefficient_grid
-from redcorr.io.instrument import load_instrument
-from redcorr.io.maps import open_map
-from redcorr.io.spectra import load_sed
+The names below are loaded from their submodules on first use, so that
+``from redcorr.io import load_curve`` does not also import the catalog,
+map and grain readers (pandas, astropy.table, astropy.coordinates).
+"""
 
-__all__ = [
-    "atomic_path",
-    "check_output_path",
-    "load_curve",
-    "read_curve_table",
-    "load_band",
-    "list_bands",
-    "load_sed",
-    "read_coefficient_grid",
-    "write_coefficient_grid",
-    "load_instrument",
-    "open_map",
-    "read_grain_model",
-    "read_optical_constants",
-    "read_size_table",
-]
+import importlib
+
+_LAZY = {
+    "atomic_path": "redcorr.io._atomic",
+    "check_output_path": "redcorr.io._atomic",
+    "load_curve": "redcorr.io.curves",
+    "read_curve_table": "redcorr.io.curves",
+    "load_band": "redcorr.io.filters",
+    "list_bands": "redcorr.io.filters",
+    "load_sed": "redcorr.io.spectra",
+    "read_coefficient_grid": "redcorr.io.grids",
+    "write_coefficient_grid": "redcorr.io.grids",
+    "load_instrument": "redcorr.io.instrument",
+    "open_map": "redcorr.io.maps",
+    "read_grain_model": "redcorr.io.grains",
+    "read_optical_constants": "redcorr.io.grains",
+    "read_size_table": "redcorr.io.grains",
+}
+
+__all__ = list(_LAZY)
+
+
+def __getattr__(name):
+    if name in _LAZY:
+        return getattr(importlib.import_module(_LAZY[name]), name)
+    raise AttributeError(f"module 'redcorr.io' has no attribute {name!r}")

@@ -53,6 +53,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from redcorr._constants import DEFAULT_CHUNK_ROWS
 from redcorr.exceptions import InputError
 from redcorr.io._atomic import atomic_path, check_output_path
 
@@ -86,10 +87,6 @@ _SUFFIXES = {
     ".parquet": "parquet",
     ".pq": "parquet",
 }
-
-DEFAULT_CHUNK_ROWS = 65_536
-"""Rows per chunk unless asked otherwise: half a MB per float column, so that the few chunks in
-flight (read ahead, being corrected, being written) stay small beside the program itself."""
 
 _CSV_BLOCK_BYTES = 1 << 20
 """Bytes per block of the CSV reader. Its read-ahead holds tens of blocks (about 250 MB with

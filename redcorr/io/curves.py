@@ -4,7 +4,6 @@ from pathlib import Path
 
 import numpy as np
 from astropy import units as u
-from astropy.table import Table
 
 from redcorr._validate import check_choice
 from redcorr.curves import LAWS, TabulatedCurve, get_curve
@@ -32,6 +31,8 @@ def read_curve_table(path):
     -------
     TabulatedCurve
     """
+    from astropy.table import Table  # heavy: loaded only to read a file
+
     path = Path(path)
     if not path.is_file():
         raise InputError(f"curve file {str(path)!r} does not exist")
@@ -101,8 +102,6 @@ def load_curve(spec, r_v=None):
         R_V for laws; for a file, overrides the file's own R_V. A grain
         model's R_V follows from its grains and cannot be changed.
     """
-    from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
-
     if isinstance(spec, str) and spec.startswith(_GRAIN_PREFIX):
         return _grain_curve(spec, r_v)
     if isinstance(spec, str) and spec.startswith(_FILE_PREFIX):
@@ -110,6 +109,10 @@ def load_curve(spec, r_v=None):
         if r_v is not None:
             curve = TabulatedCurve(*curve.table, r_v=r_v, name=curve.name, citation=curve.citation)
         return curve
+    if str(spec).strip().lower() in LAWS:  # a law by its name: the grain models (scipy) need not load
+        return get_curve(spec, r_v=r_v)
+    from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
+
     # One namespace for laws and grain models, so a typo gets suggestions from both.
     key = check_choice("law", spec, sorted(LAWS) + sorted(GRAIN_MODELS))
     if key in GRAIN_MODELS:
