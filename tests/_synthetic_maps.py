@@ -2,7 +2,8 @@
 
 Test data, not demo data: the function is smooth on the whole sphere (a
 polynomial in the galactic unit vector), so interpolation errors scale as
-the pixel size (nearest) or its square (bilinear).
+the pixel size (nearest) or its square (bilinear). Plain helper functions,
+imported by the tests; fixtures live in tests/conftest.py.
 """
 
 import astropy_healpix

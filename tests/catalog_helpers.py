@@ -1,4 +1,7 @@
-"""Shared, invented test catalogs for the catalog-correction tests (no real data)."""
+"""Random synthetic catalogs for the catalog-correction tests (uniform random draws, no real data).
+
+Plain helper functions, imported by the tests; fixtures live in tests/conftest.py.
+"""
 
 import numpy as np
 import pandas as pd
@@ -12,7 +15,7 @@ KW = ["kw-b", "kw-v", "kw-r", "kw-i"]
 
 
 def intrinsic(n, seed=0):
-    """Invented intrinsic magnitudes, errors and reddening for ``n`` stars."""
+    """Random intrinsic magnitudes, errors and reddening for ``n`` stars (seeded)."""
     rng = np.random.default_rng(seed)
     frame = pd.DataFrame({"id": np.arange(n)})
     for band in KW:
@@ -25,7 +28,8 @@ def intrinsic(n, seed=0):
 
 
 def redden_fixed(frame, law="f99", r_v=3.1, temperature=7000.0):
-    """Add the band extinction of the bands core (direct integration, no table) to each magnitude."""
+    """Add the band extinction from redcorr.extinction.band_extinction (direct integration, no
+    table; checked against independent quadrature in test_extinction) to each magnitude."""
     curve = get_curve(law, r_v=r_v)
     out = frame.copy()
     a_v = frame["ebv"].to_numpy() * r_v

@@ -28,7 +28,7 @@ def test_correct_json_summary_and_colour(tmp_path, capsys):
                "--colour", "kw-b,kw-v", "--red-err-col", "e_ebv", "--rv", "4.3", "--json"])
     assert rc == 0
     summary = json.loads(capsys.readouterr().out)
-    assert summary["rows"] == 30 and summary["setup"]["r_v"] == 4.3
+    assert summary["rows"] == 30 and summary["setup"]["r_v"] == 4.3  # the R_V given, echoed exactly
     result = pd.read_parquet(out)
     assert {"Bmag_dered", "Vmag_dered_err", "Bmag-Vmag_dered", "A_kw_b", "dered_flags"} <= set(result.columns)
     assert (tmp_path / "out.parquet.summary.json").exists()
@@ -111,7 +111,7 @@ def test_progress_bar_on_a_terminal_only(tmp_path, monkeypatch, capsys):
     with _Progress(True) as bar:
         assert bar.enabled
         bar(500, 0.5)
-        assert bar._bar.tasks[0].completed == 500.0 and bar._bar.tasks[0].fields["rows"] == 500
+        assert bar._bar.tasks[0].completed == 500.0 and bar._bar.tasks[0].fields["rows"] == 500  # counts: exact
     with _Progress(False) as quiet:
         assert not quiet.enabled
 

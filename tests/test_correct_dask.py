@@ -1,4 +1,9 @@
-"""Dask engine: a LocalCluster of 2 worker processes gives the single-process results."""
+"""Dask engine: a LocalCluster of 2 worker processes gives the single-process results.
+
+Every comparison here is bitwise (check_exact=True): the correction is row-wise, so the same
+rows through the same arithmetic on another process must give the same doubles, and text
+outputs the same rounding of them.
+"""
 
 import logging
 

@@ -10,12 +10,14 @@ from redcorr.exceptions import InputError
 
 def test_k_at_1500_angstrom():
     # Calzetti et al. (2000) eq. 4 with R'_V = 4.05 gives k'(1500 Å) = 10.33
-    # (value from memory, often quoted for UV attenuation).
+    # (value from memory, often quoted for UV attenuation). atol 0.01: the value is printed to
+    # two decimals.
     assert_allclose(Calzetti00().a_over_ebv(0.15), 10.33, atol=0.01)
 
 
 def test_eq4_by_hand():
-    # Calzetti et al. (2000) eq. 4, both branches, evaluated by hand.
+    # Calzetti et al. (2000) eq. 4, both branches, evaluated by hand from the published
+    # coefficients. The same arithmetic on terms of order 10: equal to rounding, hence 1e-12.
     lam = 0.3
     k_blue = 2.659 * (-2.156 + 1.509 / lam - 0.198 / lam**2 + 0.011 / lam**3) + 4.05
     lam_r = 1.5

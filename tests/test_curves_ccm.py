@@ -3,39 +3,30 @@
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
+from published import CCM89_TABLE3_RV31
 
 from redcorr.curves import CCM89, O94
 from redcorr.exceptions import InputError, OutOfRangeWarning
 
-# Cardelli, Clayton & Mathis (1989), Table 3: A(λ)/A(V) for R_V = 3.1 at the
-# UBVRIJHK wavelengths (µm). Values from memory; the table sets the fitted
-# curve beside the mean observed one, so agreement to ~0.015 is expected.
-CCM89_TABLE3 = [
-    (0.36, 1.569),
-    (0.44, 1.337),
-    (0.55, 1.000),
-    (0.70, 0.751),
-    (0.90, 0.479),
-    (1.25, 0.282),
-    (1.60, 0.190),
-    (2.20, 0.114),
-]
 
-
-@pytest.mark.parametrize(("wave", "expected"), CCM89_TABLE3)
+@pytest.mark.parametrize(("wave", "expected"), list(CCM89_TABLE3_RV31.values()), ids=list(CCM89_TABLE3_RV31))
 def test_ccm89_table3(wave, expected):
+    # Cardelli, Clayton & Mathis (1989), Table 3 (tests/published.py). atol 0.015: the table sets
+    # the fitted law beside the mean observed curve, which it matches to about that.
     assert_allclose(CCM89(3.1)(wave), expected, atol=0.015)
 
 
 def test_ccm89_equations_at_v():
     # CCM89 eqs. 3a-3b at y = x - 1.82 = 0: a = 1, b = 0, so A/A_V = 1 for any
-    # R_V at x = 1.82 µm⁻¹ (by construction of the law).
+    # R_V at x = 1.82 µm⁻¹ (by construction of the law). 1/(1/1.82) is 1.82 to rounding, hence
+    # 1e-12.
     for r_v in (2.75, 3.1, 5.5):
         assert_allclose(CCM89(r_v)(1 / 1.82), 1.0, rtol=1e-12)
 
 
 def test_ccm89_ir_power_law():
-    # CCM89 eq. 2: a = 0.574 x^1.61, b = -0.527 x^1.61 in the infrared.
+    # CCM89 eq. 2: a = 0.574 x^1.61, b = -0.527 x^1.61 in the infrared; the same arithmetic by
+    # hand, equal to rounding (1e-12).
     x = np.array([0.35, 0.6, 1.0])
     assert_allclose(CCM89(4.0)(1 / x), (0.574 - 0.527 / 4.0) * x**1.61, rtol=1e-12)
 
@@ -68,7 +59,8 @@ def test_continuity(cls, x_join, tol):
 
 
 def test_o94_changes_only_the_optical():
-    # O'Donnell (1994) replaces only the 1.1 <= x <= 3.3 µm⁻¹ polynomials.
+    # O'Donnell (1994) replaces only the 1.1 <= x <= 3.3 µm⁻¹ polynomials; elsewhere the same
+    # CCM89 formulas, equal to rounding (1e-12).
     x = np.array([0.4, 1.0, 3.5, 5.0, 7.0, 9.5])
     assert_allclose(O94(3.1)(1 / x), CCM89(3.1)(1 / x), rtol=1e-12)
 
@@ -83,7 +75,8 @@ def test_o94_close_to_ccm89_in_optical():
 
 def test_o94_optical_polynomial():
     # O'Donnell (1994) eq. 2 at y = 0.5 (x = 2.32 µm⁻¹), evaluated by hand
-    # from the published coefficients.
+    # from the published coefficients. Degree-8 polynomials with terms of order 1-10 lose at
+    # most a digit to cancellation: 1e-12 is rounding.
     y = 0.5
     a = (1 + 0.104 * y - 0.609 * y**2 + 0.701 * y**3 + 1.137 * y**4
          - 1.718 * y**5 - 0.827 * y**6 + 1.647 * y**7 - 0.505 * y**8)

@@ -11,7 +11,8 @@ from redcorr.exceptions import InputError
 @pytest.mark.parametrize("r_v", [2.5, 3.1, 4.3, 5.5])
 def test_f99_passes_through_its_anchors(r_v):
     # Fitzpatrick (1999) Table 4: optical/IR spline anchors in A(λ)/E(B-V),
-    # values quoted from memory.
+    # values quoted from memory. A spline passes through its knots: equal up to the rounding
+    # of the spline's linear solve, hence 1e-10.
     lam_aa = np.array([26500, 12200, 6000, 5470, 4670, 4110.0])
     expected = [
         0.265 * r_v / 3.1,
@@ -28,7 +29,8 @@ def test_f99_passes_through_its_anchors(r_v):
 def test_f99_ultraviolet_is_fm90(r_v):
     # Fitzpatrick (1999) Sect. 3: c2 = -0.824 + 4.717/R_V, c1 = 2.030 - 3.007 c2,
     # c3 = 3.23, c4 = 0.41, x0 = 4.596, γ = 0.99 (from memory); with
-    # A/E(B-V) = k + R_V (FM90 eq. 2 plus the definition of R_V).
+    # A/E(B-V) = k + R_V (FM90 eq. 2 plus the definition of R_V). The same formula: rounding
+    # only (1e-12).
     x = np.array([3.8, 4.6, 6.0, 8.0, 10.0])
     c2 = -0.824 + 4.717 / r_v
     k = fm90_excess(x, 2.030 - 3.007 * c2, c2, 3.23, 0.41, 4.596, 0.99)
@@ -36,22 +38,24 @@ def test_f99_ultraviolet_is_fm90(r_v):
 
 
 def test_fm90_drude_peak():
-    # FM90 eq. 3: D(x0) = 1/γ² exactly, so the bump adds c3/γ² at x0.
+    # FM90 eq. 3: D(x0) = 1/γ² exactly, so the bump adds c3/γ² at x0 (to rounding, 1e-12).
     c3, gamma, x0 = 3.23, 0.99, 4.596
     with_bump = fm90_excess(x0, 0.0, 0.0, c3, 0.0, x0, gamma)
     assert_allclose(with_bump, c3 / gamma**2, rtol=1e-12)
 
 
 def test_fm90_far_uv_curvature():
-    # FM90 eq. 4: F(x) = 0.5392 (x-5.9)^2 + 0.05644 (x-5.9)^3 above 5.9 µm⁻¹.
-    assert_allclose(fm90_excess(7.9, 0, 0, 0, 1.0, 4.6, 1.0), 0.5392 * 4 + 0.05644 * 8)
+    # FM90 eq. 4: F(x) = 0.5392 (x-5.9)^2 + 0.05644 (x-5.9)^3 above 5.9 µm⁻¹ (to rounding; 7.9 - 5.9
+    # is 2 only to 1e-16), and exactly 0 below it, where eq. 4 has no term.
+    assert_allclose(fm90_excess(7.9, 0, 0, 0, 1.0, 4.6, 1.0), 0.5392 * 4 + 0.05644 * 8, rtol=1e-12)
     assert fm90_excess(5.5, 0, 0, 0, 1.0, 4.6, 1.0) == 0.0
 
 
 def test_fm90_curve_and_its_range():
     curve = FM90(3.1, c1=0.1, c2=0.7, c3=3.0, c4=0.4, x0=4.6, gamma=1.0)
     x = 5.0
-    assert_allclose(curve(1 / x), fm90_excess(x, 0.1, 0.7, 3.0, 0.4, 4.6, 1.0) / 3.1 + 1)
+    # A/A_V = k/R_V + 1 (FM90 eq. 2 and the definition of R_V); rounding only
+    assert_allclose(curve(1 / x), fm90_excess(x, 0.1, 0.7, 3.0, 0.4, 4.6, 1.0) / 3.1 + 1, rtol=1e-12)
     with pytest.raises(InputError, match="fm90 range"):
         curve(0.55)
     with pytest.raises(InputError, match="gamma"):
@@ -61,7 +65,8 @@ def test_fm90_curve_and_its_range():
 @pytest.mark.parametrize("r_v", [2.5, 3.1, 5.5])
 def test_f99_continuous_at_2700(r_v):
     # The spline takes its two UV knots from FM90, so the curve is continuous
-    # where the description switches (Fitzpatrick 1999, Sect. 3).
+    # where the description switches (Fitzpatrick 1999, Sect. 3). Bound 1e-6: the 1e-9 step
+    # either side times the slope (~1 per µm⁻¹) plus rounding.
     eps = 1e-9
     x0 = 1 / 0.27
     left, right = F99(r_v)([1 / (x0 - eps), 1 / (x0 + eps)])
@@ -80,21 +85,22 @@ def test_f99_continuous_at_2700(r_v):
 )
 def test_gordon03_ultraviolet_and_r_v(cls, r_v, fm):
     curve = cls()
-    assert curve.r_v == r_v
+    assert curve.r_v == r_v  # bitwise: the published R_V is stored as the same decimal literal
     x = np.array([4.0, 4.6, 6.5, 8.5])
+    # the FM90 formula with the published parameters: rounding only (1e-12)
     assert_allclose(curve(1 / x), fm90_excess(x, *fm) / r_v + 1, rtol=1e-12)
     # R_V = A_V/E(B-V) with E(B-V) = A_B - A_V (definition, common practice,
     # no source), at the anchors B = 0.44, V = 0.55 µm: the published optical
     # values and the published R_V agree to 0.03 (broad-band vs single-λ).
     assert_allclose(curve(0.44) - curve(0.55), 1 / r_v, atol=0.03)
-    # A(V)/A(V) = 1 at the V anchor.
+    # A(V)/A(V) = 1 at the V anchor (normalisation; rounding only).
     assert_allclose(curve(0.55), 1.0, rtol=1e-12)
 
 
 def test_gordon03_fixed_r_v():
     with pytest.raises(InputError, match="fixed R_V of 2.74"):
         G03SMCBar(3.1)
-    assert G03SMCBar(2.74).r_v == 2.74
+    assert G03SMCBar(2.74).r_v == 2.74  # bitwise: the value passed is the value stored
 
 
 @pytest.mark.parametrize("cls", [F99, G03SMCBar, G03LMCAverage, G03LMC2])

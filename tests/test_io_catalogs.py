@@ -34,6 +34,7 @@ def test_write_read_round_trip_in_chunks(tmp_path, suffix):
         chunks = list(reader)
     assert [len(c) for c in chunks] == [7, 7, 7, 4]
     back = pd.concat(chunks, ignore_index=True)
+    # bitwise: every format stores doubles losslessly (binary, or text with round-trip digits)
     for col in frame.columns:
         assert back[col].tolist() == frame[col].tolist(), col
 
@@ -42,7 +43,7 @@ def test_csv_delimiter_and_comment_lines(tmp_path):
     path = tmp_path / "c.txt"
     path.write_text("# made up\n# more\nid;kw_v;ebv\n1;15.0;0.1\n# a note between rows\n2;16.5;0.2\n")
     frame = read_catalog(path, delimiter=";")
-    assert frame["kw_v"].tolist() == [15.0, 16.5]
+    assert frame["kw_v"].tolist() == [15.0, 16.5]  # exact: short decimals parsed to the nearest double
 
 
 def _csv(tmp_path, n=40, name="in.csv"):
@@ -70,13 +71,15 @@ def test_csv_parquet_fits_inputs_give_identical_results(tmp_path):
         out = tmp_path / f"out_{suffix}.parquet"
         correct_file(src, out, lambda c: _make(c, colours=[("kw-b", "kw-v")]), chunk_rows=11)
         results.append(pd.read_parquet(out))
+    # bitwise: every format hands the corrector the same doubles, and the correction is row-wise
     for other in results[1:]:
         pd.testing.assert_frame_equal(other, results[0], check_dtype=False, check_exact=True)
 
 
 def test_text_output_rounds_computed_columns_only(tmp_path):
     # CSV and ECSV carry the computed columns to TEXT_DECIMALS decimals; the input columns are
-    # copied to the last bit, and Parquet keeps the computed ones in full.
+    # copied to the last bit, and Parquet keeps the computed ones in full. Bitwise comparisons:
+    # rounding to TEXT_DECIMALS and reading back must give exactly pandas' own rounding.
     frame = intrinsic(30, seed=4)
     frame["kw_v"] += 1e-9 * np.arange(30) + np.pi * 1e-12  # input values needing 17 digits
     src = write_catalog(frame, tmp_path / "in.parquet")
@@ -148,6 +151,7 @@ def test_csv_to_csv_copies_the_input_text_unchanged(tmp_path):
     back, typed = read_catalog(out), read_catalog(tmp_path / "typed.parquet")
     computed = [c for c in typed.columns if c not in _names_in(text) and typed[c].dtype.kind == "f"]
     typed[computed] = typed[computed].round(TEXT_DECIMALS)
+    # bitwise: the same rounding of the same doubles, and input text parsed to the same doubles
     pd.testing.assert_frame_equal(back, typed, check_dtype=False, check_exact=True)
     assert back["note"].iloc[6] == "cluster, core" and back["note"].iloc[7] == 'say "hi"'
     flags = back["dered_flags"].to_numpy()
@@ -299,7 +303,8 @@ _CHUNK_SRC = intrinsic(37, seed=12)
 @settings(max_examples=8, deadline=None)
 @given(st.integers(min_value=1, max_value=40))
 def test_file_output_does_not_depend_on_chunk_rows(chunk_rows):
-    # Chunk-size invariance through the whole file path (reader re-batching + writer).
+    # Chunk-size invariance through the whole file path (reader re-batching + writer): bitwise
+    # identity of the files is what is tested, as every row is computed and written alike.
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
         src = write_catalog(_CHUNK_SRC, tmp / "in.csv")
@@ -329,7 +334,7 @@ def test_fits_output_streams_chunks_of_varying_strings_and_missing_integers(tmp_
     back = read_catalog(out)
     assert np.isnan(back["count"].iloc[1]) and back["count"].iloc[2] == 3  # integers with gaps become floats
     assert list(table["ok"][:3]) == [True, False, True]
-    np.testing.assert_array_equal(table["x"], frame["x"])
+    np.testing.assert_array_equal(table["x"], frame["x"])  # bitwise: FITS stores binary doubles
     assert sorted(p.name for p in tmp_path.iterdir()) == ["out.fits"]  # spool removed
 
 
@@ -340,6 +345,7 @@ def test_reads_ecsv_written_by_astropy_with_spaces(tmp_path):
     table["kw_v"].unit = "mag"
     table.write(tmp_path / "t.ecsv")  # astropy's default: space-delimited, quoted strings
     frame = read_catalog(tmp_path / "t.ecsv", chunk_rows=1)
+    # exact: 15.5 and 16.25 are binary fractions written and parsed without loss
     assert frame["name"].tolist() == ["star one", "two"] and frame["kw_v"].tolist() == [15.5, 16.25]
 
 
@@ -389,11 +395,14 @@ def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffi
         with CatalogWriter(frames_out, meta=meta, computed=corr.output_columns) as writer:
             for frame in reader:
                 writer.write(corr.correct(frame)[reader.columns + corr.output_columns])
+    # Bitwise identity is what is tested: both paths run the same row-wise arithmetic and the
+    # same writer, so the files (or, where the text of the input is copied, the values read
+    # back) must agree to the last bit.
     if (in_suffix, out_suffix) == ("csv", "csv"):  # fields copied as text: same values, not same bytes
-        pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out))
+        pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out), check_exact=True)
     elif out_suffix in ("csv", "ecsv"):
         assert arrow_out.read_bytes() == frames_out.read_bytes()
     elif out_suffix == "parquet":
         assert pq.read_table(arrow_out).equals(pq.read_table(frames_out), check_metadata=True)
     else:
-        pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out))
+        pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out), check_exact=True)

@@ -80,6 +80,7 @@ def test_healpix_vector_cells_and_column_choice(tmp_path):
     chosen = open_map(path, column="ebv", interpolation="nearest")
     by_number = open_map(path, column=1, interpolation="nearest")
     index = astropy_healpix.lonlat_to_healpix(40 * u.deg, 20 * u.deg, nside)
+    # rel 1e-6: the file stores float32 (relative rounding 6e-8)
     assert first.lookup(40.0, 20.0, "galactic")[0] == pytest.approx(3.1 * values[index], rel=1e-6)
     assert chosen.lookup(40.0, 20.0, "galactic")[0] == pytest.approx(values[index], rel=1e-6)
     assert by_number.lookup(40.0, 20.0, "galactic")[0] == pytest.approx(values[index], rel=1e-6)
@@ -97,7 +98,7 @@ def test_healpix_partial_explicit_equatorial(tmp_path):
     hp_map = open_map(path)
     assert hp_map.frame.name == "icrs" and hp_map.pixels.size == pixels.size
     got, flags = hp_map.lookup([101.25, 200.0], [-27.4, 10.0])
-    assert got[0] == pytest.approx(0.4) and flags[0] == 0
+    assert got[0] == pytest.approx(0.4, rel=1e-6) and flags[0] == 0  # 0.4 stored as float32
     assert np.isnan(got[1]) and flags[1] == FLAG_OUTSIDE
 
 
@@ -108,6 +109,7 @@ def test_healpix_partial_by_firstpix_lastpix(tmp_path):
     hp_map = open_map(path, interpolation="nearest")
     lon, lat = astropy_healpix.healpix_to_lonlat([15, 100], nside)
     got, flags = hp_map.lookup(lon.deg, lat.deg, "galactic")
+    # bitwise: nearest pixel, and 15 is exact in float32
     assert got[0] == 15 and flags[0] == 0 and flags[1] == FLAG_OUTSIDE
 
 
@@ -145,7 +147,7 @@ def test_image_with_degenerate_third_axis(tmp_path):
     path = tmp_path / "cube.fits"
     fits.PrimaryHDU(np.full((1, 5, 5), 0.7, dtype=np.float32), header=wcs.to_header()).writeto(path)
     value, flag = open_map(path).lookup(10.0, 20.0)
-    assert value == pytest.approx(0.7) and flag == 0
+    assert value == pytest.approx(0.7, rel=1e-6) and flag == 0  # 0.7 stored as float32
 
 
 def test_description_file(tmp_path):
@@ -164,10 +166,11 @@ def test_description_file(tmp_path):
         "nearest",
     )
     index = astropy_healpix.lonlat_to_healpix(40 * u.deg, 20 * u.deg, nside)
+    # rel 1e-6: the file stores float32 (relative rounding 6e-8)
     expected = 2.0 * healpix_values(nside, "ring")[index]
     assert hp_map.lookup(40.0, 20.0, "galactic")[0] == pytest.approx(expected, rel=1e-6)
     assert hp_map.ebv(40.0, 20.0, "galactic")[0] == pytest.approx(expected / 3.1, rel=1e-6)
-    assert open_map(desc, scale=1.0).scale == 1.0  # arguments win over the file
+    assert open_map(desc, scale=1.0).scale == 1.0  # arguments win over the file (stored as given)
 
 
 def test_description_with_hemisphere_tables(tmp_path):
@@ -248,7 +251,7 @@ def test_positions_outside_partial_map_are_nan_and_flagged(tmp_path):
     wcs.wcs.cdelt = [-0.05, 0.05]
     path = write_image(tmp_path / "field.fits", np.full((20, 20), 0.6), wcs)
     values, flags = open_map(path).lookup([101.25, 0.0, 101.25], [-27.4, 0.0, 60.0])
-    assert values[0] == pytest.approx(0.6) and flags[0] == 0
+    assert values[0] == pytest.approx(0.6, rel=1e-6) and flags[0] == 0  # 0.6 stored as float32
     assert np.all(np.isnan(values[1:])) and np.all(flags[1:] == FLAG_OUTSIDE)
 
 

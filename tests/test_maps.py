@@ -7,6 +7,7 @@ from _synthetic_maps import car_wcs, healpix_values, image_values, smooth, zea_p
 from astropy import units as u
 from astropy.coordinates import FK5, SkyCoord
 from astropy.wcs import WCS
+from published import GALACTIC_CENTRE_B1950, NGP_J2000_DEG, NODE_L_DEG
 
 from redcorr.exceptions import InputError
 from redcorr.maps import (
@@ -47,6 +48,7 @@ def test_nearest_pixel_index_matches_astropy_healpix(order):
     lon, lat = _random_sky(20000)
     got, flags = hp_map.lookup(lon, lat, frame="galactic", interpolation="nearest")
     expected = astropy_healpix.lonlat_to_healpix(lon * u.deg, lat * u.deg, nside, order=order)
+    # bitwise: the map's values are the pixel indices, integers exact in float64
     np.testing.assert_array_equal(got, expected)
     assert not flags.any()
 
@@ -62,6 +64,8 @@ def test_pixel_centres_return_the_pixel_value(order):
     lon, lat = astropy_healpix.healpix_to_lonlat(index, nside, order=order)
     for method in ("bilinear", "nearest"):
         got, flags = hp_map.lookup(lon.deg, lat.deg, frame="galactic", interpolation=method)
+        # the centres pass through degrees and back (rounding ~1e-14 rad), so the bilinear
+        # weights are 1 and 0 only to ~1e-12; values are ~1, hence atol 1e-9
         np.testing.assert_allclose(got, values[index], rtol=0, atol=1e-9)
         assert not flags.any()
 
@@ -153,41 +157,47 @@ def test_zenithal_hemisphere_pair_covers_the_sky():
 
 
 def test_north_galactic_pole_j2000():
-    # J2000 north galactic pole RA 192.85948°, Dec +27.12825° and the galactic longitude of the
-    # ascending node of the galactic plane on the equator, l = 32.93192° (ESA 1997, The Hipparcos
-    # and Tycho Catalogues, Vol. 1, Sect. 1.5.3; from memory). Galactic coordinates as defined by
-    # the IAU in 1958 (Blaauw et al. 1960, MNRAS 121, 123).
-    _, b = transform_lonlat(np.array([192.85948]), np.array([27.12825]), FK5(), _galactic())
+    # J2000 north galactic pole and the galactic longitude of the ascending node of the galactic
+    # plane on the equator (ESA 1997, The Hipparcos and Tycho Catalogues, Vol. 1, Sect. 1.5.3;
+    # tests/published.py). Galactic coordinates as defined by the IAU in 1958 (Blaauw et al.
+    # 1960, MNRAS 121, 123). abs 1e-4 deg: the values are quoted to 1e-5 deg, and FK5 J2000 and
+    # ICRS differ by the ~20 mas frame tie (6e-6 deg).
+    ra, dec = NGP_J2000_DEG
+    _, b = transform_lonlat(np.array([ra]), np.array([dec]), FK5(), _galactic())
     assert b[0] == pytest.approx(90.0, abs=1e-4)
-    lon, b = transform_lonlat(np.array([192.85948 + 90.0]), np.array([0.0]), FK5(), _galactic())
-    assert (lon[0], b[0]) == pytest.approx((32.93192, 0.0), abs=1e-4)
+    lon, b = transform_lonlat(np.array([ra + 90.0]), np.array([0.0]), FK5(), _galactic())
+    assert (lon[0], b[0]) == pytest.approx((NODE_L_DEG, 0.0), abs=1e-4)
 
 
 def test_galactic_centre_direction():
-    # IAU 1958 system (Blaauw et al. 1960, MNRAS 121, 123): l = b = 0 lies at B1950 (FK4)
-    # RA 17h42.4m, Dec -28°55' (from memory; quoted to 0.1 min and 1 arcmin, hence the tolerance).
-    from astropy.coordinates import FK4  # noqa: PLC0415
+    # IAU 1958 system (Blaauw et al. 1960, MNRAS 121, 123; tests/published.py): l = b = 0 lies at
+    # B1950 (FK4) RA 17h42.4m, Dec -28°55', quoted to 0.1 min (0.025°) and 1 arcmin (0.017°),
+    # hence the tolerances.
+    from astropy.coordinates import FK4
 
+    (hours, minutes), (degrees, arcmin) = GALACTIC_CENTRE_B1950
     ra, dec = transform_lonlat(np.array([0.0]), np.array([0.0]), _galactic(), FK4(equinox="B1950"))
-    assert ra[0] == pytest.approx(15 * (17 + 42.4 / 60), abs=0.03)
-    assert dec[0] == pytest.approx(-(28 + 55 / 60), abs=0.02)
+    assert ra[0] == pytest.approx(15 * (hours + minutes / 60), abs=0.03)
+    assert dec[0] == pytest.approx(degrees - arcmin / 60, abs=0.02)
 
 
 def test_lookup_in_equatorial_frames_reaches_galactic_map():
     # A galactic map holding sin(b) must give 1 at the north galactic pole asked in J2000 RA/Dec
-    # (Hipparcos Vol. 1 Sect. 1.5.3, from memory) and 0 on the galactic plane.
+    # (Hipparcos Vol. 1 Sect. 1.5.3; tests/published.py) and 0 on the galactic plane. abs 1e-3:
+    # bilinear interpolation error ~h² = 2.6e-4 at NSIDE 64 (first order within ~10° of the pole,
+    # where sin b is flat).
     nside = 64
     hp_map = HealpixMap(healpix_values(nside, "ring", lambda lon, b: np.sin(np.radians(b))), nside, "ring")
-    ngp, _ = hp_map.lookup(192.85948, 27.12825, frame="fk5")
+    ngp, _ = hp_map.lookup(*NGP_J2000_DEG, frame="fk5")
     assert ngp == pytest.approx(1.0, abs=1e-3)
-    node = SkyCoord(282.85948 * u.deg, 0 * u.deg, frame="fk5")
+    node = SkyCoord((NGP_J2000_DEG[0] + 90.0) * u.deg, 0 * u.deg, frame="fk5")
     value, flag = hp_map.lookup_coord(node)
     assert value == pytest.approx(0.0, abs=1e-3) and flag == 0
     assert hp_map.lookup(0.0, 0.0, frame="galactic")[0] == pytest.approx(0.0, abs=1e-3)
 
 
 def _galactic():
-    from astropy.coordinates import Galactic  # noqa: PLC0415
+    from astropy.coordinates import Galactic
 
     return Galactic()
 
@@ -209,6 +219,7 @@ def test_partial_map_matches_full_map_inside_and_flags_outside():
     got, flags = part.lookup(lon, lat, frame="galactic")
     ref, _ = full.lookup(lon, lat, frame="galactic")
     assert list(flags[:2]) == [0, 0]
+    # the same four pixels and weights from partial and full storage: rounding only
     np.testing.assert_allclose(got[:2], ref[:2], rtol=1e-12)
     assert flags[2] in (0, FLAG_PARTIAL, FLAG_OUTSIDE)  # at the rim: depends on the pixel
     assert list(flags[3:]) == [FLAG_OUTSIDE, FLAG_OUTSIDE]
@@ -231,6 +242,7 @@ def test_unsorted_explicit_pixels_are_accepted():
     part, _ = _cone_map()
     shuffle = np.random.default_rng(0).permutation(part.pixels.size)
     again = HealpixMap(part.values[shuffle], 64, "nested", pixels=part.pixels[shuffle])
+    # bitwise: the same pixels and weights, whatever order they are stored in
     np.testing.assert_array_equal(again.lookup(31.0, 21.0, "galactic")[0], part.lookup(31.0, 21.0, "galactic")[0])
 
 
@@ -249,10 +261,11 @@ def test_blank_pixels_flag_and_nan():
     # a quarter of the way from the next pixel in the ring towards the blank one: the blank
     # pixel carries weight, so the value comes from the others, flagged partial
     lon2, _ = astropy_healpix.healpix_to_lonlat(hole + 2, nside)
+    # (the other pixels all hold 1: renormalised weights give 1 to rounding, hence 1e-12)
     near, flag = hp_map.lookup(0.75 * lon2.deg + 0.25 * lon.deg, lat.deg, frame="galactic")
-    assert flag == FLAG_PARTIAL and near == pytest.approx(1.0)
+    assert flag == FLAG_PARTIAL and near == pytest.approx(1.0, rel=1e-12)
     centre, flag = hp_map.lookup(lon2.deg, lat.deg, frame="galactic")  # zero weight on the blank one
-    assert flag == 0 and centre == pytest.approx(1.0)
+    assert flag == 0 and centre == pytest.approx(1.0, rel=1e-12)
 
 
 def test_image_outside_and_blank():
@@ -268,11 +281,12 @@ def test_image_outside_and_blank():
     x, y = 4.0, 4.0
     ra, dec = wcs.pixel_to_world_values(x, y)
     values, flags = image.lookup([ra, 101.25, 110.0], [dec, -27.2, -27.4])
+    # a uniform image of 2 scaled by 1.5: weights summing to 1 give 3 to rounding (1e-12)
     assert flags[0] == FLAG_BLANK and np.isnan(values[0])
-    assert flags[1] == 0 and values[1] == pytest.approx(3.0)  # scale 1.5 applied
+    assert flags[1] == 0 and values[1] == pytest.approx(3.0, rel=1e-12)
     assert flags[2] == FLAG_OUTSIDE and np.isnan(values[2])
     ebv, _ = image.ebv(101.25, -27.2)
-    assert ebv == pytest.approx(3.0 / 4.0)  # E(B-V) = A_V / R_V (definition of R_V)
+    assert ebv == pytest.approx(3.0 / 4.0, rel=1e-12)  # E(B-V) = A_V / R_V (definition of R_V)
 
 
 def test_later_image_fills_blank_of_earlier():
@@ -281,7 +295,7 @@ def test_later_image_fills_blank_of_earlier():
     second = np.full(shape, 0.5)
     image = ImageMap([ImageTile(first, wcs), ImageTile(second, wcs)])
     values, flags = image.lookup(10.0, 10.0, frame="galactic")
-    assert values == pytest.approx(0.5) and flags == 0
+    assert values == pytest.approx(0.5, rel=1e-12) and flags == 0  # uniform 0.5: rounding only
 
 
 def test_nan_positions_are_flagged_not_errors():
@@ -294,6 +308,8 @@ def test_nan_positions_are_flagged_not_errors():
 def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
     # Large lookups sample chunks in threads; tiny chunks here make several of them. The result
     # (values, flags, including blank pixels and unusable positions) must not depend on it.
+    # Bitwise identity is what is tested: each position is computed by the same arithmetic in
+    # whichever chunk or thread it falls.
     import redcorr.maps as maps
 
     values = healpix_values(16, "ring")
@@ -317,7 +333,7 @@ def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
 def test_scalar_in_scalar_out_and_broadcasting():
     hp_map = HealpixMap(np.full(12, 0.25), 1, "ring", scale=2.0)
     value, flag = hp_map.lookup(10.0, 20.0)
-    assert np.ndim(value) == 0 and value == pytest.approx(0.5) and flag == 0
+    assert np.ndim(value) == 0 and value == pytest.approx(0.5, rel=1e-12) and flag == 0  # 0.25 × 2
     values, flags = hp_map.lookup(np.zeros((3, 1)), np.zeros(4) * u.deg)
     assert values.shape == flags.shape == (3, 4)
 
