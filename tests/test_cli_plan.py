@@ -142,10 +142,8 @@ def test_missing_sky_value_in_a_user_instrument(tmp_path, capsys):
     assert "sky_mag_arcsec2 is missing" in capsys.readouterr().err
 
 
-def test_demo_plans_the_brume_field_target(capsys):
-    assert main(["demo"]) == 0
-    out = capsys.readouterr().out
-    assert "Exposure planning" in out and CAUTION in out
+def test_demo_plans_the_brume_field_target(demo_output):
+    assert "Exposure planning" in demo_output and CAUTION in demo_output
 
 
 def test_grain_model_fixes_its_own_rv(capsys):

@@ -1,10 +1,6 @@
-"""``redcorr demo`` runs end to end on the bundled scenario."""
-
-from redcorr.cli import main
+"""``redcorr demo`` runs end to end on the bundled scenario (once per session: see ``demo_output`` in conftest.py)."""
 
 
-def test_demo_runs(capsys):
-    assert main(["demo"]) == 0
-    out = capsys.readouterr().out
-    assert "Brume Field" in out
-    assert "kw-v" in out
+def test_demo_runs(demo_output):
+    assert "Brume Field" in demo_output
+    assert "kw-v" in demo_output

@@ -3,7 +3,7 @@
 import numpy as np
 import pandas as pd
 import pytest
-from tui_helpers import private_config, run_app, set_value, type_into, until  # noqa: F401
+from tui_helpers import run_app, set_value, type_into, until
 
 from redcorr._paths import project_dir
 from redcorr.cli import build_parser, main
@@ -12,6 +12,8 @@ from redcorr.colours import colour_magnitude
 from redcorr.correct import Correction
 from redcorr.tui._inputs import catalog_probe, correction_options, guess_mapping
 from redcorr.tui.widgets import StatusLine, XYPlot
+
+pytestmark = pytest.mark.usefixtures("private_config")
 
 DEMO = project_dir("demo") / "brume_catalog.csv"
 
@@ -29,49 +31,38 @@ async def wait_for_run(pilot):
     await until(pilot, lambda: not pilot.app.screen.running, "the correction")
 
 
-def test_demo_catalog_correction_writes_what_the_cli_writes(tmp_path):
+def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_values(tmp_path):
+    """One session on the Catalog screen: a run, a cancelled run, bad values, a grain model run."""
     tui_out, cli_out = tmp_path / "tui.csv", tmp_path / "cli.csv"
+    grain_tui, grain_cli = tmp_path / "grain_tui.csv", tmp_path / "grain_cli.csv"
+    later = tmp_path / "later"  # the cancelled run's folder: it must stay empty
+    later.mkdir()
+    out = later / "out.csv"
 
     async def script(app, pilot):
+        # the demo catalog, corrected with R_V = 4.3
         await set_value(pilot, "#r-v", "4.3")
         await open_demo(pilot, tui_out)
         screen = app.screen
+        status = screen.query_one(StatusLine)
         # the guessed mapping and reddening column of the demo file
         assert screen.query_one("#cat-mapping").mapping["kw-v"] == ("kw_v", "e_kw_v")
         assert app.session.cat_red_value == "ebv"
         await pilot.press("ctrl+r")
         await wait_for_run(pilot)
-        assert screen.query_one(StatusLine).message == f"wrote {tui_out}"
+        assert status.message == f"wrote {tui_out}"
         assert screen.summary.rows == 300
-        return screen.query_one(XYPlot).series
+        series = screen.query_one(XYPlot).series
 
-    series = run_app(script, size=(150, 60))
-    # the diagram shows the core's colour-magnitude points of the written file (redcorr.colours)
-    _, written = catalog_probe(tui_out, 5000)
-    expected = colour_magnitude(written, "kw_b", "kw_v")
-    assert [name for name, _, _ in series] == list(expected) == ["as observed", "corrected"]
-    for name, x, y in series:
-        np.testing.assert_array_equal(x, expected[name][0])
-        np.testing.assert_array_equal(y, expected[name][1])
-    bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
-    argv = ["correct", str(DEMO), str(cli_out), *bands, "--law", "f99", "--rv", "4.3", "--ebv-col", "ebv",
-            "--colour", "kw-b,kw-v", "--quiet"]
-    assert main(argv) == 0
-    assert tui_out.read_bytes() == cli_out.read_bytes()
-
-
-def test_cancel_leaves_no_output_and_bad_values_leave_the_app_usable(tmp_path):
-    out = tmp_path / "out.csv"
-
-    async def script(app, pilot):
-        await open_demo(pilot, out)
-        screen = app.screen
-        status = screen.query_one(StatusLine)
+        # a run cancelled before its first chunk is done writes nothing
+        await set_value(pilot, "#cat-output", str(out))
         screen.action_run()
-        screen.action_cancel()  # before the first chunk is done
+        screen.action_cancel()
         await wait_for_run(pilot)
         assert status.message == "cancelled: nothing was written"
-        assert [p.name for p in tmp_path.iterdir() if p.name != "config"] == []  # no partial file
+        assert list(later.iterdir()) == []  # no partial file, no temporary
+
+        # bad values: a message, refused before any thread starts, the app still usable
         for selector, text, message in [
             ("#cat-red-value", "no_such_column", "no_such_column"),
             ("#cat-teff", "hot", "temperature='hot' is not a number"),
@@ -108,7 +99,34 @@ def test_cancel_leaves_no_output_and_bad_values_leave_the_app_usable(tmp_path):
         await wait_for_run(pilot)
         assert "exists" in status.message and status.has_class("-error")
 
-    run_app(script, size=(150, 60))
+        # a grain model, as if just chosen on the Dust screen
+        app.session.law = "mrn77"
+        await set_value(pilot, "#cat-output", str(grain_tui))
+        await pilot.click("#cat-open")
+        dust = screen.query_one("#cat-dust")
+        await until(pilot, lambda: screen._mapped and "mrn77" in str(dust.render()),
+                    "the grain model and the column mapping")
+        await pilot.press("ctrl+r")
+        await wait_for_run(pilot)
+        assert status.message == f"wrote {grain_tui}"
+        return series
+
+    series = run_app(script, size=(150, 60))
+    # the diagram shows the core's colour-magnitude points of the written file (redcorr.colours);
+    # bitwise: the UI draws the core's numbers, it computes none of its own
+    _, written = catalog_probe(tui_out, 5000)
+    expected = colour_magnitude(written, "kw_b", "kw_v")
+    assert [name for name, _, _ in series] == list(expected) == ["as observed", "corrected"]
+    for name, x, y in series:
+        np.testing.assert_array_equal(x, expected[name][0])
+        np.testing.assert_array_equal(y, expected[name][1])
+    # byte for byte: the files `redcorr correct` writes with the same settings
+    bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
+    common = [*bands, "--ebv-col", "ebv", "--colour", "kw-b,kw-v", "--quiet"]
+    assert main(["correct", str(DEMO), str(cli_out), "--law", "f99", "--rv", "4.3", *common]) == 0
+    assert tui_out.read_bytes() == cli_out.read_bytes()
+    assert main(["correct", str(DEMO), str(grain_cli), "--law", "mrn77", *common]) == 0
+    assert grain_tui.read_bytes() == grain_cli.read_bytes()
 
 
 @pytest.mark.parametrize(
@@ -131,25 +149,5 @@ def test_constant_and_map_reddening_set_up_the_correction_as_the_cli_does(kind, 
     a = Correction(bands, columns=columns, **ours)
     b = Correction(bands, columns=columns, **theirs)
     assert a.setup() == b.setup()
-    pd.testing.assert_frame_equal(a.correct(first), b.correct(first))
-
-
-def test_a_grain_model_run_writes_what_the_cli_writes(tmp_path, monkeypatch):
-    monkeypatch.setenv("REDCORR_CACHE_DIR", str(tmp_path / "cache"))
-    tui_out, cli_out = tmp_path / "tui.csv", tmp_path / "cli.csv"
-
-    async def script(app, pilot):
-        app.session.law = "mrn77"
-        await open_demo(pilot, tui_out)
-        screen = app.screen
-        await until(pilot, lambda: screen._mapped, "the grain model and the column mapping")
-        await pilot.press("ctrl+r")
-        await wait_for_run(pilot)
-        assert screen.query_one(StatusLine).message == f"wrote {tui_out}"
-
-    run_app(script, size=(150, 60))
-    bands = [a for b in ("kw-b", "kw-v", "kw-r", "kw-i") for a in ("--band", b)]
-    argv = ["correct", str(DEMO), str(cli_out), *bands, "--law", "mrn77", "--ebv-col", "ebv",
-            "--colour", "kw-b,kw-v", "--quiet"]
-    assert main(argv) == 0
-    assert tui_out.read_bytes() == cli_out.read_bytes()
+    # exact: the same options must give the same numbers, not merely close ones
+    pd.testing.assert_frame_equal(a.correct(first), b.correct(first), check_exact=True)

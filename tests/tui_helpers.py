@@ -1,16 +1,15 @@
-"""Shared helpers of the headless TUI tests (App.run_test driven from plain pytest)."""
+"""Helpers of the headless TUI tests (App.run_test driven from plain pytest, no async plugin).
+
+The fixtures these tests use (``private_config``) are in conftest.py.
+"""
 
 import asyncio
+import time
 
-import pytest
+from textual import events
+from textual.keys import _character_to_key
 
 from redcorr.tui import RedcorrApp
-
-
-@pytest.fixture(autouse=True)
-def private_config(tmp_path, monkeypatch):
-    """Never touch the user's real configuration folder."""
-    monkeypatch.setenv("REDCORR_CONFIG_DIR", str(tmp_path / "config"))
 
 
 def run_app(script, size=(140, 44)):
@@ -26,9 +25,20 @@ def run_app(script, size=(140, 44)):
 
 
 async def type_into(pilot, selector, text):
-    """Click the input ``selector``, clear it and type ``text`` key by key, as a user would."""
+    """Click the input ``selector``, clear it and type ``text`` key by key, as a user would.
+
+    The keys are queued at once, as from a fast typist (``Pilot.press`` would wait
+    for the app to go idle after every key); the app still handles each key, and
+    each change it makes, in turn. Returns once the field holds ``text`` and the
+    app is idle again.
+    """
     await pilot.click(selector)
-    await pilot.press("end", "ctrl+u", *text)
+    await pilot.press("end", "ctrl+u")
+    for character in text:
+        # named as Textual names the key a terminal sends for this character (what Pilot.press does)
+        pilot.app.post_message(events.Key(_character_to_key(character), character))
+    field = pilot.app.screen.query_one(selector)
+    await until(pilot, lambda: field.value == text, f"{text!r} typed into {selector}")
     await pilot.pause()
 
 
@@ -38,10 +48,14 @@ async def set_value(pilot, selector, text):
     await pilot.pause()
 
 
-async def until(pilot, condition, what, steps=600):
-    """Let the app run until ``condition()`` holds (a worker thread finished)."""
-    for _ in range(steps):
-        if condition():
-            return
-        await pilot.pause(0.05)
-    raise AssertionError(f"timed out waiting for {what}")
+async def until(pilot, condition, what, timeout=60.0):
+    """Let the app run until ``condition()`` holds (e.g. a worker thread finished).
+
+    Checked every 10 ms of wall time; ``timeout`` only stops a test that would
+    otherwise hang, generous for a loaded machine.
+    """
+    end = time.monotonic() + timeout
+    while not condition():
+        if time.monotonic() > end:
+            raise AssertionError(f"timed out after {timeout:g} s waiting for {what}")
+        await pilot.pause(0.01)
