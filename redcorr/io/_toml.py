@@ -1,14 +1,9 @@
 """TOML reading for description files (instrument, map, grain model, demo)."""
 
-import sys
+import tomllib
 from pathlib import Path
 
 from redcorr.exceptions import InputError
-
-if sys.version_info >= (3, 11):
-    import tomllib
-else:  # pragma: no cover - exercised on Python 3.10 only
-    import tomli as tomllib
 
 __all__ = ["load_toml"]
 
