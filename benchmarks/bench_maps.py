@@ -5,9 +5,9 @@ temporary folder, opens it memory-mapped with redcorr, and times for the same
 random positions, in the same run:
 
 * baseline: ``astropy_healpix.lonlat_to_healpix`` alone (pixel index only);
-* ``DustMap.lookup`` nearest-pixel, positions in the map's frame (target <= 2x);
-* ``DustMap.lookup`` bilinear (the default), positions in the map's frame;
-* ``DustMap.lookup`` bilinear, positions in ICRS (adds the frame transformation);
+* ``ReddeningMap.lookup`` nearest-pixel, positions in the map's frame (target <= 2x);
+* ``ReddeningMap.lookup`` bilinear (the default), positions in the map's frame;
+* ``ReddeningMap.lookup`` bilinear, positions in ICRS (adds the frame transformation);
 * for reference, ``astropy_healpix.bilinear_interpolation_weights`` alone, the
   floor of any bilinear lookup that uses astropy-healpix.
 

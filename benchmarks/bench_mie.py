@@ -9,7 +9,7 @@ arrays; miepython writes m = n - ik, so it gets the complex conjugates.
 Sizes: x log-spaced from 0.01 to 316; one weakly absorbing index (1.5+0.01i)
 and one strongly absorbing (2+1i), plus |m| = 10 (10+0.1i). Each case is
 timed as the best of several runs that alternate between the two codes.
-redcorr's numpy fallback (no numba) is timed once per case for reference.
+redcorr's numpy engine (engine="numpy") is timed once per case for reference.
 
 Run from the repository root:  python benchmarks/bench_mie.py [REPEAT]
 """
@@ -24,8 +24,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 import numpy as np  # noqa: E402
 
-import redcorr.mie as mie_module  # noqa: E402
-from redcorr.mie import mie  # noqa: E402
+from redcorr.mie import sphere  # noqa: E402
 
 try:
     import miepython  # noqa: E402
@@ -49,7 +48,7 @@ def max_rel(a, b, mask):
 
 def main(repeat=5):
     # compile / warm both codes outside the timings
-    mie(1.5 + 0.01j, X[:50])
+    sphere(1.5 + 0.01j, X[:50], engine="numba")
     miepython.efficiencies_mx(np.full(50, 1.5 - 0.01j), X[:50])
     print(f"Mie efficiencies of {N_SIZES} sizes, x = 0.01-316 (log-spaced); best of {repeat} alternating runs")
     print(f"baseline: miepython {miepython.__version__} with MIEPYTHON_USE_JIT=1")
@@ -61,16 +60,14 @@ def main(repeat=5):
         m_peer = np.full(N_SIZES, np.conj(m))
         ours, peer = [], []
         for _ in range(repeat):
-            t, res = timed(lambda m=m: mie(m, X))
+            t, res = timed(lambda m=m: sphere(m, X, engine="numba"))
             ours.append(t)
             t, ref = timed(lambda m_peer=m_peer: miepython.efficiencies_mx(m_peer, X))
             peer.append(t)
-        mie_module.USE_NUMBA = False
-        t_numpy, res_numpy = timed(lambda m=m: mie(m, X))
-        mie_module.USE_NUMBA = True
-        assert np.allclose(res_numpy.qext, res.qext, rtol=1e-10)
+        t_numpy, res_numpy = timed(lambda m=m: sphere(m, X, engine="numpy"))
+        assert np.allclose(res_numpy.q_ext, res.q_ext, rtol=1e-10)
         mask = np.abs(m) * X >= 0.1
-        d = [max_rel(res.qext, ref[0], mask), max_rel(res.qsca, ref[1], mask), max_rel(res.g, ref[3], mask)]
+        d = [max_rel(res.q_ext, ref[0], mask), max_rel(res.q_sca, ref[1], mask), max_rel(res.g, ref[3], mask)]
         ratio = min(peer) / min(ours)
         met = ratio >= 1.0 and max(d) <= 1e-6
         ok &= met

@@ -37,7 +37,7 @@ BANDS = ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"]
 
 def core_only(r_v, bands, sed):
     curve = load_curve("f99", r_v=r_v)
-    lo, hi = curve.x_range
+    lo, hi = curve.wavenumber_limits
     curve(np.linspace(lo, min(hi, 11.0), 240) * u.um**-1)
     return band_table(curve, bands, sed, 1.0)
 

@@ -12,14 +12,12 @@ correction (:mod:`redcorr.correct`) and exposure planning
 The names below are importable from ``redcorr`` directly. Each is loaded on
 first use, so ``import redcorr`` (which every ``redcorr.*`` import runs first)
 imports neither numpy nor astropy and the command line starts quickly.
-``redcorr.mie`` is the module itself, which is callable: ``redcorr.mie(m, x)``
-is ``redcorr.mie.mie(m, x)``.
 """
 
 import importlib
 
 _LAZY = {
-    "ExtinctionCurve": "redcorr.curves",
+    "DustCurve": "redcorr.curves",
     "TabulatedCurve": "redcorr.curves",
     "get_curve": "redcorr.curves",
     "list_curves": "redcorr.curves",
@@ -37,13 +35,11 @@ _LAZY = {
     "open_map": "redcorr.io",
 }
 
-__all__ = [*_LAZY, "mie"]
+__all__ = list(_LAZY)
 __version__ = "0.1.0"
 
 
 def __getattr__(name):
     if name in _LAZY:
         return getattr(importlib.import_module(_LAZY[name]), name)
-    if name == "mie":  # importing a submodule also binds it here, so this runs once
-        return importlib.import_module("redcorr.mie")
     raise AttributeError(f"module 'redcorr' has no attribute {name!r}")

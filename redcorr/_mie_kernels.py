@@ -6,7 +6,7 @@ compiled once and cached on disk (``cache=True``).
 
 The formulation follows Bohren & Huffman (1983, §4.8) written with
 s_n(z) = z D_n(z) - (n + 1) in place of the logarithmic derivative D_n(z);
-see the docstring of :func:`redcorr.mie.mie`.
+see the docstring of :func:`redcorr.mie.sphere`.
 """
 
 import math
@@ -98,9 +98,9 @@ def _work_arrays(m, x):
 def efficiencies(m, x):
     """Q_ext, Q_sca, Q_back and g of spheres (1-d arrays m, x of one length)."""
     size = x.size
-    qext = np.empty(size)
-    qsca = np.empty(size)
-    qback = np.empty(size)
+    q_ext = np.empty(size)
+    q_sca = np.empty(size)
+    q_back = np.empty(size)
     g = np.empty(size)
     a, b, sz, sx = _work_arrays(m, x)
     for i in range(size):
@@ -128,11 +128,12 @@ def efficiencies(m, x):
             back += sign * f * (an - bn)
             sign = -sign
         scale = 2.0 / (xi * xi)
-        qext[i] = scale * ext
-        qsca[i] = scale * sca
-        qback[i] = (back.real * back.real + back.imag * back.imag) / (xi * xi)
-        g[i] = 2.0 * scale * cross / qsca[i]
-    return qext, qsca, qback, g
+        q_ext[i] = scale * ext
+        q_sca[i] = scale * sca
+        q_back[i] = (back.real * back.real + back.imag * back.imag) / (xi * xi)
+        # 0/0 only for m = 1, which sphere() sets to 0 (numba would raise ZeroDivisionError)
+        g[i] = 2.0 * scale * cross / q_sca[i] if q_sca[i] != 0.0 else math.nan
+    return q_ext, q_sca, q_back, g
 
 
 @njit(cache=True)

@@ -17,7 +17,7 @@ def band_table(curve, bands, sed, a_v, extrapolate=False):
 
     Parameters
     ----------
-    curve : ExtinctionCurve
+    curve : DustCurve
         A law, a table or a grain model (via `redcorr.io.load_curve`).
     bands : sequence of Band
     sed : SED

@@ -461,13 +461,13 @@ class Correction:
         A constant E(B-V) or A_V for every row.
     reddening_error : float
         Constant σ of the reddening (same quantity as the source).
-    dust_map : DustMap, optional
+    dust_map : ReddeningMap, optional
         From :func:`redcorr.io.maps.open_map`; looked up at ``lon_column``,
         ``lat_column`` in ``frame`` (RA/Dec "icrs" or l/b "galactic",
         guessed from the columns).
     map_scale : float
         Factor applied to the map values (e.g. a recalibration).
-    law : str or ExtinctionCurve
+    law : str or DustCurve
         Name for :func:`redcorr.io.load_curve` (law, grain model, file:PATH)
         or a curve object (then R_V is the curve's own).
     r_v : float, optional
@@ -662,8 +662,8 @@ class Correction:
             self.curve = law
         self.r_v = float(self.curve.r_v)
         varying = self.rv_col is not None or self.rv_err_col is not None or self.rv_err_const > 0
-        self.rv_range = getattr(self.curve, "r_v_range", None)
-        if varying and (self._make_curve is None or self.rv_range is None):
+        self.rv_limits = getattr(self.curve, "r_v_limits", None)
+        if varying and (self._make_curve is None or self.rv_limits is None):
             raise InputError(
                 f"law={self._law_spec!r} has a fixed R_V of {self.r_v:g}; a per-row R_V or an R_V "
                 "uncertainty needs a law with an R_V parameter (e.g. f99, ccm89)"
@@ -804,13 +804,13 @@ class Correction:
             a_band, inside = self._coefficients(None).a_band(a_v, temperature)
             slope = None
             if need_slope:
-                lo_rv = max(self.r_v - _RV_HALF_STEP, self.rv_range[0])
-                hi_rv = min(self.r_v + _RV_HALF_STEP, self.rv_range[1])
+                lo_rv = max(self.r_v - _RV_HALF_STEP, self.rv_limits[0])
+                hi_rv = min(self.r_v + _RV_HALF_STEP, self.rv_limits[1])
                 a_lo, _ = self._a_fixed_input(lo_rv, red, self.red_quantity, temperature)
                 a_hi, _ = self._a_fixed_input(hi_rv, red, self.red_quantity, temperature)
                 slope = (a_hi - a_lo) / (hi_rv - lo_rv)
             return a_band, slope, inside, np.ones(n, bool)
-        lo, hi = self.rv_range
+        lo, hi = self.rv_limits
         rv_ok = np.isfinite(rv) & (rv >= lo) & (rv <= hi)
         a_band = np.full((n, len(self.bands)), np.nan)
         slope = np.full((n, len(self.bands)), np.nan)

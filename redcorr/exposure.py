@@ -657,7 +657,7 @@ def plan_exposure(
         None, else in ``mag_band`` and carried to each band with the SED's AB
         colour; or a dict band name → magnitude (e.g. from
         :func:`ab_mag_of_spectrum` for a flux-calibrated spectrum).
-    curve : ExtinctionCurve
+    curve : DustCurve
         Law or grain model (from :func:`redcorr.io.load_curve`).
     sed : SED
         Source spectrum (for the band extinction and colours).

@@ -199,7 +199,7 @@ def band_extinction(curve, band, sed, a_v, extrapolate=False):
 
     Parameters
     ----------
-    curve : ExtinctionCurve
+    curve : DustCurve
         r(λ) = A(λ)/A(V): a law, a table or a grain model.
     band : Band
     sed : SED
@@ -309,7 +309,7 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
 
     Parameters
     ----------
-    curve : ExtinctionCurve
+    curve : DustCurve
     bands : sequence of Band
     temperatures : array_like or `~astropy.units.Quantity` ['temperature'], optional
         Increasing temperatures (plain numbers in K, > 0); default

@@ -11,8 +11,8 @@ Conventions
   instance, ...). They are carried into the map's own frame with
   :mod:`astropy.coordinates`; HEALPix pixel indices and bilinear weights come
   from :mod:`astropy_healpix`; image pixel coordinates from :mod:`astropy.wcs`.
-* A map holds E(B-V) or A_V (``DustMap.unit``), in magnitudes; every value
-  read is multiplied by ``DustMap.scale``.
+* A map holds E(B-V) or A_V (``ReddeningMap.unit``), in magnitudes; every value
+  read is multiplied by ``ReddeningMap.scale``.
 * ``lookup`` returns ``(values, flags)``. ``values`` is NaN exactly where
   ``flags`` has one of the bits `FLAG_OUTSIDE`, `FLAG_BLANK` or
   `FLAG_NO_POSITION` set:
@@ -55,9 +55,9 @@ from redcorr._validate import as_float_array, check_choice, check_finite, check_
 from redcorr.exceptions import InputError
 
 __all__ = [
-    "DustMap",
-    "HealpixMap",
-    "ImageMap",
+    "ReddeningMap",
+    "HealpixReddeningMap",
+    "ImageReddeningMap",
     "ImageTile",
     "FLAG_OUTSIDE",
     "FLAG_BLANK",
@@ -177,7 +177,7 @@ def _combine(values, good, weights):
         return (np.where(good, values, 0.0) * w).sum(axis=0) / total
 
 
-class DustMap(abc.ABC):
+class ReddeningMap(abc.ABC):
     """A reddening map: values on the sky in magnitudes of E(B-V) or A_V.
 
     Subclasses implement ``_sample(lon_deg, lat_deg, frame, method)`` for
@@ -195,7 +195,7 @@ class DustMap(abc.ABC):
     interpolation : {"bilinear", "nearest"}
         Default method of :meth:`lookup`.
     r_v : float, optional
-        R_V = A_V / E(B-V) to convert an A_V map to E(B-V) in :meth:`ebv`.
+        R_V = A_V / E(B-V) to convert an A_V map to E(B-V) in :meth:`reddening_at`.
     name : str
         A label for printing; ``sources`` lists the files it came from.
     """
@@ -296,18 +296,26 @@ class DustMap(abc.ABC):
         frame = coord.frame if hasattr(coord, "frame") else coord
         return self.lookup(sph.lon, sph.lat, frame=frame.replicate_without_data(), interpolation=interpolation)
 
-    def ebv(self, lon_deg, lat_deg, frame="icrs", interpolation=None, r_v=None):
+    def reddening_at(self, lon_deg, lat_deg, *, frame="icrs", interpolation=None, r_v=None):
         """E(B-V) at positions: the map's values, divided by R_V for an A_V map.
 
         Parameters
         ----------
-        r_v : float, optional
+        lon_deg, lat_deg : float, array_like or `~astropy.units.Quantity` ['angle']
+            Positions as in :meth:`lookup`.
+        frame : str or astropy frame, keyword-only
+            Frame of the positions, e.g. ``"icrs"`` (RA, Dec) or
+            ``"galactic"`` (l, b).
+        interpolation : {"bilinear", "nearest"}, optional, keyword-only
+            Defaults to the map's own setting.
+        r_v : float, optional, keyword-only
             R_V = A_V/E(B-V) for an A_V map; defaults to the map's ``r_v``.
             Not used for an E(B-V) map.
 
         Returns
         -------
         ebv, flags : as :meth:`lookup`
+            E(B-V) in magnitudes (NaN where the map has no data) and flags.
 
         Notes
         -----
@@ -340,7 +348,7 @@ class DustMap(abc.ABC):
         """Values and flags at positions already validated by :meth:`lookup`."""
 
 
-class HealpixMap(DustMap):
+class HealpixReddeningMap(ReddeningMap):
     """A HEALPix map, full sky or partial with explicit pixel indices.
 
     Parameters
@@ -361,13 +369,13 @@ class HealpixMap(DustMap):
         software writes `HEALPIX_UNSEEN`.
     **kwargs
         ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name``, ``sources``
-        as in `DustMap`.
+        as in `ReddeningMap`.
 
     Examples
     --------
     >>> import numpy as np
-    >>> from redcorr.maps import HealpixMap
-    >>> sky = HealpixMap(np.full(12, 0.1), nside=1, order="ring", frame="galactic")
+    >>> from redcorr.maps import HealpixReddeningMap
+    >>> sky = HealpixReddeningMap(np.full(12, 0.1), nside=1, order="ring", frame="galactic")
     >>> value, flag = sky.lookup(101.25, -27.4)  # RA, Dec in ICRS
     >>> round(float(value), 6), int(flag)
     (0.1, 0)
@@ -594,7 +602,7 @@ class ImageTile:
         return _finish_bilinear(values, good, covered, weights, flags)
 
 
-class ImageMap(DustMap):
+class ImageReddeningMap(ReddeningMap):
     """A map made of one or more images with celestial WCS (e.g. a hemisphere pair).
 
     For each position the images are tried in order; the first one giving a
@@ -606,7 +614,7 @@ class ImageMap(DustMap):
     tiles : sequence of `ImageTile`
     **kwargs
         ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name``, ``sources``
-        as in `DustMap`.
+        as in `ReddeningMap`.
     """
 
     kind = "image"

@@ -11,7 +11,7 @@ Conventions
 * Size parameter ``x = 2πa/λ`` with ``a`` the radius and ``λ`` the wavelength
   in the medium.
 * Efficiencies are cross sections divided by the geometric cross section
-  πa². ``qback`` is the radar backscattering efficiency of Bohren & Huffman
+  πa². ``q_back`` is the radar backscattering efficiency of Bohren & Huffman
   (1983, eq. 4.82), 4π times the differential cross section at 180° over πa².
 * The phase function is normalized over the sphere, ∫ p dΩ = 1 (sr⁻¹).
 
@@ -35,24 +35,35 @@ evaluation the series agrees to ~1e-15 at x = 1e-6, and it follows the
 Rayleigh power laws exactly down to x = 1e-30, the smallest size accepted; a
 truncated small-x (Rayleigh/Penndorf) expansion would only be less accurate.
 
-A numba-compiled kernel does the work when numba is importable; set the
-environment variable ``REDCORR_MIE_NUMPY=1`` before import (or
-``redcorr.mie.USE_NUMBA = False`` at run time) to use the pure numpy path,
-which gives the same numbers (to ~1e-14 relative; the two round complex
-division differently) more slowly.
-
 Every result depends only on its own (m, x): each element starts its
 recurrences at its own index and sums its own series term by term, so it is
 bitwise the same whether computed alone or among any other spheres.
 
-The module itself is callable: ``redcorr.mie(m, x)`` is ``redcorr.mie.mie(m, x)``.
+Engines
+-------
+Two engines evaluate the same formulas: a numba-compiled kernel and a pure
+numpy path, which gives the same numbers (to ~1e-14 relative; the two round
+complex division differently) more slowly. :func:`sphere`,
+:func:`sphere_amplitudes` and :func:`sphere_phase_function` take
+``engine="auto" | "numba" | "numpy"``. ``"auto"`` (the default) means the
+engine named by :func:`default_engine`: numba when it can be imported,
+unless the environment variable ``REDCORR_MIE_NUMPY=1`` was set when this
+module was imported, which selects numpy. ``"numba"`` without numba installed
+raises ImportError. Nothing in the module changes its own state at run time:
+the environment is read once at import and numba is looked up once, on the
+first call that wants it (so ``import redcorr.mie`` does not load numba).
 
 Equation and section numbers of Bohren & Huffman (1983) are cited from memory.
+
+References
+----------
+.. [1] Bohren, C. F. & Huffman, D. R. 1983, Absorption and Scattering of
+   Light by Small Particles (Wiley), §4.4 and §4.8.
+.. [2] Wiscombe, W. J. 1980, Appl. Opt. 19, 1505.
 """
 
+import functools
 import os
-import sys
-import types
 from dataclasses import dataclass
 
 import numpy as np
@@ -61,7 +72,16 @@ from astropy import units as u
 from redcorr._validate import as_float_array
 from redcorr.exceptions import InputError
 
-__all__ = ["MieResult", "mie", "amplitudes", "phase_function", "mie_coefficients", "n_terms"]
+__all__ = [
+    "SphereOptics",
+    "sphere",
+    "sphere_amplitudes",
+    "sphere_phase_function",
+    "series_coefficients",
+    "n_terms",
+    "ENGINES",
+    "default_engine",
+]
 
 X_MIN = 1.0e-30
 """Smallest size parameter accepted: below it g (∝ x²) is built from terms
@@ -70,12 +90,15 @@ X_MIN = 1.0e-30
 X_MAX = 1.0e6
 """Largest size parameter accepted (the cost grows as x · max(1, |m|))."""
 
-USE_NUMBA = os.environ.get("REDCORR_MIE_NUMPY", "").strip() in ("", "0")
-"""Whether the numba kernel is used (when numba imports); False forces numpy."""
+ENGINES = ("auto", "numba", "numpy")
+"""Values accepted by the ``engine`` keyword (see the module docstring)."""
+
+_NUMPY_REQUESTED = os.environ.get("REDCORR_MIE_NUMPY", "").strip() not in ("", "0")
+# read once, at import: REDCORR_MIE_NUMPY=1 makes engine="auto" mean numpy
 
 
 @dataclass(frozen=True)
-class MieResult:
+class SphereOptics:
     """Efficiencies and asymmetry of homogeneous spheres.
 
     Every attribute is a float64 ndarray of the broadcast shape of ``m`` and
@@ -83,25 +106,30 @@ class MieResult:
 
     Attributes
     ----------
-    qext, qsca, qabs : ndarray
+    q_ext, q_sca, q_abs : ndarray
         Extinction, scattering and absorption efficiencies, Q = C / (πa²);
-        ``qabs = qext - qsca`` (exactly 0 where Im(m) = 0).
-    qback : ndarray
+        ``q_abs = q_ext - q_sca`` (exactly 0 where Im(m) = 0).
+    q_back : ndarray
         Radar backscattering efficiency (Bohren & Huffman 1983, eq. 4.82).
     g : ndarray
         Asymmetry parameter ⟨cos θ⟩ of the scattered light.
+
+    References
+    ----------
+    .. [1] Bohren, C. F. & Huffman, D. R. 1983, Absorption and Scattering of
+       Light by Small Particles (Wiley), eqs. 4.61, 4.62 and 4.82.
     """
 
-    qext: np.ndarray
-    qsca: np.ndarray
-    qabs: np.ndarray
-    qback: np.ndarray
+    q_ext: np.ndarray
+    q_sca: np.ndarray
+    q_abs: np.ndarray
+    q_back: np.ndarray
     g: np.ndarray
 
     @property
     def albedo(self):
         """Single-scattering albedo Q_sca / Q_ext."""
-        return self.qsca / self.qext
+        return self.q_sca / self.q_ext
 
 
 def _as_index(m, convention):
@@ -308,7 +336,7 @@ def _efficiencies_numpy(m, x):
         out[0, sel] = scale * ext
         out[1, sel] = scale * sca
         out[2, sel] = (back.real * back.real + back.imag * back.imag) / (xs * xs)
-        with np.errstate(invalid="ignore"):  # 0/0 only for m = 1, which mie() sets to 0
+        with np.errstate(invalid="ignore"):  # 0/0 only for m = 1, which sphere() sets to 0
             out[3, sel] = 2.0 * scale * cross / out[1, sel]
     return out
 
@@ -330,20 +358,45 @@ def _amplitudes_numpy(m, x, mu):
     return s1, s2
 
 
-def _kernels():
-    """The numba kernel module, or None when numba is off or missing."""
-    global USE_NUMBA
-    if not USE_NUMBA:
-        return None
+@functools.cache
+def _numba_kernels():
+    """The numba kernel module, or None when numba cannot be imported (tried once)."""
     try:
         from redcorr import _mie_kernels  # noqa: PLC0415 - numba is imported only when needed
     except ImportError:
-        USE_NUMBA = False
         return None
     return _mie_kernels
 
 
-def mie(m, x, *, convention="n+ik"):
+def default_engine():
+    """The engine that ``engine="auto"`` selects.
+
+    Returns
+    -------
+    {"numba", "numpy"}
+        ``"numpy"`` when ``REDCORR_MIE_NUMPY=1`` was set at import or numba
+        cannot be imported, else ``"numba"``. Asking imports numba (once).
+    """
+    if _NUMPY_REQUESTED or _numba_kernels() is None:
+        return "numpy"
+    return "numba"
+
+
+def _kernels(engine):
+    """The numba kernel module for ``engine``, or None for the numpy path."""
+    if engine not in ENGINES:
+        raise InputError(f"engine={engine!r} is not known; choose one of {', '.join(map(repr, ENGINES))}")
+    if engine == "auto":
+        engine = default_engine()
+    if engine == "numpy":
+        return None
+    kernels = _numba_kernels()
+    if kernels is None:
+        raise ImportError("engine='numba' needs numba, which cannot be imported; use engine='numpy' or 'auto'")
+    return kernels
+
+
+def sphere(m, x, *, convention="n+ik", engine="auto"):
     """Mie efficiencies and asymmetry parameter of homogeneous spheres.
 
     Parameters
@@ -356,19 +409,25 @@ def mie(m, x, *, convention="n+ik"):
     convention : {"n+ik", "n-ik"}
         Sign convention in which ``m`` is written. With ``"n-ik"`` the
         imaginary part must be <= 0 and is conjugated.
+    engine : {"auto", "numba", "numpy"}
+        Which implementation evaluates the series; ``"auto"`` is the one
+        :func:`default_engine` names (see the module docstring). The
+        engines agree to ~1e-14 relative.
 
     Returns
     -------
-    MieResult
-        ``qext``, ``qsca``, ``qabs``, ``qback`` and ``g``, each a float64
+    SphereOptics
+        ``q_ext``, ``q_sca``, ``q_abs``, ``q_back`` and ``g``, each a float64
         ndarray of the broadcast shape of ``m`` and ``x``.
 
     Raises
     ------
     InputError
         For NaN or infinite values, x outside [1e-30, 1e6], Re(m) <= 0, an
-        imaginary part of the wrong sign for ``convention``, or shapes that
-        do not broadcast.
+        imaginary part of the wrong sign for ``convention``, shapes that
+        do not broadcast, or an unknown ``engine``.
+    ImportError
+        For ``engine="numba"`` when numba cannot be imported.
 
     Notes
     -----
@@ -410,32 +469,32 @@ def mie(m, x, *, convention="n+ik"):
 
     Examples
     --------
-    >>> from redcorr.mie import mie
-    >>> r = mie(1.5 + 0.01j, [1.0, 10.0])
-    >>> r.qext.round(4)
+    >>> from redcorr.mie import sphere
+    >>> r = sphere(1.5 + 0.01j, [1.0, 10.0])
+    >>> r.q_ext.round(4)
     array([0.2425, 2.7707])
     """
     shape, mf, xf = _broadcast(_as_index(m, convention), _as_size(x))
-    kernels = _kernels()
+    kernels = _kernels(engine)
     if kernels is not None:
-        qext, qsca, qback, g = kernels.efficiencies(mf, xf)
+        q_ext, q_sca, q_back, g = kernels.efficiencies(mf, xf)
     else:
-        qext, qsca, qback, g = _efficiencies_numpy(mf, xf)
+        q_ext, q_sca, q_back, g = _efficiencies_numpy(mf, xf)
     matched = mf == 1  # a_n = b_n = 0 exactly; the sums would hold rounding noise only
     if matched.any():
-        for q in (qext, qsca, qback, g):
+        for q in (q_ext, q_sca, q_back, g):
             q[matched] = 0.0
-    qabs = np.where(mf.imag == 0, 0.0, qext - qsca)
-    return MieResult(*(q.reshape(shape) for q in (qext, qsca, qabs, qback, g)))
+    q_abs = np.where(mf.imag == 0, 0.0, q_ext - q_sca)
+    return SphereOptics(*(q.reshape(shape) for q in (q_ext, q_sca, q_abs, q_back, g)))
 
 
-def mie_coefficients(m, x, *, convention="n+ik"):
+def series_coefficients(m, x, *, convention="n+ik"):
     """The Mie coefficients a_n, b_n of one sphere.
 
     Parameters
     ----------
     m : complex
-        Refractive index ``n + ik`` (see :func:`mie`).
+        Refractive index ``n + ik`` (see :func:`sphere`).
     x : float
         Size parameter 2πa/λ.
     convention : {"n+ik", "n-ik"}
@@ -447,7 +506,14 @@ def mie_coefficients(m, x, *, convention="n+ik"):
 
     Notes
     -----
-    Same formulation as :func:`mie` (Bohren & Huffman 1983, eq. 4.88).
+    Same formulation as :func:`sphere` (Bohren & Huffman 1983, eq. 4.88),
+    always evaluated by the numpy engine.
+
+    References
+    ----------
+    .. [1] Bohren, C. F. & Huffman, D. R. 1983, Absorption and Scattering of
+       Light by Small Particles (Wiley), eq. 4.88.
+    .. [2] Wiscombe, W. J. 1980, Appl. Opt. 19, 1505.
     """
     m = _as_index(m, convention)
     x = _as_size(x)
@@ -470,18 +536,20 @@ def _angles(theta):
     return arr
 
 
-def amplitudes(m, x, theta, *, convention="n+ik"):
+def sphere_amplitudes(m, x, theta, *, convention="n+ik", engine="auto"):
     """Scattering amplitudes S1(θ) and S2(θ) of homogeneous spheres.
 
     Parameters
     ----------
     m : complex or array_like
-        Refractive index ``n + ik`` (see :func:`mie`).
+        Refractive index ``n + ik`` (see :func:`sphere`).
     x : float or array_like
         Size parameter, broadcast against ``m``.
     theta : float, array_like or `~astropy.units.Quantity` ['angle']
         Scattering angles in [0, π]; plain numbers are radians.
     convention : {"n+ik", "n-ik"}
+    engine : {"auto", "numba", "numpy"}
+        As for :func:`sphere`.
 
     Returns
     -------
@@ -506,30 +574,30 @@ def amplitudes(m, x, theta, *, convention="n+ik"):
     Examples
     --------
     >>> import numpy as np
-    >>> from redcorr.mie import amplitudes, mie
-    >>> s1, s2 = amplitudes(1.5 + 0.01j, 2.0, [0.0, np.pi])
-    >>> bool(np.isclose(4 / 2.0**2 * s1[0].real, mie(1.5 + 0.01j, 2.0).qext))
+    >>> from redcorr.mie import sphere, sphere_amplitudes
+    >>> s1, s2 = sphere_amplitudes(1.5 + 0.01j, 2.0, [0.0, np.pi])
+    >>> bool(np.isclose(4 / 2.0**2 * s1[0].real, sphere(1.5 + 0.01j, 2.0).q_ext))
     True
     """
     shape, mf, xf = _broadcast(_as_index(m, convention), _as_size(x))
     th = _angles(theta)
     mu = np.array(np.cos(th), dtype=float).ravel()
-    kernels = _kernels()
+    kernels = _kernels(engine)
     if kernels is not None:
         s1, s2 = kernels.amplitudes(mf, xf, mu)
     else:
         s1, s2 = _amplitudes_numpy(mf, xf, mu)
-    s1[mf == 1] = s2[mf == 1] = 0  # no contrast with the medium (see :func:`mie`)
+    s1[mf == 1] = s2[mf == 1] = 0  # no contrast with the medium (see :func:`sphere`)
     return s1.reshape(shape + th.shape), s2.reshape(shape + th.shape)
 
 
-def phase_function(m, x, theta, *, convention="n+ik"):
+def sphere_phase_function(m, x, theta, *, convention="n+ik", engine="auto"):
     """Phase function of unpolarized light scattered by homogeneous spheres.
 
     Parameters
     ----------
-    m, x, theta, convention
-        As for :func:`amplitudes`.
+    m, x, theta, convention, engine
+        As for :func:`sphere_amplitudes`.
 
     Returns
     -------
@@ -551,19 +619,9 @@ def phase_function(m, x, theta, *, convention="n+ik"):
     ----------
     .. [1] Bohren, C. F. & Huffman, D. R. 1983, §3.4 and §4.4.
     """
-    s1, s2 = amplitudes(m, x, theta, convention=convention)
-    res = mie(m, x, convention=convention)
-    scale = 2 * np.pi * _as_size(x) ** 2 * res.qsca
+    s1, s2 = sphere_amplitudes(m, x, theta, convention=convention, engine=engine)
+    res = sphere(m, x, convention=convention, engine=engine)
+    scale = 2 * np.pi * _as_size(x) ** 2 * res.q_sca
     extra = s1.ndim - scale.ndim
     with np.errstate(invalid="ignore"):  # NaN for m = 1: nothing is scattered
         return (np.abs(s1) ** 2 + np.abs(s2) ** 2) / scale.reshape(scale.shape + (1,) * extra)
-
-
-class _CallableModule(types.ModuleType):
-    """Lets ``redcorr.mie(m, x)`` stand for ``redcorr.mie.mie(m, x)``."""
-
-    def __call__(self, m, x, **kwargs):
-        return mie(m, x, **kwargs)
-
-
-sys.modules[__name__].__class__ = _CallableModule

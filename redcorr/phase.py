@@ -13,7 +13,7 @@ from scipy.integrate import trapezoid
 
 from redcorr._validate import as_float_array
 from redcorr.exceptions import InputError
-from redcorr.mie import _angles, amplitudes, mie
+from redcorr.mie import _angles, sphere, sphere_amplitudes
 
 __all__ = ["henyey_greenstein", "mean_cosine", "PopulationPhase", "population_phase_function"]
 
@@ -140,7 +140,7 @@ def population_phase_function(m, radius, weight, wavelength, theta, *, conventio
     theta : array_like or `~astropy.units.Quantity` ['angle']
         Scattering angles in [0, π]; plain numbers are radians.
     convention : {"n+ik", "n-ik"}
-        Sign convention of ``m`` (see :func:`redcorr.mie.mie`).
+        Sign convention of ``m`` (see :func:`redcorr.mie.sphere`).
 
     Returns
     -------
@@ -188,9 +188,9 @@ def population_phase_function(m, radius, weight, wavelength, theta, *, conventio
     th = _angles(theta)
     k = 2 * np.pi / float(lam)
     x = k * a
-    res = mie(m, x, convention=convention)
-    s1, s2 = amplitudes(m, x, th.ravel(), convention=convention)
-    c_sca = np.pi * a**2 * res.qsca
+    res = sphere(m, x, convention=convention)
+    s1, s2 = sphere_amplitudes(m, x, th.ravel(), convention=convention)
+    c_sca = np.pi * a**2 * res.q_sca
     total = np.sum(w * c_sca)
     p = np.tensordot(w, np.abs(s1) ** 2 + np.abs(s2) ** 2, axes=1) / (2 * k**2 * total)
     g = float(np.sum(w * c_sca * res.g) / total)

@@ -22,7 +22,7 @@ def plot_curve(curve, path, *, marks=None, extrapolate=False):
 
     Parameters
     ----------
-    curve : ExtinctionCurve
+    curve : DustCurve
     path : path-like
         PNG file to write (atomically).
     marks : array_like, optional
@@ -31,7 +31,7 @@ def plot_curve(curve, path, *, marks=None, extrapolate=False):
         Passed to the curve when evaluating ``marks``.
     """
     plt = _figure()
-    lo, hi = curve.x_range
+    lo, hi = curve.wavenumber_limits
     hi = min(hi, 12.0)
     x = np.linspace(lo, hi, 600)
     fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
@@ -117,7 +117,7 @@ def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate
 
     Parameters
     ----------
-    curve : ExtinctionCurve
+    curve : DustCurve
     bands : list of Band
     sed : SED
         Source spectrum used for A_b/A_V.

@@ -58,9 +58,9 @@ they match the observed extinction per H. From memory."""
 MIEPYTHON_EFFICIENCIES_MX_EXAMPLE = {
     "m": 1.5 - 0.01j,  # in miepython's convention m = n − ik
     "x": 2.0,
-    "qext": 1.812597,
-    "qsca": 1.724396,
-    "qback": 0.266214,
+    "q_ext": 1.812597,
+    "q_sca": 1.724396,
+    "q_back": 0.266214,
     "g": 0.630214,
 }
 """miepython 3.3 (PyPI, S. Prahl), docstring example of ``efficiencies_mx``: m = 1.5 − 0.01i, x = 2

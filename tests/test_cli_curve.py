@@ -30,13 +30,20 @@ def test_json_rows(capsys):
     [
         (["--wave", "5500", "--unit", "AA"], 0.55),
         (["--wave", "550", "--unit", "nm"], 0.55),
-        (["--wave", "2", "--unit", "invum"], 0.5),
+        (["--wave", "2", "--unit", "1/um"], 0.5),  # wavenumber 2 µm⁻¹ is λ = 0.5 µm by definition
+        (["--wave", "2", "--unit", "um-1"], 0.5),
     ],
 )
 def test_units(capsys, args, wave_um):
     assert main(["curve", "o94", *args, "--json"]) == 0
     row = json.loads(capsys.readouterr().out)[0]
     assert_allclose(row["wavelength_um"], wave_um, rtol=1e-12)  # unit conversion: rounding only
+
+
+def test_unknown_unit_lists_the_tokens(capsys):
+    assert main(["curve", "o94", "--wave", "2", "--unit", "micron"]) == 2
+    err = capsys.readouterr().err
+    assert all(f"'{token}'" in err for token in ("um", "nm", "AA", "1/um", "um-1"))
 
 
 def test_table_output(capsys):
@@ -50,9 +57,18 @@ def test_table_output(capsys):
 def test_list(capsys):
     assert main(["curve", "--list"]) == 0
     out = capsys.readouterr().out
-    for name in ("ccm89", "o94", "f99", "fm90", "calzetti00", "g03-smcbar", "g03-lmcavg", "g03-lmc2"):
+    for name in ("ccm89", "o94", "f99", "fm90", "calzetti00", "g03-smc-bar", "g03-lmc-average", "g03-lmc2-supershell"):
         assert name in out
     assert "file:PATH" in out
+    assert out.split()[:6] == ["name", "R_V", "R_V_limits", "R_V_observed", "wave_um", "citation"]
+
+
+def test_list_json_mirrors_the_class_attributes(capsys):
+    assert main(["curve", "--list", "--json"]) == 0
+    laws = {row["name"]: row for row in json.loads(capsys.readouterr().out)["laws"]}
+    assert laws["ccm89"]["r_v_limits"] == [2.1, 6.1] and laws["ccm89"]["r_v_observed"] == [2.6, 5.6]
+    assert laws["f99"]["r_v_limits"] == [1.8, 6.0] and laws["f99"]["r_v_observed"] == [2.3, 5.5]
+    assert laws["g03-smc-bar"]["r_v_limits"] is None  # a fixed R_V
 
 
 @pytest.mark.parametrize(

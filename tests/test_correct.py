@@ -319,7 +319,7 @@ def test_output_clash_and_fixed_rv_law():
         correct_dataframe(frame, ["kw-v"])
     with pytest.raises(InputError, match="fixed R_V"):
         correct_dataframe(pd.DataFrame({"kw_v": [1.0], "ebv": [0.1], "rv": [3.1]}), ["kw-v"],
-                          law="g03-smcbar", rv_column="rv")
+                          law="g03-smc-bar", rv_column="rv")
 
 
 def test_header_only_frame_gives_empty_output_with_all_columns():

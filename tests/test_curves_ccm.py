@@ -85,8 +85,17 @@ def test_o94_optical_polynomial():
     assert_allclose(O94(3.1)(1 / 2.32), a + b / 3.1, rtol=1e-12)
 
 
-def test_r_v_limits():
-    with pytest.raises(InputError, match=r"r_v=1\.5 .*\[2, 6\]"):
-        CCM89(1.5)
-    with pytest.warns(OutOfRangeWarning, match="r_v=2.2"):
-        CCM89(2.2)
+@pytest.mark.parametrize("cls", [CCM89, O94])
+def test_r_v_limits(cls):
+    # CCM89's sight lines span R_V ≈ 2.6-5.6 (Cardelli, Clayton & Mathis 1989, Sect. II; from
+    # memory); O94 keeps CCM89's R_V dependence. Inside the span: silent; outside it: a warning;
+    # more than 0.5 beyond it: refused (the package's margin, no source).
+    assert cls.r_v_observed == (2.6, 5.6)
+    for r_v in (2.6, 3.1, 5.6):
+        assert cls(r_v).r_v == r_v  # no warning: warnings are errors in this suite
+    for r_v in (2.1, 2.2, 5.8, 6.1):
+        with pytest.warns(OutOfRangeWarning, match=f"r_v={r_v:g} lies outside the R_V span"):
+            cls(r_v)
+    for r_v in (1.5, 2.0, 6.2):
+        with pytest.raises(InputError, match=r"is outside the range .* supports, \[2\.1, 6\.1\]"):
+            cls(r_v)

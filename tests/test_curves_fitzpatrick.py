@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from redcorr.curves import F99, FM90, G03LMC2, G03LMCAverage, G03SMCBar, fm90_excess
-from redcorr.exceptions import InputError
+from redcorr.curves import F99, FM90, G03Lmc2Supershell, G03LmcAverage, G03SmcBar, fm90_excess, get_curve
+from redcorr.exceptions import InputError, OutOfRangeWarning
 
 
 @pytest.mark.parametrize("r_v", [2.5, 3.1, 4.3, 5.5])
@@ -35,6 +35,21 @@ def test_f99_ultraviolet_is_fm90(r_v):
     c2 = -0.824 + 4.717 / r_v
     k = fm90_excess(x, 2.030 - 3.007 * c2, c2, 3.23, 0.41, 4.596, 0.99)
     assert_allclose(F99(r_v).a_over_ebv(1 / x), k + r_v, rtol=1e-12)
+
+
+def test_f99_r_v_limits():
+    # F99's R_V-dependent curves cover R_V ≈ 2.3-5.5 (Fitzpatrick 1999, Sect. 3; from memory).
+    # Inside: silent; outside: a warning; more than 0.5 beyond it: refused (the package's
+    # margin, no source).
+    assert F99.r_v_observed == (2.3, 5.5)
+    for r_v in (2.3, 3.1, 5.5):
+        assert F99(r_v).r_v == r_v  # no warning: warnings are errors in this suite
+    for r_v in (1.8, 2.2, 5.6, 6.0):
+        with pytest.warns(OutOfRangeWarning, match=f"r_v={r_v:g} lies outside the R_V span"):
+            F99(r_v)
+    for r_v in (1.7, 6.1):
+        with pytest.raises(InputError, match=r"is outside the range f99 supports, \[1\.8, 6\]"):
+            F99(r_v)
 
 
 def test_fm90_drude_peak():
@@ -78,9 +93,9 @@ def test_f99_continuous_at_2700(r_v):
     # Gordon et al. (2003) Table 3: FM90 parameters (c1, c2, c3, c4, x0, γ)
     # and R_V of the average curves; values from memory.
     [
-        (G03SMCBar, 2.74, (-4.959, 2.264, 0.389, 0.461, 4.6, 1.0)),
-        (G03LMCAverage, 3.41, (-0.890, 0.998, 2.719, 0.400, 4.579, 0.934)),
-        (G03LMC2, 2.76, (-1.475, 1.132, 1.463, 0.294, 4.558, 0.945)),
+        (G03SmcBar, 2.74, (-4.959, 2.264, 0.389, 0.461, 4.6, 1.0)),
+        (G03LmcAverage, 3.41, (-0.890, 0.998, 2.719, 0.400, 4.579, 0.934)),
+        (G03Lmc2Supershell, 2.76, (-1.475, 1.132, 1.463, 0.294, 4.558, 0.945)),
     ],
 )
 def test_gordon03_ultraviolet_and_r_v(cls, r_v, fm):
@@ -97,13 +112,20 @@ def test_gordon03_ultraviolet_and_r_v(cls, r_v, fm):
     assert_allclose(curve(0.55), 1.0, rtol=1e-12)
 
 
+def test_gordon03_names_are_the_paper_labels():
+    # Gordon et al. (2003) name their average curves "SMC Bar", "LMC Average" and
+    # "LMC2 supershell" (from memory); the registry names spell those labels out.
+    assert [get_curve(n).__class__ for n in ("g03-smc-bar", "g03-lmc-average", "g03-lmc2-supershell")] == [
+        G03SmcBar, G03LmcAverage, G03Lmc2Supershell]
+
+
 def test_gordon03_fixed_r_v():
     with pytest.raises(InputError, match="fixed R_V of 2.74"):
-        G03SMCBar(3.1)
-    assert G03SMCBar(2.74).r_v == 2.74  # bitwise: the value passed is the value stored
+        G03SmcBar(3.1)
+    assert G03SmcBar(2.74).r_v == 2.74  # bitwise: the value passed is the value stored
 
 
-@pytest.mark.parametrize("cls", [F99, G03SMCBar, G03LMCAverage, G03LMC2])
+@pytest.mark.parametrize("cls", [F99, G03SmcBar, G03LmcAverage, G03Lmc2Supershell])
 def test_positive_and_falling_into_the_infrared(cls):
     # Extinction decreases toward the infrared for all these curves
     # (common practice, no source).

@@ -35,8 +35,8 @@ def test_both_formats_agree_over_the_field():
     angle = rng.uniform(0, 2 * np.pi, 500)
     dec = field["dec_deg"] + radius * np.sin(angle)
     ra = field["ra_deg"] + radius * np.cos(angle) / np.cos(np.radians(dec))
-    e_hp, f_hp = healpix.ebv(ra, dec)
-    e_im, f_im = image.ebv(ra, dec)
+    e_hp, f_hp = healpix.reddening_at(ra, dec)
+    e_im, f_im = image.reddening_at(ra, dec)
     both = (f_hp == 0) & (f_im == 0)
     assert both.mean() > 0.95  # only the masked disc is blank
     # the two pixelisations (0.86' HEALPix, 0.6' image) of one smooth pattern agree closely: half a

@@ -338,7 +338,7 @@ def test_grid_refuses_band_outside_curve(kw_bands):
 
 
 def test_grid_accepts_quantity_free_tabulated_curve(kw_bands):
-    # Any ExtinctionCurve works: a tabulated power law r ∝ λ^-1.7 (a common
+    # Any DustCurve works: a tabulated power law r ∝ λ^-1.7 (a common
     # near-IR form, e.g. Martin & Whittet 1990; here only as a test curve).
     lam = np.geomspace(0.2, 3.0, 200)
     table = TabulatedCurve(lam, (lam / 0.55) ** -1.7, r_v=3.1, name="pl")

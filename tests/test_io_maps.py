@@ -22,7 +22,7 @@ from astropy.wcs import WCS
 from redcorr.exceptions import InputError
 from redcorr.io import open_map
 from redcorr.io.maps import read_healpix_table, read_image_map
-from redcorr.maps import FLAG_OUTSIDE, HealpixMap, ImageMap
+from redcorr.maps import FLAG_OUTSIDE, HealpixReddeningMap, ImageReddeningMap
 
 
 def _sky(n, seed=2):
@@ -46,7 +46,7 @@ def test_healpix_file_recovers_function_both_orderings(tmp_path, order):
     nside = 64
     path = write_healpix(tmp_path / "m.fits", healpix_values(nside, order.lower()), nside, order)
     hp_map = open_map(path)
-    assert isinstance(hp_map, HealpixMap) and hp_map.order == order.lower() and hp_map.frame.name == "galactic"
+    assert isinstance(hp_map, HealpixReddeningMap) and hp_map.order == order.lower() and hp_map.frame.name == "galactic"
     lon, lat = _sky(5000)
     got, flags = hp_map.lookup(lon, lat, frame="galactic")
     h = np.sqrt(4 * np.pi / (12 * nside**2))
@@ -131,7 +131,7 @@ def test_image_files_plate_carree_and_hemisphere_pair(tmp_path):
         wrong_side = lat_pix < 0 if north else lat_pix > 0
         paths.append(write_image(tmp_path / f"zea_{north}.fits", np.where(wrong_side, -5.0, data), wcs))
     pair = open_map(paths)
-    assert isinstance(pair, ImageMap) and [t.lat_range for t in pair.tiles] == [(0.0, 90.0), (-90.0, 0.0)]
+    assert isinstance(pair, ImageReddeningMap) and [t.lat_range for t in pair.tiles] == [(0.0, 90.0), (-90.0, 0.0)]
     got, flags = pair.lookup(lon, lat, frame="galactic")
     away = np.abs(lat) > 5
     assert not flags[away].any()
@@ -169,7 +169,7 @@ def test_description_file(tmp_path):
     # rel 1e-6: the file stores float32 (relative rounding 6e-8)
     expected = 2.0 * healpix_values(nside, "ring")[index]
     assert hp_map.lookup(40.0, 20.0, "galactic")[0] == pytest.approx(expected, rel=1e-6)
-    assert hp_map.ebv(40.0, 20.0, "galactic")[0] == pytest.approx(expected / 3.1, rel=1e-6)
+    assert hp_map.reddening_at(40.0, 20.0, frame="galactic")[0] == pytest.approx(expected / 3.1, rel=1e-6)
     assert open_map(desc, scale=1.0).scale == 1.0  # arguments win over the file (stored as given)
 
 

@@ -17,8 +17,8 @@ from redcorr.maps import (
     FLAG_PARTIAL,
     HEALPIX_UNSEEN,
     INTERPOLATIONS,
-    HealpixMap,
-    ImageMap,
+    HealpixReddeningMap,
+    ImageReddeningMap,
     ImageTile,
     describe_flags,
     transform_lonlat,
@@ -44,7 +44,7 @@ def test_nearest_pixel_index_matches_astropy_healpix(order):
     # Reference: astropy_healpix.lonlat_to_healpix. A map whose value is its own pixel index
     # must return exactly that index under nearest-pixel lookup.
     nside = 16
-    hp_map = HealpixMap(np.arange(12 * nside**2, dtype=float), nside, order, frame="galactic")
+    hp_map = HealpixReddeningMap(np.arange(12 * nside**2, dtype=float), nside, order, frame="galactic")
     lon, lat = _random_sky(20000)
     got, flags = hp_map.lookup(lon, lat, frame="galactic", interpolation="nearest")
     expected = astropy_healpix.lonlat_to_healpix(lon * u.deg, lat * u.deg, nside, order=order)
@@ -59,7 +59,7 @@ def test_pixel_centres_return_the_pixel_value(order):
     # interpolation at a centre must return that pixel's own value (weight 1 there).
     nside = 32
     values = healpix_values(nside, order)
-    hp_map = HealpixMap(values, nside, order, frame="galactic")
+    hp_map = HealpixReddeningMap(values, nside, order, frame="galactic")
     index = np.arange(0, 12 * nside**2, 37)
     lon, lat = astropy_healpix.healpix_to_lonlat(index, nside, order=order)
     for method in ("bilinear", "nearest"):
@@ -85,7 +85,7 @@ def test_healpix_recovers_smooth_function_at_expected_order(order):
     mid = np.abs(lat) < 80
     rms, err = {}, {}
     for nside in (32, 64):
-        hp_map = HealpixMap(healpix_values(nside, order), nside, order, frame="galactic")
+        hp_map = HealpixReddeningMap(healpix_values(nside, order), nside, order, frame="galactic")
         h = _pixel_size_rad(nside)
         for method in ("bilinear", "nearest"):
             got, flags = hp_map.lookup(lon, lat, frame="galactic", interpolation=method)
@@ -110,7 +110,7 @@ def test_image_plate_carree_recovers_smooth_function():
     err = {}
     for step in (2.0, 1.0):
         wcs, shape = car_wcs(step)
-        image = ImageMap([ImageTile(image_values(wcs, shape), wcs)])
+        image = ImageReddeningMap([ImageTile(image_values(wcs, shape), wcs)])
         assert image.tiles[0].wraps  # 360° of longitude: neighbours wrap across l = 180°
         got, flags = image.lookup(ra, dec, frame="icrs")
         assert not flags.any()
@@ -129,7 +129,7 @@ def test_partial_longitude_image_does_not_wrap():
     wcs.wcs.cdelt = [-5.0, 10.0]  # 36 columns of 5°: half the sky in longitude
     tile = ImageTile(np.ones(shape), wcs)
     assert not tile.wraps
-    values, flags = ImageMap([tile]).lookup([0.0, 120.0], [0.0, 0.0], frame="galactic")
+    values, flags = ImageReddeningMap([tile]).lookup([0.0, 120.0], [0.0, 0.0], frame="galactic")
     assert flags[0] == 0 and flags[1] == FLAG_OUTSIDE
 
 
@@ -142,7 +142,7 @@ def test_zenithal_hemisphere_pair_covers_the_sky():
     south = image_values(south_wcs, shape)
     _, lat_n = north_wcs.pixel_to_world_values(*np.meshgrid(np.arange(shape[1]), np.arange(shape[0])))
     north = np.where(lat_n < 0, north + 10.0, north)  # wrong values beyond its hemisphere
-    pair = ImageMap(
+    pair = ImageReddeningMap(
         [ImageTile(north, north_wcs, lat_range=(0, 90)), ImageTile(south, south_wcs, lat_range=(-90, 0))]
     )
     lon, lat = _random_sky(20000, seed=5)
@@ -187,7 +187,7 @@ def test_lookup_in_equatorial_frames_reaches_galactic_map():
     # bilinear interpolation error ~h² = 2.6e-4 at NSIDE 64 (first order within ~10° of the pole,
     # where sin b is flat).
     nside = 64
-    hp_map = HealpixMap(healpix_values(nside, "ring", lambda lon, b: np.sin(np.radians(b))), nside, "ring")
+    hp_map = HealpixReddeningMap(healpix_values(nside, "ring", lambda lon, b: np.sin(np.radians(b))), nside, "ring")
     ngp, _ = hp_map.lookup(*NGP_J2000_DEG, frame="fk5")
     assert ngp == pytest.approx(1.0, abs=1e-3)
     node = SkyCoord((NGP_J2000_DEG[0] + 90.0) * u.deg, 0 * u.deg, frame="fk5")
@@ -209,7 +209,7 @@ def _cone_map(order="nested", nside=64):
     """Partial map: the pixels within 10° of (l, b) = (30°, 20°)."""
     pixels = astropy_healpix.HEALPix(nside, order).cone_search_lonlat(30 * u.deg, 20 * u.deg, 10 * u.deg)
     full = healpix_values(nside, order)
-    return HealpixMap(full[pixels], nside, order, pixels=pixels), HealpixMap(full, nside, order)
+    return HealpixReddeningMap(full[pixels], nside, order, pixels=pixels), HealpixReddeningMap(full, nside, order)
 
 
 def test_partial_map_matches_full_map_inside_and_flags_outside():
@@ -241,7 +241,7 @@ def test_partial_map_rim_uses_remaining_neighbours():
 def test_unsorted_explicit_pixels_are_accepted():
     part, _ = _cone_map()
     shuffle = np.random.default_rng(0).permutation(part.pixels.size)
-    again = HealpixMap(part.values[shuffle], 64, "nested", pixels=part.pixels[shuffle])
+    again = HealpixReddeningMap(part.values[shuffle], 64, "nested", pixels=part.pixels[shuffle])
     # bitwise: the same pixels and weights, whatever order they are stored in
     np.testing.assert_array_equal(again.lookup(31.0, 21.0, "galactic")[0], part.lookup(31.0, 21.0, "galactic")[0])
 
@@ -252,7 +252,7 @@ def test_blank_pixels_flag_and_nan():
     hole = astropy_healpix.lonlat_to_healpix(10 * u.deg, 10 * u.deg, nside)
     values[hole] = HEALPIX_UNSEEN
     values[hole + 1] = np.nan
-    hp_map = HealpixMap(values, nside, "ring")
+    hp_map = HealpixReddeningMap(values, nside, "ring")
     got, flag = hp_map.lookup(10.0, 10.0, frame="galactic", interpolation="nearest")
     assert np.isnan(got) and flag == FLAG_BLANK
     lon, lat = astropy_healpix.healpix_to_lonlat(hole + 1, nside)
@@ -277,7 +277,7 @@ def test_image_outside_and_blank():
     data = np.full((10, 10), 2.0)
     data[4, 4] = np.nan  # pixel (x=4, y=4) is at the reference point minus half a pixel
     tile = ImageTile(data, wcs)
-    image = ImageMap([tile], unit="A_V", r_v=4.0, scale=1.5)
+    image = ImageReddeningMap([tile], unit="A_V", r_v=4.0, scale=1.5)
     x, y = 4.0, 4.0
     ra, dec = wcs.pixel_to_world_values(x, y)
     values, flags = image.lookup([ra, 101.25, 110.0], [dec, -27.2, -27.4])
@@ -285,7 +285,7 @@ def test_image_outside_and_blank():
     assert flags[0] == FLAG_BLANK and np.isnan(values[0])
     assert flags[1] == 0 and values[1] == pytest.approx(3.0, rel=1e-12)
     assert flags[2] == FLAG_OUTSIDE and np.isnan(values[2])
-    ebv, _ = image.ebv(101.25, -27.2)
+    ebv, _ = image.reddening_at(101.25, -27.2)
     assert ebv == pytest.approx(3.0 / 4.0, rel=1e-12)  # E(B-V) = A_V / R_V (definition of R_V)
 
 
@@ -293,13 +293,13 @@ def test_later_image_fills_blank_of_earlier():
     wcs, shape = car_wcs(10.0)
     first = np.full(shape, np.nan)
     second = np.full(shape, 0.5)
-    image = ImageMap([ImageTile(first, wcs), ImageTile(second, wcs)])
+    image = ImageReddeningMap([ImageTile(first, wcs), ImageTile(second, wcs)])
     values, flags = image.lookup(10.0, 10.0, frame="galactic")
     assert values == pytest.approx(0.5, rel=1e-12) and flags == 0  # uniform 0.5: rounding only
 
 
 def test_nan_positions_are_flagged_not_errors():
-    hp_map = HealpixMap(np.ones(12), 1, "ring")
+    hp_map = HealpixReddeningMap(np.ones(12), 1, "ring")
     values, flags = hp_map.lookup([np.nan, 10.0], [0.0, np.inf])
     assert np.all(np.isnan(values)) and list(flags) == [FLAG_NO_POSITION, FLAG_NO_POSITION]
 
@@ -314,7 +314,7 @@ def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
 
     values = healpix_values(16, "ring")
     values[::7] = np.nan
-    hp_map = HealpixMap(values, 16, "ring", frame="galactic")
+    hp_map = HealpixReddeningMap(values, 16, "ring", frame="galactic")
     lon, lat = _random_sky(5003, seed=9)
     if with_nan:
         lon[::11] = np.nan
@@ -331,7 +331,7 @@ def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
 
 
 def test_scalar_in_scalar_out_and_broadcasting():
-    hp_map = HealpixMap(np.full(12, 0.25), 1, "ring", scale=2.0)
+    hp_map = HealpixReddeningMap(np.full(12, 0.25), 1, "ring", scale=2.0)
     value, flag = hp_map.lookup(10.0, 20.0)
     assert np.ndim(value) == 0 and value == pytest.approx(0.5, rel=1e-12) and flag == 0  # 0.25 × 2
     values, flags = hp_map.lookup(np.zeros((3, 1)), np.zeros(4) * u.deg)
@@ -348,7 +348,7 @@ def test_describe_flags():
 
 
 def test_latitude_beyond_pole_is_refused():
-    hp_map = HealpixMap(np.ones(12), 1, "ring")
+    hp_map = HealpixReddeningMap(np.ones(12), 1, "ring")
     with pytest.raises(InputError, match=r"lat_deg=95\.0 is outside the allowed range \[-90, 90\]"):
         hp_map.lookup([10.0, 20.0], [0.0, 95.0])
     with pytest.raises(InputError, match="lat_deg"):
@@ -356,7 +356,7 @@ def test_latitude_beyond_pole_is_refused():
 
 
 def test_non_numeric_coordinates_are_refused():
-    hp_map = HealpixMap(np.ones(12), 1, "ring")
+    hp_map = HealpixReddeningMap(np.ones(12), 1, "ring")
     with pytest.raises(InputError, match="lon_deg='abc' is not numeric"):
         hp_map.lookup("abc", 10.0)
     with pytest.raises(InputError, match="lat_deg has unit m"):
@@ -369,13 +369,13 @@ def test_non_numeric_coordinates_are_refused():
 
 def test_healpix_length_must_match_nside():
     with pytest.raises(InputError, match=r"has 700 values but NSIDE=8 needs 12·NSIDE² = 768"):
-        HealpixMap(np.ones(700), 8, "ring")
+        HealpixReddeningMap(np.ones(700), 8, "ring")
     with pytest.raises(InputError, match="nside=6"):
-        HealpixMap(np.ones(432), 6, "ring")
+        HealpixReddeningMap(np.ones(432), 6, "ring")
     with pytest.raises(InputError, match="pixel index 768 is outside"):
-        HealpixMap(np.ones(2), 8, "ring", pixels=[3, 768])
+        HealpixReddeningMap(np.ones(2), 8, "ring", pixels=[3, 768])
     with pytest.raises(InputError, match="appears more than once"):
-        HealpixMap(np.ones(3), 8, "ring", pixels=[3, 5, 3])
+        HealpixReddeningMap(np.ones(3), 8, "ring", pixels=[3, 5, 3])
 
 
 def test_image_without_celestial_axes_is_refused():
@@ -387,11 +387,11 @@ def test_image_without_celestial_axes_is_refused():
 
 def test_unit_and_scale_are_checked():
     with pytest.raises(InputError, match="unit='mag'"):
-        HealpixMap(np.ones(12), 1, unit="mag")
+        HealpixReddeningMap(np.ones(12), 1, unit="mag")
     with pytest.raises(InputError, match="scale=-1"):
-        HealpixMap(np.ones(12), 1, scale=-1)
+        HealpixReddeningMap(np.ones(12), 1, scale=-1)
     with pytest.raises(InputError, match="give r_v"):
-        HealpixMap(np.ones(12), 1, unit="A_V").ebv(0.0, 0.0)
+        HealpixReddeningMap(np.ones(12), 1, unit="A_V").reddening_at(0.0, 0.0)
 
 
 def test_gnomonic_image_far_side_and_all_nan_chunk():
@@ -402,7 +402,7 @@ def test_gnomonic_image_far_side_and_all_nan_chunk():
     wcs.wcs.crval = [101.25, -27.4]
     wcs.wcs.crpix = [5.5, 5.5]
     wcs.wcs.cdelt = [-0.1, 0.1]
-    image = ImageMap([ImageTile(np.ones((10, 10)), wcs)])
+    image = ImageReddeningMap([ImageTile(np.ones((10, 10)), wcs)])
     values, flags = image.lookup([281.25, 101.25], [27.4, -27.4])
     assert np.isnan(values[0]) and flags[0] == FLAG_OUTSIDE and flags[1] == 0
     values, flags = image.lookup([np.nan, np.nan], [0.0, 0.0])

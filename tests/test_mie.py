@@ -24,10 +24,9 @@ from published import MIEPYTHON_EFFICIENCIES_MX_EXAMPLE
 from scipy.integrate import trapezoid
 from scipy.special import spherical_jn, spherical_yn
 
-import redcorr
 import redcorr.mie as mie_module
 from redcorr.exceptions import InputError
-from redcorr.mie import amplitudes, mie, mie_coefficients, n_terms, phase_function
+from redcorr.mie import n_terms, series_coefficients, sphere, sphere_amplitudes, sphere_phase_function
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -35,10 +34,14 @@ ROOT = Path(__file__).resolve().parents[1]
 M_GRID = np.array([1.33, 1.05 + 0.001j, 1.5 + 0.01j, 1.7 + 0.6j, 2.0 + 1.0j, 3.0 + 4.0j, 10.0 + 0.1j, 10.0 + 10.0j])
 
 
+HAVE_NUMBA = mie_module._numba_kernels() is not None
+
+
 @pytest.fixture(params=["numba", "numpy"])
-def path(request, monkeypatch):
-    """Run a test on the numba kernel and on the numpy fallback."""
-    monkeypatch.setattr(mie_module, "USE_NUMBA", request.param == "numba")
+def path(request):
+    """The engine to pass as ``engine=``: each test runs on the numba kernel and on numpy."""
+    if request.param == "numba" and not HAVE_NUMBA:
+        pytest.skip("numba is not installed")
     return request.param
 
 
@@ -66,13 +69,13 @@ def direct_series(m, x):
     a = (m * psi(mx) * dpsi(x) - psi(x) * dpsi(mx)) / (m * psi(mx) * dxi - xi * dpsi(mx))
     b = (psi(mx) * dpsi(x) - m * psi(x) * dpsi(mx)) / (psi(mx) * dxi - m * xi * dpsi(mx))
     f = 2 * n + 1
-    qext = 2 / x**2 * np.sum(f * (a + b).real)
-    qsca = 2 / x**2 * np.sum(f * (abs(a) ** 2 + abs(b) ** 2))
-    qback = abs(np.sum(f * (-1.0) ** n * (a - b))) ** 2 / x**2
+    q_ext = 2 / x**2 * np.sum(f * (a + b).real)
+    q_sca = 2 / x**2 * np.sum(f * (abs(a) ** 2 + abs(b) ** 2))
+    q_back = abs(np.sum(f * (-1.0) ** n * (a - b))) ** 2 / x**2
     nn = n[:-1]
     cross = np.sum(nn * (nn + 2) / (nn + 1) * (a[:-1] * a[1:].conj() + b[:-1] * b[1:].conj()).real)
     cross += np.sum(f / (n * (n + 1)) * (a * b.conj()).real)
-    return qext, qsca, qback, 4 / x**2 * cross / qsca
+    return q_ext, q_sca, q_back, 4 / x**2 * cross / q_sca
 
 
 @pytest.mark.parametrize("m", [1.33, 1.5 + 0.01j, 2.0 + 1.0j, 3.0 + 4.0j, 1.2 + 0.05j])
@@ -82,9 +85,9 @@ def test_direct_bessel_series(path, m, x):
     # moderate x and |m|x where the direct evaluation itself is accurate (scipy's Bessel
     # functions to ~1e-15, a few digits lost to cancellation in a_n, b_n): measured agreement
     # 2e-13, 1e-9 asserted so that other scipy builds pass too
-    r = mie(m, x)
+    r = sphere(m, x, engine=path)
     ref = direct_series(m, x)
-    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], ref, rtol=1e-9)
+    np.testing.assert_allclose([r.q_ext, r.q_sca, r.q_back, r.g], ref, rtol=1e-9)
 
 
 # 60-digit mpmath 1.3.0 evaluation of the direct series (a_n, b_n of BH83 eq. 4.53
@@ -107,8 +110,8 @@ HIGH_PRECISION = {
 def test_high_precision_reference(path, m, x):
     # tiny x, m close to 1, |m| = 14, a large real index: the reference has 16 significant
     # digits; 2e-13 allows the rounding accumulated over up to ~150 terms of the recurrences
-    r = mie(m, x)
-    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], HIGH_PRECISION[(m, x)], rtol=2e-13)
+    r = sphere(m, x, engine=path)
+    np.testing.assert_allclose([r.q_ext, r.q_sca, r.q_back, r.g], HIGH_PRECISION[(m, x)], rtol=2e-13)
 
 
 def test_peer_miepython_grid():
@@ -121,12 +124,12 @@ def test_peer_miepython_grid():
     mm, xx = np.meshgrid(M_GRID, x, indexing="ij")
     keep = np.abs(mm) * xx >= 0.1
     m, x = mm[keep], xx[keep]
-    qext, qsca, qback, g = miepython.efficiencies_mx(np.conj(m), x)
-    r = mie(m, x)
-    np.testing.assert_allclose(r.qext, qext, rtol=1e-9)
-    np.testing.assert_allclose(r.qsca, qsca, rtol=1e-9)
-    np.testing.assert_allclose(r.g, g, rtol=1e-9, atol=1e-12)
-    np.testing.assert_allclose(r.qback, qback, rtol=1e-6)
+    peer_ext, peer_sca, peer_back, peer_g = miepython.efficiencies_mx(np.conj(m), x)
+    r = sphere(m, x)
+    np.testing.assert_allclose(r.q_ext, peer_ext, rtol=1e-9)
+    np.testing.assert_allclose(r.q_sca, peer_sca, rtol=1e-9)
+    np.testing.assert_allclose(r.g, peer_g, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(r.q_back, peer_back, rtol=1e-6)
 
 
 def test_peer_at_largest_sizes():
@@ -136,20 +139,20 @@ def test_peer_at_largest_sizes():
     # asserted)
     miepython = pytest.importorskip("miepython")
     m = np.array([1.33, 0.8 + 0.01j, 1.5 + 0.01j])
-    qext, qsca, qback, g = miepython.efficiencies_mx(np.conj(m), np.full(3, 1e4))
-    r = mie(m, 1e4)
-    np.testing.assert_allclose(r.qext, qext, rtol=1e-11)
-    np.testing.assert_allclose(r.qsca, qsca, rtol=1e-11)
-    np.testing.assert_allclose(r.g, g, rtol=1e-11)
+    peer_ext, peer_sca, _, peer_g = miepython.efficiencies_mx(np.conj(m), np.full(3, 1e4))
+    r = sphere(m, 1e4)
+    np.testing.assert_allclose(r.q_ext, peer_ext, rtol=1e-11)
+    np.testing.assert_allclose(r.q_sca, peer_sca, rtol=1e-11)
+    np.testing.assert_allclose(r.g, peer_g, rtol=1e-11)
 
 
 def test_peer_documented_example():
     # miepython 3.3 docstring of efficiencies_mx (tests/published.py). atol 6e-7: the values are
     # printed to six decimals, i.e. to ±5e-7
     ex = MIEPYTHON_EFFICIENCIES_MX_EXAMPLE
-    r = mie(ex["m"], ex["x"], convention="n-ik")
-    expected = [ex["qext"], ex["qsca"], ex["qback"], ex["g"]]
-    np.testing.assert_allclose([r.qext, r.qsca, r.qback, r.g], expected, atol=6e-7)
+    r = sphere(ex["m"], ex["x"], convention="n-ik")
+    expected = [ex["q_ext"], ex["q_sca"], ex["q_back"], ex["g"]]
+    np.testing.assert_allclose([r.q_ext, r.q_sca, r.q_back, r.g], expected, atol=6e-7)
 
 
 def test_rayleigh_limit(path):
@@ -158,10 +161,10 @@ def test_rayleigh_limit(path):
     # corrections are O(|m|²x²) relative, below 2e-8 here
     x = 1e-5
     pol = (M_GRID**2 - 1) / (M_GRID**2 + 2)
-    r = mie(M_GRID, x)
-    np.testing.assert_allclose(r.qsca, 8 / 3 * x**4 * np.abs(pol) ** 2, rtol=1e-6)
+    r = sphere(M_GRID, x, engine=path)
+    np.testing.assert_allclose(r.q_sca, 8 / 3 * x**4 * np.abs(pol) ** 2, rtol=1e-6)
     absorbing = M_GRID.imag > 0
-    np.testing.assert_allclose(r.qabs[absorbing], 4 * x * pol.imag[absorbing], rtol=1e-6)
+    np.testing.assert_allclose(r.q_abs[absorbing], 4 * x * pol.imag[absorbing], rtol=1e-6)
 
 
 def test_rayleigh_power_laws_down_to_smallest_size(path):
@@ -171,10 +174,10 @@ def test_rayleigh_power_laws_down_to_smallest_size(path):
     # from x = 1e-6 down to the smallest accepted x = 1e-30
     m = np.array([1.5 + 0.01j, 10.0 + 10.0j, 1.001, 0.5 + 0.001j])
     x = np.array([1e-6, 1e-30])
-    r = mie(m[:, None], x)
+    r = sphere(m[:, None], x, engine=path)
     pol = (m**2 - 1) / (m**2 + 2)
-    np.testing.assert_allclose(r.qback / x**4, (4 * np.abs(pol) ** 2)[:, None] * [1, 1], rtol=1e-6)
-    for q, power in ((r.qext, 1), (r.qsca, 4), (r.g, 2)):
+    np.testing.assert_allclose(r.q_back / x**4, (4 * np.abs(pol) ** 2)[:, None] * [1, 1], rtol=1e-6)
+    for q, power in ((r.q_ext, 1), (r.q_sca, 4), (r.g, 2)):
         scaled = q / x**power if power != 1 else np.where(m.imag[:, None] > 0, q / x, q / x**4)
         # (corrections at x = 1e-6 are O(|m|²x²) ~ 2e-10, a few times that for g)
         np.testing.assert_allclose(scaled[:, 1], scaled[:, 0], rtol=5e-9)
@@ -187,12 +190,12 @@ def test_tiny_spheres_keep_precision(path, x):
     # its forward/backward balance must still add up (Q_ext = Q_sca + Q_abs).
     m = np.array([1.5 + 0.01j, 1.5, 10.0 + 10.0j, 1.001])
     pol = (m**2 - 1) / (m**2 + 2)
-    r = mie(m, x)
-    np.testing.assert_allclose(r.qsca, 8 / 3 * x**4 * np.abs(pol) ** 2, rtol=max(10 * x**2, 1e-12))
+    r = sphere(m, x, engine=path)
+    np.testing.assert_allclose(r.q_sca, 8 / 3 * x**4 * np.abs(pol) ** 2, rtol=max(10 * x**2, 1e-12))
     assert np.all(np.abs(r.g) < 10 * x**2)
     # a real index scatters without absorbing: Q_ext equals Q_sca to full precision
     real = m.imag == 0
-    np.testing.assert_allclose(r.qext[real], r.qsca[real], rtol=1e-12)
+    np.testing.assert_allclose(r.q_ext[real], r.q_sca[real], rtol=1e-12)
 
 
 def test_small_absorbing_grains_depend_on_volume_only(path):
@@ -203,22 +206,22 @@ def test_small_absorbing_grains_depend_on_volume_only(path):
     m = np.array([1.7 + 0.6j, 3.0 + 4.0j, 1.5 + 0.01j])
     x_big = 2e-4
     x_small = x_big / 1000 ** (1 / 3)
-    c_big = mie(m, x_big).qext * x_big**2  # C_ext ∝ Q_ext x² at fixed wavelength
-    c_many = 1000 * mie(m, x_small).qext * x_small**2
+    c_big = sphere(m, x_big, engine=path).q_ext * x_big**2  # C_ext ∝ Q_ext x² at fixed wavelength
+    c_many = 1000 * sphere(m, x_small, engine=path).q_ext * x_small**2
     np.testing.assert_allclose(c_many, c_big, rtol=1e-5)
 
 
 def test_extinction_paradox(path):
     # van de Hulst 1957, §8.22 (extinction paradox): Q_ext -> 2 for x -> infinity
-    r = mie(M_GRID[:, None], np.array([300.0, 3000.0]))
-    assert np.all(np.abs(r.qext[:, 1] - 2) < 0.02)
-    assert np.all(np.abs(r.qext[:, 1] - 2) < np.abs(r.qext[:, 0] - 2))
+    r = sphere(M_GRID[:, None], np.array([300.0, 3000.0]), engine=path)
+    assert np.all(np.abs(r.q_ext[:, 1] - 2) < 0.02)
+    assert np.all(np.abs(r.q_ext[:, 1] - 2) < np.abs(r.q_ext[:, 0] - 2))
 
 
 def test_extinction_paradox_at_largest_sizes():
     # van de Hulst 1957, §8.22: Q_ext -> 2; x = 1e4 with |m| up to 14 (numba kernel)
-    r = mie(M_GRID, 1e4)
-    assert np.all(np.abs(r.qext - 2) < 0.01)
+    r = sphere(M_GRID, 1e4)
+    assert np.all(np.abs(r.q_ext - 2) < 0.01)
 
 
 def test_energy_conservation_and_shape(path):
@@ -228,71 +231,64 @@ def test_energy_conservation_and_shape(path):
     # Q_sca to rounding (measured 1.3e-15 relative; 1e-12 asserted), and an absorbing one never
     # scatters more than it extinguishes.
     m = np.append(M_GRID, [0.8, 10.0])
-    r = mie(m[:, None], np.logspace(-6, 3, 10))
-    assert r.qext.shape == (m.size, 10)
+    r = sphere(m[:, None], np.logspace(-6, 3, 10), engine=path)
+    assert r.q_ext.shape == (m.size, 10)
     real = m.imag == 0
-    np.testing.assert_allclose(r.qext[real], r.qsca[real], rtol=1e-12)
-    assert np.all(r.qabs[real] == 0)  # bitwise: documented as exactly 0 for a real index
-    assert np.all(r.qsca[~real] <= r.qext[~real]) and np.all(r.qabs >= 0)
+    np.testing.assert_allclose(r.q_ext[real], r.q_sca[real], rtol=1e-12)
+    assert np.all(r.q_abs[real] == 0)  # bitwise: documented as exactly 0 for a real index
+    assert np.all(r.q_sca[~real] <= r.q_ext[~real]) and np.all(r.q_abs >= 0)
     assert np.all((r.g > -1) & (r.g < 1))
 
 
-def test_numba_and_numpy_paths_agree(monkeypatch):
+@pytest.mark.skipif(not HAVE_NUMBA, reason="numba is not installed")
+def test_numba_and_numpy_paths_agree():
     # same formulas compiled and in numpy (common practice, no source)
     # (the numpy path is slow for |m|x ~ 1e5, so the largest x only for |m| <= 1.5)
     m = np.append(M_GRID[:, None] + np.zeros(10), [1.5 + 0.01j] * 10)
     x = np.append(np.tile(np.append(np.logspace(-6, 2, 9), 1234.5), M_GRID.size), np.logspace(-6, 4, 10))
     theta = np.linspace(0, np.pi, 5)
-    monkeypatch.setattr(mie_module, "USE_NUMBA", True)
-    a = mie(m, x)
-    s_a = amplitudes(M_GRID[:, None], x[:8], theta)
-    monkeypatch.setattr(mie_module, "USE_NUMBA", False)
-    b = mie(m, x)
-    s_b = amplitudes(M_GRID[:, None], x[:8], theta)
-    for name in ("qext", "qsca", "qabs", "qback", "g"):
+    a = sphere(m, x, engine="numba")
+    s_a = sphere_amplitudes(M_GRID[:, None], x[:8], theta, engine="numba")
+    b = sphere(m, x, engine="numpy")
+    s_b = sphere_amplitudes(M_GRID[:, None], x[:8], theta, engine="numpy")
+    for name in ("q_ext", "q_sca", "q_abs", "q_back", "g"):
         # The same sums in a different order of operations: rounding accumulated over up to ~1e4
         # terms stays below 1e-10; Q_back sums alternating terms: relative rounding ~1e-8 at x ~ 1e4
-        rtol = 1e-7 if name == "qback" else 1e-10
+        rtol = 1e-7 if name == "q_back" else 1e-10
         np.testing.assert_allclose(getattr(a, name), getattr(b, name), rtol=rtol, atol=1e-300, err_msg=name)
     np.testing.assert_allclose(s_a, s_b, rtol=1e-10)
 
 
-@pytest.mark.parametrize("numba", [True, False])
-def test_a_sphere_gets_the_same_bits_alone_or_in_a_batch(monkeypatch, numba):
+def test_a_sphere_gets_the_same_bits_alone_or_in_a_batch(path):
     # A sphere's efficiencies are a function of its own (m, x) only; quantities built by
     # subtracting nearly equal results (R_V of grey dust) rely on it, so this is bitwise
     # (a documented property of redcorr.mie, common practice, no source).
-    monkeypatch.setattr(mie_module, "USE_NUMBA", numba and mie_module.USE_NUMBA)
     rng = np.random.default_rng(7)
     x = 10 ** rng.uniform(-3, 3, 60)
     m = rng.uniform(1.1, 2.5, 60) + 1j * 10 ** rng.uniform(-4, 0, 60)
-    batch = mie(m, x)
+    batch = sphere(m, x, engine=path)
     for i in (0, 17, 42, 59):
-        alone = mie(m[i], x[i])
-        for name in ("qext", "qsca", "qabs", "qback", "g"):
+        alone = sphere(m[i], x[i], engine=path)
+        for name in ("q_ext", "q_sca", "q_abs", "q_back", "g"):
             assert getattr(alone, name) == getattr(batch, name)[i], name
-    reordered = mie(m[::-1], x[::-1])
-    for name in ("qext", "qsca", "qabs", "qback", "g"):
+    reordered = sphere(m[::-1], x[::-1], engine=path)
+    for name in ("q_ext", "q_sca", "q_abs", "q_back", "g"):
         np.testing.assert_array_equal(getattr(reordered, name)[::-1], getattr(batch, name), err_msg=name)
 
 
-@pytest.mark.parametrize("numba", [True, False])
-def test_sphere_of_the_medium_index_does_not_scatter(numba):
+def test_sphere_of_the_medium_index_does_not_scatter(path):
     # Bohren & Huffman 1983, eq. 4.53 (from memory): with m = 1 the numerators of a_n and b_n
     # vanish term by term, so nothing is scattered or absorbed at any size; g is then
-    # undefined and given as 0 (the convention documented in redcorr.mie.mie).
-    before, mie_module.USE_NUMBA = mie_module.USE_NUMBA, numba and mie_module.USE_NUMBA
-    try:
-        r = mie([1.0, 1.0 + 0j, 1.5], [1e-2, 10.0, 10.0])
-        s1, s2 = amplitudes(1.0, [0.1, 30.0], [0.0, 1.0])
-    finally:
-        mie_module.USE_NUMBA = before
-    for name in ("qext", "qsca", "qabs", "qback", "g"):
+    # undefined and given as 0 (the convention documented in redcorr.mie.sphere).
+    # (at x = 1e-4 every sum is exactly 0, where the numba kernel once divided by Q_sca = 0)
+    r = sphere([1.0, 1.0 + 0j, 1.0, 1.5], [1e-2, 10.0, 1e-4, 10.0], engine=path)
+    s1, s2 = sphere_amplitudes(1.0, [0.1, 30.0], [0.0, 1.0], engine=path)
+    for name in ("q_ext", "q_sca", "q_abs", "q_back", "g"):
         # bitwise zero: the numerators vanish exactly, so every sum is a sum of zeros
-        assert np.all(getattr(r, name)[:2] == 0), name
-    assert r.qext[2] > 1  # a real contrast still scatters
+        assert np.all(getattr(r, name)[:3] == 0), name
+    assert r.q_ext[3] > 1  # a real contrast still scatters
     assert not np.any(s1) and not np.any(s2)
-    a, b = mie_coefficients(1.0, 5.0)
+    a, b = series_coefficients(1.0, 5.0)
     assert a.size > 5 and not np.any(a) and not np.any(b)
 
 
@@ -307,53 +303,74 @@ def test_physical_bounds_on_random_spheres(n, log_k, absorbing, log_x):
     # common practice, no source: efficiencies are finite and >= 0, |g| < 1,
     # Q_ext = Q_sca + Q_abs, and both code paths give the same numbers. Contrasts |m - 1|
     # below 1e-6 are left out: there D_n(mx) - D_n(x) is rounding noise (see the Notes of
-    # redcorr.mie.mie); m = 1 itself has its own test.
+    # redcorr.mie.sphere); m = 1 itself has its own test.
     m = complex(n, 10**log_k if absorbing else 0.0)
     assume(abs(m - 1) > 1e-6)
     x = 10**log_x
-    a = mie(m, x)
-    before, mie_module.USE_NUMBA = mie_module.USE_NUMBA, False
-    try:
-        b = mie(m, x)
-    finally:
-        mie_module.USE_NUMBA = before
+    a = sphere(m, x)
+    b = sphere(m, x, engine="numpy")
     for r in (a, b):
-        assert np.isfinite([r.qext, r.qsca, r.qback, r.g]).all()
-        assert r.qsca >= 0 and r.qback >= 0 and r.qabs >= -1e-13 * r.qext
+        assert np.isfinite([r.q_ext, r.q_sca, r.q_back, r.g]).all()
+        assert r.q_sca >= 0 and r.q_back >= 0 and r.q_abs >= -1e-13 * r.q_ext
         assert abs(r.g) < 1
     # both code paths: the same sums, rounding only (see test_numba_and_numpy_paths_agree)
-    np.testing.assert_allclose([a.qext, a.qsca, a.g], [b.qext, b.qsca, b.g], rtol=1e-10, atol=1e-300)
+    np.testing.assert_allclose([a.q_ext, a.q_sca, a.g], [b.q_ext, b.q_sca, b.g], rtol=1e-10, atol=1e-300)
 
 
 def test_environment_variable_forces_numpy():
-    code = "import redcorr.mie as M; r = M.mie(1.5, 2.0); print(M.USE_NUMBA, float(r.qext))"
+    # REDCORR_MIE_NUMPY=1 at import makes engine="auto" mean numpy (the module docstring);
+    # numba is then not even imported
+    code = (
+        "import sys, redcorr.mie as M; r = M.sphere(1.5, 2.0); "
+        "print(M.default_engine(), 'numba' in sys.modules, float(r.q_ext))"
+    )
     env = dict(os.environ, REDCORR_MIE_NUMPY="1")
     out = subprocess.run([sys.executable, "-c", code], cwd=ROOT, env=env, capture_output=True, text=True, check=True)
-    used, qext = out.stdout.split()
-    assert used == "False"
+    used, numba_loaded, q_ext = out.stdout.split()
+    assert used == "numpy"
+    assert numba_loaded == "False"
     # scipy direct series as reference (BH83 eq. 4.53); at x = 2 with a real index there is no
     # cancellation to speak of and both agree to rounding, hence 1e-12
-    np.testing.assert_allclose(float(qext), direct_series(1.5, 2.0)[0], rtol=1e-12)
+    np.testing.assert_allclose(float(q_ext), direct_series(1.5, 2.0)[0], rtol=1e-12)
+
+
+def test_default_engine():
+    # without the environment variable, "auto" is numba when it imports (the module docstring)
+    assert mie_module.default_engine() == ("numba" if HAVE_NUMBA and not mie_module._NUMPY_REQUESTED else "numpy")
+    assert mie_module.ENGINES == ("auto", "numba", "numpy")
+
+
+def test_unknown_engine():
+    with pytest.raises(InputError, match=r"engine='fortran' is not known; choose one of 'auto', 'numba', 'numpy'"):
+        sphere(1.5, 1.0, engine="fortran")
+
+
+def test_numba_engine_without_numba(monkeypatch):
+    # engine="numba" is a request, never silently replaced: without numba it raises, while
+    # "auto" falls back to numpy
+    monkeypatch.setattr(mie_module, "_numba_kernels", lambda: None)
+    with pytest.raises(ImportError, match="engine='numba' needs numba"):
+        sphere(1.5, 1.0, engine="numba")
+    assert mie_module.default_engine() == "numpy"
+    assert sphere(1.5, 1.0).q_ext == sphere(1.5, 1.0, engine="numpy").q_ext
 
 
 def test_scalar_and_quantity_input():
-    r = mie(1.5 + 0.01j, 2.0 * u.dimensionless_unscaled)
-    assert r.qext.shape == ()
-    assert isinstance(r.qext, np.ndarray)
+    r = sphere(1.5 + 0.01j, 2.0 * u.dimensionless_unscaled)
+    assert r.q_ext.shape == ()
+    assert isinstance(r.q_ext, np.ndarray)
     # the single-scattering albedo is Q_sca/Q_ext by definition (BH83 Sect. 3.4): one division
-    np.testing.assert_allclose(r.albedo, r.qsca / r.qext, rtol=1e-15)
+    np.testing.assert_allclose(r.albedo, r.q_sca / r.q_ext, rtol=1e-15)
 
 
-def test_module_is_callable():
-    # redcorr.mie(m, x) and redcorr.mie.mie(m, x) are two spellings of one function. Bitwise
-    # identity is what is tested: the same code on the same input must give the same bits.
-    assert redcorr.mie(1.5, 2.0).qext == redcorr.mie.mie(1.5, 2.0).qext
+def test_module_is_a_plain_module():
+    assert not callable(mie_module)
 
 
 def test_term_count():
     # Wiscombe 1980, Appl. Opt. 19, 1505, eq. 3 (8 < x < 4200): x + 4.05 x^(1/3) + 2
     assert n_terms(100.0) == int(100 + 4.05 * 100 ** (1 / 3) + 2)
-    a, b = mie_coefficients(1.5, 100.0)
+    a, b = series_coefficients(1.5, 100.0)
     assert a.size == b.size == n_terms(100.0)
 
 
@@ -364,14 +381,14 @@ def test_optical_theorem_and_backscatter(path):
     # BH83 eq. 4.76 (optical theorem): Q_ext = (4/x²) Re S(0°), with S1(0) = S2(0);
     # BH83 eq. 4.82 with 4.74: Q_back = 4 |S1(180°)|² / x²
     m, x = M_GRID[:, None], np.array([0.2, 3.0, 40.0])
-    s1, s2 = amplitudes(m, x, [0.0, np.pi])
-    r = mie(m, x)
+    s1, s2 = sphere_amplitudes(m, x, [0.0, np.pi], engine=path)
+    r = sphere(m, x, engine=path)
     # Tolerances: S1(0) = S2(0) term by term (π_n = τ_n at θ = 0), so rounding only (1e-12);
     # the amplitude and efficiency routes are different sums: 1e-10, and 1e-8 for the
     # alternating backscatter sum
     np.testing.assert_allclose(s1[..., 0], s2[..., 0], rtol=1e-12)
-    np.testing.assert_allclose(4 / x**2 * s1[..., 0].real, r.qext, rtol=1e-10)
-    np.testing.assert_allclose(4 / x**2 * np.abs(s1[..., 1]) ** 2, r.qback, rtol=1e-8)
+    np.testing.assert_allclose(4 / x**2 * s1[..., 0].real, r.q_ext, rtol=1e-10)
+    np.testing.assert_allclose(4 / x**2 * np.abs(s1[..., 1]) ** 2, r.q_back, rtol=1e-8)
 
 
 def test_amplitudes_against_peer(path):
@@ -382,7 +399,7 @@ def test_amplitudes_against_peer(path):
     theta = np.linspace(0, np.pi, 13)
     for m, x in [(1.5 + 0.01j, 2.0), (3.0 + 4.0j, 25.0), (1.33, 0.7)]:
         p1, p2 = miepython.S1_S2(np.conj(m), x, np.cos(theta), norm="wiscombe")
-        s1, s2 = amplitudes(m, x, theta)
+        s1, s2 = sphere_amplitudes(m, x, theta, engine=path)
         np.testing.assert_allclose(s1, np.conj(p1), rtol=1e-9, atol=1e-12 * np.abs(p1).max())
         np.testing.assert_allclose(s2, np.conj(p2), rtol=1e-9, atol=1e-12 * np.abs(p2).max())
 
@@ -393,25 +410,25 @@ def test_phase_function_normalized_with_mean_cosine_g(path):
     # 4e-8 for these forward-peaked functions, hence 1e-6 and 1e-5 (g is a smaller number)
     theta = np.linspace(0, np.pi, 20001)
     m, x = np.array([1.5 + 0.01j, 2.0 + 1.0j]), np.array([[0.5], [5.0]])
-    p = phase_function(m, x, theta)
+    p = sphere_phase_function(m, x, theta, engine=path)
     assert p.shape == (2, 2, theta.size)
     w = 2 * np.pi * np.sin(theta)
     np.testing.assert_allclose(trapezoid(p * w, theta, axis=-1), 1, rtol=1e-6)
     g = trapezoid(p * w * np.cos(theta), theta, axis=-1)
-    np.testing.assert_allclose(g, mie(m, x).g, rtol=1e-5)
+    np.testing.assert_allclose(g, sphere(m, x, engine=path).g, rtol=1e-5)
 
 
 def test_phase_function_rayleigh_shape():
     # Rayleigh phase function 3(1 + cos²θ)/(16π) for x << 1 (BH83 §5.2, from memory); the
     # corrections are O(x²) = 1e-8 relative at x = 1e-4, hence 1e-6
     theta = np.linspace(0, np.pi, 7)
-    p = phase_function(1.5 + 0.1j, 1e-4, theta)
+    p = sphere_phase_function(1.5 + 0.1j, 1e-4, theta)
     np.testing.assert_allclose(p, 3 * (1 + np.cos(theta) ** 2) / (16 * np.pi), rtol=1e-6)
 
 
 def test_angles_as_quantity():
-    a = amplitudes(1.5, 2.0, 90 * u.deg)
-    b = amplitudes(1.5, 2.0, np.pi / 2)
+    a = sphere_amplitudes(1.5, 2.0, 90 * u.deg)
+    b = sphere_amplitudes(1.5, 2.0, np.pi / 2)
     np.testing.assert_allclose(a, b, rtol=1e-14)  # 90° → π/2 rad is exact to rounding
 
 
@@ -438,13 +455,13 @@ def test_angles_as_quantity():
 )
 def test_bad_input(kwargs, match):
     with pytest.raises(InputError, match=match):
-        mie(**kwargs)
+        sphere(**kwargs)
 
 
 def test_bad_angles():
     with pytest.raises(InputError, match=r"theta=4\.0 is outside the allowed range \[0, π\]"):
-        amplitudes(1.5, 1.0, [0.0, 4.0])
+        sphere_amplitudes(1.5, 1.0, [0.0, 4.0])
     with pytest.raises(InputError, match="theta has unit m"):
-        amplitudes(1.5, 1.0, 1.0 * u.m)
+        sphere_amplitudes(1.5, 1.0, 1.0 * u.m)
     with pytest.raises(InputError, match="must be single numbers"):
-        mie_coefficients([1.5, 1.6], 1.0)
+        series_coefficients([1.5, 1.6], 1.0)

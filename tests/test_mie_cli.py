@@ -10,7 +10,7 @@ import pytest
 from published import MIEPYTHON_EFFICIENCIES_MX_EXAMPLE
 
 from redcorr.cli import main
-from redcorr.mie import mie
+from redcorr.mie import sphere
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -18,10 +18,10 @@ ROOT = Path(__file__).resolve().parents[1]
 def test_json_keys_and_values(capsys):
     assert main(["mie", "--m", "1.5+0.01j", "--x", "0.1", "1", "10", "--json"]) == 0
     rows = json.loads(capsys.readouterr().out)
-    assert [list(r) for r in rows] == [["x", "qext", "qsca", "qabs", "qback", "g"]] * 3
+    assert [list(r) for r in rows] == [["x", "q_ext", "q_sca", "q_abs", "q_back", "g"]] * 3
     assert [r["x"] for r in rows] == [0.1, 1.0, 10.0]
-    ref = mie(1.5 + 0.01j, [0.1, 1.0, 10.0])
-    for name in ("qext", "qsca", "qabs", "qback", "g"):
+    ref = sphere(1.5 + 0.01j, [0.1, 1.0, 10.0])
+    for name in ("q_ext", "q_sca", "q_abs", "q_back", "g"):
         # bitwise: JSON carries Python's shortest round-tripping repr of each double, so the
         # command must print the library's numbers to the last bit
         np.testing.assert_array_equal([r[name] for r in rows], getattr(ref, name))
@@ -34,16 +34,15 @@ def test_documented_peer_value_through_the_cli(capsys):
     assert ex["m"] == 1.5 - 0.01j and ex["x"] == 2.0  # the arguments typed below
     assert main(["mie", "--m", "1.5-0.01i", "--convention", "n-ik", "--x", "2", "--json"]) == 0
     (row,) = json.loads(capsys.readouterr().out)
-    np.testing.assert_allclose(
-        [row["qext"], row["qsca"], row["qback"], row["g"]], [ex["qext"], ex["qsca"], ex["qback"], ex["g"]], atol=6e-7
-    )
+    names = ("q_ext", "q_sca", "q_back", "g")
+    np.testing.assert_allclose([row[k] for k in names], [ex[k] for k in names], atol=6e-7)
 
 
 def test_table_is_aligned(capsys):
     assert main(["mie", "--m", "2+1j", "--x", "0.5", "50"]) == 0
     lines = capsys.readouterr().out.splitlines()
     assert lines[0].startswith("# Mie") and "m = 2+1i" in lines[0]
-    assert lines[1].split() == ["x", "qext", "qsca", "qabs", "qback", "g"]
+    assert lines[1].split() == ["x", "q_ext", "q_sca", "q_abs", "q_back", "g"]
     assert len({len(line) for line in lines[2:]}) == 1  # header rule and rows share one width
 
 
@@ -77,7 +76,7 @@ def test_subprocess_entry_point():
         check=True,
     )
     (row,) = json.loads(out.stdout)
-    assert row["qabs"] == 0.0  # a real index does not absorb (common practice, no source)
+    assert row["q_abs"] == 0.0  # a real index does not absorb (common practice, no source)
     # bitwise: JSON round-trips doubles exactly, and the other process runs the same code
-    # (numba and numpy paths may differ in the last bits, so both processes use the default)
-    assert row["qext"] == float(mie(1.33, 3.0).qext)
+    # (the numba and numpy engines may differ in the last bits, so both processes use the default)
+    assert row["q_ext"] == float(sphere(1.33, 3.0).q_ext)

@@ -88,7 +88,7 @@ async def e_bv_fixed_r_v_laws_grain_models_and_warnings(app, pilot, tmp_path):
     assert screen.a_v == 4.3 * 0.5 and screen.ebv == 0.5
 
     await pick(pilot, "smc")
-    assert screen.curve.name == "g03-smcbar"
+    assert screen.curve.name == "g03-smc-bar"
     assert screen.query_one("#r-v").disabled
     # Gordon et al. 2003, Table 2: SMC Bar average R_V = 2.74
     assert screen.query_one("#r-v").value == "2.74"

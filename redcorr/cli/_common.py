@@ -5,10 +5,13 @@ import json
 import math
 import sys
 
-__all__ = ["WAVE_UNITS", "wavelengths", "print_json", "print_table", "finite_float"]
+__all__ = ["WAVE_UNITS", "UNIT_HELP", "wavelengths", "print_json", "print_table", "finite_float"]
 
-WAVE_UNITS = {"um": "um", "nm": "nm", "AA": "AA", "invum": "1 / um"}
-"""Choices of ``--unit`` (micron, nanometre, ångström, inverse micron) → astropy unit string."""
+WAVE_UNITS = {"um": "um", "nm": "nm", "AA": "AA", "1/um": "1 / um", "um-1": "1 / um"}
+"""Choices of ``--unit`` (micron, nanometre, ångström, inverse micron twice) → astropy unit string."""
+
+UNIT_HELP = "unit of --wave: um, nm, AA, or 1/um (also written um-1) for wavenumbers; default um"
+"""Help text of ``--unit``; it names every token of :data:`WAVE_UNITS`."""
 
 
 def wavelengths(values, unit):

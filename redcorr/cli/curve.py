@@ -1,6 +1,6 @@
 """``redcorr curve``: evaluate an extinction law at given wavelengths."""
 
-from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table, wavelengths
+from redcorr.cli._common import UNIT_HELP, WAVE_UNITS, finite_float, print_json, print_table, wavelengths
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
@@ -17,10 +17,14 @@ def add_parser(sub):
         ),
     )
     p.add_argument("law", nargs="?", metavar="LAW", help="law name or file:PATH")
-    p.add_argument("--list", action="store_true", help="list every law with its ranges and citation")
+    p.add_argument(
+        "--list", action="store_true",
+        help="list every law with its R_V limits (refused outside), the R_V span its paper observed "
+        "(warns outside), wavelength range and citation",
+    )
     p.add_argument("--rv", type=finite_float, metavar="R", help="R_V = A(V)/E(B-V) (law default if omitted)")
     p.add_argument("--wave", nargs="+", type=finite_float, metavar="W", help="wavelengths, in --unit")
-    p.add_argument("--unit", choices=sorted(WAVE_UNITS), default="um", help="unit of --wave (default um)")
+    p.add_argument("--unit", choices=list(WAVE_UNITS), default="um", help=UNIT_HELP)
     p.add_argument("--extrapolate", action="store_true", help="evaluate outside the law's range, with a warning")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.add_argument("--plot", metavar="FILE.png", help="also draw A(λ)/A(V) against 1/λ into a PNG")
@@ -33,12 +37,13 @@ def _list(as_json):
 
     rows = []
     for info in list_curves():
-        r_lo_hi = info["r_v_range"]
+        r_lo_hi, seen = info["r_v_limits"], info["r_v_observed"]
         rows.append(
             {
                 "name": info["name"],
                 "R_V": f"{info['default_r_v']:g}" + ("" if r_lo_hi else " (fixed)"),
-                "R_V_range": f"{r_lo_hi[0]:g}-{r_lo_hi[1]:g}" if r_lo_hi else "-",
+                "R_V_limits": f"{r_lo_hi[0]:g}-{r_lo_hi[1]:g}" if r_lo_hi else "-",
+                "R_V_observed": f"{seen[0]:g}-{seen[1]:g}" if seen else "-",
                 "wave_um": "{:.3f}-{:.3f}".format(*info["wave_range_um"]),
                 "citation": info["citation"],
             }
@@ -47,7 +52,7 @@ def _list(as_json):
     if as_json:
         print_json({"laws": list_curves(), "grain_models": models})
     else:
-        print_table(rows, ["name", "R_V", "R_V_range", "wave_um", "citation"])
+        print_table(rows, ["name", "R_V", "R_V_limits", "R_V_observed", "wave_um", "citation"])
         print("\nGrain models (Mie theory; details with redcorr grain --list):")
         print_table(models, ["name", "description"])
         print("\nAlso: file:PATH, a tabulated curve (ECSV or CSV: wavelength_um, A_over_AV),")

@@ -96,7 +96,7 @@ def run(args):
         r_v=args.rv,
         column=args.column,
     )
-    ebv, flags = dust_map.ebv(lon, lat, frame=frame, r_v=args.rv)
+    ebv, flags = dust_map.reddening_at(lon, lat, frame=frame, r_v=args.rv)
     ra, dec = transform_lonlat(lon, lat, frame, parse_frame("icrs"))
     gl, gb = transform_lonlat(lon, lat, frame, parse_frame("galactic"))
     rows = [

@@ -1,6 +1,6 @@
 """``redcorr grain``: extinction, albedo and g of a grain model at given wavelengths."""
 
-from redcorr.cli._common import WAVE_UNITS, finite_float, print_json, print_table, wavelengths
+from redcorr.cli._common import UNIT_HELP, WAVE_UNITS, finite_float, print_json, print_table, wavelengths
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run", "grain_rows"]
@@ -20,7 +20,7 @@ def add_parser(sub):
     p.add_argument("model", nargs="?", metavar="MODEL", help="grain-model name or grain:PATH.toml")
     p.add_argument("--list", action="store_true", help="list the named grain models and materials")
     p.add_argument("--wave", nargs="+", type=finite_float, metavar="W", help="wavelengths, in --unit")
-    p.add_argument("--unit", choices=sorted(WAVE_UNITS), default="um", help="unit of --wave (default um)")
+    p.add_argument("--unit", choices=list(WAVE_UNITS), default="um", help=UNIT_HELP)
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.add_argument("--no-cache", action="store_true", help="compute afresh; neither read nor write the cache")
     p.add_argument(

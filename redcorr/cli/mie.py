@@ -5,7 +5,7 @@ from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
 
-COLUMNS = ["x", "qext", "qsca", "qabs", "qback", "g"]
+COLUMNS = ["x", "q_ext", "q_sca", "q_abs", "q_back", "g"]
 """Keys of each JSON object and columns of the table, in order."""
 
 
@@ -43,18 +43,18 @@ def add_parser(sub):
 def run(args):
     import numpy as np  # heavy: loaded on use
 
-    from redcorr.mie import mie
+    from redcorr.mie import sphere
 
     m = _complex(args.m)
     x = np.asarray(args.x, dtype=float)
-    res = mie(m, x, convention=args.convention)
+    res = sphere(m, x, convention=args.convention)
     rows = [
         {
             "x": float(xi),
-            "qext": float(res.qext[i]),
-            "qsca": float(res.qsca[i]),
-            "qabs": float(res.qabs[i]),
-            "qback": float(res.qback[i]),
+            "q_ext": float(res.q_ext[i]),
+            "q_sca": float(res.q_sca[i]),
+            "q_abs": float(res.q_abs[i]),
+            "q_back": float(res.q_back[i]),
             "g": float(res.g[i]),
         }
         for i, xi in enumerate(x)

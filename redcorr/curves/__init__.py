@@ -7,28 +7,28 @@ Choose a law by its short name::
     >>> round(float(curve(0.55)), 2)
     1.0
 
-Every curve is an :class:`ExtinctionCurve`; see its docstring for the
+Every curve is a :class:`DustCurve`; see its docstring for the
 conventions shared by all of them.
 """
 
 from redcorr._validate import check_choice
-from redcorr.curves._base import ExtinctionCurve
+from redcorr.curves._base import DustCurve
 from redcorr.curves.calzetti import Calzetti00
 from redcorr.curves.ccm import CCM89, O94
-from redcorr.curves.fitzpatrick import F99, FM90, G03LMC2, G03LMCAverage, G03SMCBar, fm90_excess
+from redcorr.curves.fitzpatrick import F99, FM90, G03Lmc2Supershell, G03LmcAverage, G03SmcBar, fm90_excess
 from redcorr.curves.tabulated import TabulatedCurve, monochromatic_r_v
 
 __all__ = [
-    "ExtinctionCurve",
+    "DustCurve",
     "TabulatedCurve",
     "CCM89",
     "O94",
     "F99",
     "FM90",
     "Calzetti00",
-    "G03SMCBar",
-    "G03LMCAverage",
-    "G03LMC2",
+    "G03SmcBar",
+    "G03LmcAverage",
+    "G03Lmc2Supershell",
     "LAWS",
     "get_curve",
     "list_curves",
@@ -42,17 +42,17 @@ LAWS = {}
 
 
 def register_law(cls):
-    """Add an `ExtinctionCurve` subclass to the registry under ``cls.name``.
+    """Add a `DustCurve` subclass to the registry under ``cls.name``.
 
     Usable as a class decorator. Names are stored lower case.
     """
-    if not (isinstance(cls, type) and issubclass(cls, ExtinctionCurve)) or not cls.name:
-        raise TypeError(f"{cls!r} is not a named ExtinctionCurve subclass")
+    if not (isinstance(cls, type) and issubclass(cls, DustCurve)) or not cls.name:
+        raise TypeError(f"{cls!r} is not a named DustCurve subclass")
     LAWS[cls.name.lower()] = cls
     return cls
 
 
-for _cls in (CCM89, O94, F99, FM90, Calzetti00, G03SMCBar, G03LMCAverage, G03LMC2):
+for _cls in (CCM89, O94, F99, FM90, Calzetti00, G03SmcBar, G03LmcAverage, G03Lmc2Supershell):
     register_law(_cls)
 
 
@@ -83,17 +83,19 @@ def list_curves():
     Returns
     -------
     list of dict
-        Keys ``name``, ``r_v_range`` (None if fixed), ``default_r_v``,
-        ``wave_range_um`` and ``citation``.
+        Keys ``name``, ``r_v_limits`` (allowed R_V; None if fixed),
+        ``r_v_observed`` (R_V span of the law's data, warning outside it; None
+        if not given), ``default_r_v``, ``wave_range_um`` and ``citation``.
     """
     out = []
     for key in sorted(LAWS):
         cls = LAWS[key]
-        lo, hi = cls.x_range
+        lo, hi = cls.wavenumber_limits
         out.append(
             {
                 "name": key,
-                "r_v_range": cls.r_v_range,
+                "r_v_limits": cls.r_v_limits,
+                "r_v_observed": cls.r_v_observed,
                 "default_r_v": cls.default_r_v,
                 "wave_range_um": (1.0 / hi, 1.0 / lo),
                 "citation": cls.citation,

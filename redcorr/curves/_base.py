@@ -2,7 +2,7 @@
 
 A curve maps wavelength to the ratio A(λ)/A(V) of the extinction at λ to the
 extinction in the V band. Laws, tabulated curves and (later) grain models all
-derive from :class:`ExtinctionCurve`, so band integration, catalog
+derive from :class:`DustCurve`, so band integration, catalog
 correction, planning and the user interfaces accept any of them.
 
 Conventions
@@ -23,10 +23,10 @@ from astropy import units as u
 from redcorr._validate import check_finite, inverse_micron
 from redcorr.exceptions import ExtrapolationWarning, InputError, OutOfRangeWarning
 
-__all__ = ["ExtinctionCurve"]
+__all__ = ["DustCurve"]
 
 
-class ExtinctionCurve(abc.ABC):
+class DustCurve(abc.ABC):
     """Base class: A(λ)/A(V) as a function of wavelength.
 
     Subclasses set the class attributes and implement ``_evaluate(x)``,
@@ -38,13 +38,13 @@ class ExtinctionCurve(abc.ABC):
         Short registry name, e.g. ``"ccm89"``.
     citation : str
         The paper the formulas come from.
-    x_range : tuple of float
+    wavenumber_limits : tuple of float
         Validity range in wavenumber, µm⁻¹.
-    r_v_range : tuple of float or None
+    r_v_limits : tuple of float or None
         Allowed R_V; ``None`` for curves with a fixed R_V.
-    r_v_sample : tuple of float or None
+    r_v_observed : tuple of float or None
         Span of R_V in the data the law was fitted to; values outside it but
-        inside ``r_v_range`` are allowed with an `OutOfRangeWarning`.
+        inside ``r_v_limits`` are allowed with an `OutOfRangeWarning`.
     can_extrapolate : bool
         Whether ``extrapolate=True`` is honoured (formula-based curves) or
         refused (tabulated curves).
@@ -52,14 +52,14 @@ class ExtinctionCurve(abc.ABC):
 
     name = ""
     citation = ""
-    x_range = (0.0, np.inf)
-    r_v_range = None
-    r_v_sample = None
+    wavenumber_limits = (0.0, np.inf)
+    r_v_limits = None
+    r_v_observed = None
     default_r_v = 3.1
     can_extrapolate = True
 
     def __init__(self, r_v=None):
-        if self.r_v_range is None:
+        if self.r_v_limits is None:
             if r_v is not None and not np.isclose(check_finite("r_v", r_v), self.default_r_v):
                 raise InputError(
                     f"r_v={r_v!r} is not allowed: {self.name} has a fixed R_V of "
@@ -69,16 +69,16 @@ class ExtinctionCurve(abc.ABC):
             return
         r_v = self.default_r_v if r_v is None else r_v
         value = check_finite("r_v", r_v)
-        lo, hi = self.r_v_range
+        lo, hi = self.r_v_limits
         if not lo <= value <= hi:
             raise InputError(
                 f"r_v={r_v!r} is outside the range {self.name} supports, [{lo:g}, {hi:g}]"
             )
-        if self.r_v_sample is not None and not (
-            self.r_v_sample[0] <= value <= self.r_v_sample[1]
+        if self.r_v_observed is not None and not (
+            self.r_v_observed[0] <= value <= self.r_v_observed[1]
         ):
             warnings.warn(
-                f"r_v={value:g} lies outside the R_V span {self.r_v_sample} of the "
+                f"r_v={value:g} lies outside the R_V span {self.r_v_observed} of the "
                 f"sight lines {self.name} was fitted to; the curve is an extrapolation",
                 OutOfRangeWarning,
                 stacklevel=3,
@@ -93,7 +93,7 @@ class ExtinctionCurve(abc.ABC):
     @property
     def wave_range(self):
         """`~astropy.units.Quantity`: (shortest, longest) valid wavelength in µm."""
-        lo, hi = self.x_range
+        lo, hi = self.wavenumber_limits
         with np.errstate(divide="ignore"):
             return (1.0 / np.array([hi, lo])) * u.um
 
@@ -127,7 +127,7 @@ class ExtinctionCurve(abc.ABC):
         return self.r_v * self(wave, extrapolate=extrapolate)
 
     def _check_x(self, x, extrapolate):
-        lo, hi = self.x_range
+        lo, hi = self.wavenumber_limits
         outside = np.isfinite(x) & ((x < lo) | (x > hi))
         if not np.any(outside):
             return

@@ -3,12 +3,12 @@
 import numpy as np
 from numpy.polynomial import polynomial as P
 
-from redcorr.curves._base import ExtinctionCurve
+from redcorr.curves._base import DustCurve
 
 __all__ = ["Calzetti00"]
 
 
-class Calzetti00(ExtinctionCurve):
+class Calzetti00(DustCurve):
     """Calzetti et al. (2000) attenuation curve of starburst galaxies.
 
     Parameters
@@ -35,9 +35,9 @@ class Calzetti00(ExtinctionCurve):
 
     name = "calzetti00"
     citation = "Calzetti et al. 2000, ApJ 533, 682 (doi:10.1086/308692); attenuation, not extinction"
-    x_range = (1.0 / 2.2, 1.0 / 0.12)
-    r_v_range = (2.0, 6.0)
-    r_v_sample = (3.25, 4.85)
+    wavenumber_limits = (1.0 / 2.2, 1.0 / 0.12)
+    r_v_limits = (2.0, 6.0)
+    r_v_observed = (3.25, 4.85)
     default_r_v = 4.05
 
     def _evaluate(self, x):

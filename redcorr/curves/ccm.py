@@ -9,7 +9,7 @@ optical polynomials.
 import numpy as np
 from numpy.polynomial import polynomial as P
 
-from redcorr.curves._base import ExtinctionCurve
+from redcorr.curves._base import DustCurve
 
 __all__ = ["CCM89", "O94"]
 
@@ -51,14 +51,16 @@ def _ab(x, opt_a, opt_b):
     return a, b
 
 
-class CCM89(ExtinctionCurve):
+class CCM89(DustCurve):
     """Cardelli, Clayton & Mathis (1989) Milky Way extinction law.
 
     Parameters
     ----------
     r_v : float, optional
-        R_V = A(V)/E(B-V), default 3.1. Allowed 2.0–6.0; the law was fitted
-        to sight lines with R_V ≈ 2.6–5.6 and warns outside that span.
+        R_V = A(V)/E(B-V), default 3.1. The sight lines the law was fitted
+        to have R_V ≈ 2.6–5.6; values outside that span warn
+        (`OutOfRangeWarning`), and values more than 0.5 beyond it (outside
+        2.1–6.1) are refused.
 
     Notes
     -----
@@ -80,10 +82,12 @@ class CCM89(ExtinctionCurve):
 
     name = "ccm89"
     citation = "Cardelli, Clayton & Mathis 1989, ApJ 345, 245 (doi:10.1086/167900)"
-    x_range = (0.3, 10.0)
-    r_v_range = (2.0, 6.0)
-    # Sample span of R_V quoted from memory of CCM89 Sect. II.
-    r_v_sample = (2.6, 5.6)
+    wavenumber_limits = (0.3, 10.0)
+    # R_V of the sight lines CCM89 fitted: about 2.6 to 5.6 (Cardelli, Clayton &
+    # Mathis 1989, ApJ 345, 245, Sect. II; from memory). Beyond that the law is an
+    # extrapolation and warns; more than 0.5 beyond it, it is refused (our margin, no source).
+    r_v_observed = (2.6, 5.6)
+    r_v_limits = (2.1, 6.1)
     _opt = (_CCM_OPT_A, _CCM_OPT_B)
 
     def _evaluate(self, x):

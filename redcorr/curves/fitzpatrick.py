@@ -19,9 +19,9 @@ import abc
 import numpy as np
 
 from redcorr._validate import check_finite, check_positive
-from redcorr.curves._base import ExtinctionCurve
+from redcorr.curves._base import DustCurve
 
-__all__ = ["FM90", "F99", "G03SMCBar", "G03LMCAverage", "G03LMC2", "fm90_excess"]
+__all__ = ["FM90", "F99", "G03SmcBar", "G03LmcAverage", "G03Lmc2Supershell", "fm90_excess"]
 
 _X_UV_JOIN = 1.0 / 0.27  # µm⁻¹; shortward of 2700 Å the FM90 form is used
 _X_UV_KNOTS = np.array([1.0 / 0.27, 1.0 / 0.26])
@@ -55,14 +55,14 @@ def fm90_excess(x, c1, c2, c3, c4, x0, gamma):
     return c1 + c2 * x + c3 * drude + c4 * fuv
 
 
-class _SplineFM(ExtinctionCurve):
+class _SplineFM(DustCurve):
     """FM90 in the ultraviolet joined to optical/IR anchors by a cubic spline.
 
     Subclasses provide ``_fm_params()`` and ``_anchors()``, the latter as
     (x [µm⁻¹], A/E(B−V)) arrays in increasing x, excluding x = 0.
     """
 
-    x_range = (0.3, 10.0)
+    wavenumber_limits = (0.3, 10.0)
 
     @abc.abstractmethod
     def _fm_params(self):
@@ -97,7 +97,9 @@ class F99(_SplineFM):
     Parameters
     ----------
     r_v : float, optional
-        R_V, default 3.1; allowed 2.0–6.0.
+        R_V, default 3.1. F99's R_V-dependent curves cover R_V ≈ 2.3–5.5;
+        values outside that span warn (`OutOfRangeWarning`), and values more
+        than 0.5 beyond it (outside 1.8–6.0) are refused.
 
     Notes
     -----
@@ -129,7 +131,11 @@ class F99(_SplineFM):
 
     name = "f99"
     citation = "Fitzpatrick 1999, PASP 111, 63 (doi:10.1086/316293)"
-    r_v_range = (2.0, 6.0)
+    # R_V span of the curves F99 derives and shows: about 2.3 to 5.5 (Fitzpatrick 1999,
+    # PASP 111, 63, Sect. 3; from memory). Beyond that the law is an extrapolation and
+    # warns; more than 0.5 beyond it, it is refused (our margin, no source).
+    r_v_observed = (2.3, 5.5)
+    r_v_limits = (1.8, 6.0)
 
     def _fm_params(self):
         c2 = -0.824 + 4.717 / self.r_v
@@ -151,7 +157,7 @@ class F99(_SplineFM):
         return x, y
 
 
-class FM90(ExtinctionCurve):
+class FM90(DustCurve):
     """Fitzpatrick & Massa (1990) parametric ultraviolet curve.
 
     Parameters
@@ -176,8 +182,8 @@ class FM90(ExtinctionCurve):
 
     name = "fm90"
     citation = "Fitzpatrick & Massa 1990, ApJS 72, 163 (doi:10.1086/191413)"
-    x_range = (3.3, 8.7)
-    r_v_range = (2.0, 6.0)
+    wavenumber_limits = (3.3, 8.7)
+    r_v_limits = (2.0, 6.0)
 
     def __init__(self, r_v=None, *, c1=None, c2=None, c3=3.23, c4=0.41, x0=4.596, gamma=0.99):
         super().__init__(r_v)
@@ -205,8 +211,8 @@ _G03_ANCHOR_X = 1.0 / np.array([2.198, 1.65, 1.25, 0.81, 0.65, 0.55, 0.44, 0.37]
 
 
 class _G03(_SplineFM):
-    r_v_range = None
-    x_range = (0.3, 8.7)
+    r_v_limits = None
+    wavenumber_limits = (0.3, 8.7)
     _fm = ()
     _anchor_a_av = ()
 
@@ -217,7 +223,7 @@ class _G03(_SplineFM):
         return _G03_ANCHOR_X, np.asarray(self._anchor_a_av) * self.r_v
 
 
-class G03SMCBar(_G03):
+class G03SmcBar(_G03):
     """Gordon et al. (2003) SMC Bar average extinction curve, R_V = 2.74.
 
     FM90 ultraviolet (c1 = −4.959, c2 = 2.264, c3 = 0.389, c4 = 0.461,
@@ -231,14 +237,14 @@ class G03SMCBar(_G03):
     .. [2] Gordon, K. D., et al. 2016, ApJ, 826, 104 (smoothed K, J anchors)
     """
 
-    name = "g03-smcbar"
+    name = "g03-smc-bar"
     citation = "Gordon et al. 2003, ApJ 594, 279 (doi:10.1086/376774), SMC Bar average"
     default_r_v = 2.74
     _fm = (-4.959, 2.264, 0.389, 0.461, 4.6, 1.0)
     _anchor_a_av = (0.110, 0.169, 0.250, 0.567, 0.801, 1.000, 1.374, 1.672)
 
 
-class G03LMCAverage(_G03):
+class G03LmcAverage(_G03):
     """Gordon et al. (2003) LMC average extinction curve, R_V = 3.41.
 
     FM90 ultraviolet (c1 = −0.890, c2 = 0.998, c3 = 2.719, c4 = 0.400,
@@ -251,14 +257,14 @@ class G03LMCAverage(_G03):
        doi:10.1086/376774
     """
 
-    name = "g03-lmcavg"
+    name = "g03-lmc-average"
     citation = "Gordon et al. 2003, ApJ 594, 279 (doi:10.1086/376774), LMC average"
     default_r_v = 3.41
     _fm = (-0.890, 0.998, 2.719, 0.400, 4.579, 0.934)
     _anchor_a_av = (0.100, 0.186, 0.257, 0.565, 0.800, 1.000, 1.319, 1.614)
 
 
-class G03LMC2(_G03):
+class G03Lmc2Supershell(_G03):
     """Gordon et al. (2003) LMC2 supershell average curve, R_V = 2.76.
 
     FM90 ultraviolet (c1 = −1.475, c2 = 1.132, c3 = 1.463, c4 = 0.294,
@@ -271,7 +277,7 @@ class G03LMC2(_G03):
        doi:10.1086/376774
     """
 
-    name = "g03-lmc2"
+    name = "g03-lmc2-supershell"
     citation = "Gordon et al. 2003, ApJ 594, 279 (doi:10.1086/376774), LMC2 supershell average"
     default_r_v = 2.76
     _fm = (-1.475, 1.132, 1.463, 0.294, 4.558, 0.945)

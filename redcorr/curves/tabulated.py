@@ -4,7 +4,7 @@ import numpy as np
 from astropy import units as u
 
 from redcorr._validate import check_positive, inverse_micron
-from redcorr.curves._base import ExtinctionCurve
+from redcorr.curves._base import DustCurve
 from redcorr.exceptions import InputError
 
 __all__ = ["TabulatedCurve", "monochromatic_r_v"]
@@ -22,7 +22,7 @@ def monochromatic_r_v(a_b_over_a_v):
     return 1.0 / (np.asarray(a_b_over_a_v, dtype=float) - 1.0)
 
 
-class TabulatedCurve(ExtinctionCurve):
+class TabulatedCurve(DustCurve):
     """An extinction curve interpolated from a table.
 
     Parameters
@@ -54,7 +54,7 @@ class TabulatedCurve(ExtinctionCurve):
     """
 
     can_extrapolate = False
-    r_v_range = None
+    r_v_limits = None
 
     def __init__(self, wave, a_over_av, *, r_v=None, name="table", citation="user table"):
         from scipy.interpolate import PchipInterpolator  # heavy: loaded when a table is built, not on import
@@ -76,11 +76,11 @@ class TabulatedCurve(ExtinctionCurve):
             raise InputError(f"wave has a repeated value {dup:.6g} µm; wavelengths must be distinct")
         self.name = name
         self.citation = citation
-        self.x_range = (float(x[0]), float(x[-1]))
+        self.wavenumber_limits = (float(x[0]), float(x[-1]))
         self._interp = PchipInterpolator(x, y, extrapolate=False)
         self._table = (x, y)
         if r_v is None:
-            lo, hi = self.x_range
+            lo, hi = self.wavenumber_limits
             if lo <= 1 / V_WAVE_UM and 1 / B_WAVE_UM <= hi:
                 r_v = float(monochromatic_r_v(self._interp(1 / B_WAVE_UM) / self._interp(1 / V_WAVE_UM)))
             else:

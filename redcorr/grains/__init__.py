@@ -6,7 +6,7 @@ Named models::
     >>> [m["name"] for m in list_grain_models()]
     ['mrn77', 'wd01-rv3.1', 'wd01-rv4.0', 'wd01-rv5.5']
 
-``get_grain_model(name).curve()`` is an :class:`~redcorr.curves.ExtinctionCurve`;
+``get_grain_model(name).curve()`` is a :class:`~redcorr.curves.DustCurve`;
 :func:`redcorr.io.load_curve` also resolves these names and ``grain:PATH.toml``.
 
 Packaged materials are listed by :func:`list_materials`; their tables are

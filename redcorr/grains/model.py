@@ -2,10 +2,10 @@
 
 A :class:`GrainModel` is a list of :class:`Component` s, each a material, a
 size distribution (per H nucleon) and an abundance factor. Mie theory
-(:func:`redcorr.mie.mie`) gives each sphere's efficiencies; integrating over
+(:func:`redcorr.mie.sphere`) gives each sphere's efficiencies; integrating over
 sizes gives cross sections per H nucleon, from which follow A(λ)/A(V), R_V,
 the albedo, the asymmetry g, mass opacities and an extinction curve that
-plugs into :class:`redcorr.curves.ExtinctionCurve`.
+plugs into :class:`redcorr.curves.DustCurve`.
 
 Conventions
 -----------
@@ -155,7 +155,7 @@ class Component:
 
     def cross_sections(self, wave_um):
         """C_ext, C_sca, C_abs and g·C_sca per H nucleon (cm²) at ``wave_um`` (1-d, µm)."""
-        from redcorr.mie import mie  # noqa: PLC0415 - the kernel module is heavy; load on use
+        from redcorr.mie import sphere  # noqa: PLC0415 - the kernel module is heavy; load on use
 
         lo, hi = self.material.wave_range
         if np.any((wave_um < lo) | (wave_um > hi)):
@@ -174,10 +174,10 @@ class Component:
             x = 2 * math.pi * a[mask][None, :] / lam
             for weight, table in parts:
                 m = table(wave_um)[:, None]
-                res = mie(m, x)
-                cabs[:, mask] += weight * area[mask] * res.qabs
-                csca[:, mask] += weight * area[mask] * res.qsca
-                gsca[:, mask] += weight * area[mask] * res.qsca * res.g
+                res = sphere(m, x)
+                cabs[:, mask] += weight * area[mask] * res.q_abs
+                csca[:, mask] += weight * area[mask] * res.q_sca
+                gsca[:, mask] += weight * area[mask] * res.q_sca * res.g
         if self.pah is not None:
             xi = pah_fraction(a, self.pah.q_gra, self.pah.a_xi_um)[None, :]
             sigma = pah_cross_section(lam, a[None, :], self.pah.ionized_fraction)

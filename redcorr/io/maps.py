@@ -44,7 +44,7 @@ import numpy as np
 from redcorr._validate import check_choice
 from redcorr.exceptions import InputError
 from redcorr.io._toml import load_toml
-from redcorr.maps import HEALPIX_UNSEEN, HealpixMap, ImageMap, ImageTile
+from redcorr.maps import HEALPIX_UNSEEN, HealpixReddeningMap, ImageReddeningMap, ImageTile
 
 __all__ = ["open_map", "read_healpix_table", "read_image_map", "read_map_description", "DESCRIPTION_KEYS"]
 
@@ -176,11 +176,11 @@ def read_healpix_table(path, column=None, hdu=None, **kwargs):
         HDU to read; default the first HEALPix table.
     **kwargs
         ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name`` for
-        `~redcorr.maps.HealpixMap`.
+        `~redcorr.maps.HealpixReddeningMap`.
 
     Returns
     -------
-    HealpixMap
+    HealpixReddeningMap
     """
     with _open_fits(path) as hdul:
         return _healpix_from_hdul(hdul, path, column, hdu, kwargs)
@@ -235,7 +235,9 @@ def _healpix_from_hdul(hdul, path, column, hdu, kwargs):
     kwargs.setdefault("sources", (str(path),))
     blank = header.get(f"TNULL{col + 1}") if np.issubdtype(values.dtype, np.integer) else HEALPIX_UNSEEN
     try:
-        return HealpixMap(values, nside, order=ordering, frame=frame, pixels=pixels, blank_value=blank, **kwargs)
+        return HealpixReddeningMap(
+            values, nside, order=ordering, frame=frame, pixels=pixels, blank_value=blank, **kwargs
+        )
     except InputError as exc:
         raise InputError(f"map file {str(path)!r}: {exc}") from None
 
@@ -265,11 +267,11 @@ def read_image_map(paths, hemispheres=None, hdus=None, **kwargs):
         Per image: HDU to read (default: the first image with a celestial WCS).
     **kwargs
         ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name`` for
-        `~redcorr.maps.ImageMap`.
+        `~redcorr.maps.ImageReddeningMap`.
 
     Returns
     -------
-    ImageMap
+    ImageReddeningMap
     """
     paths = [paths] if isinstance(paths, (str, Path)) else list(paths)
     hemispheres = list(hemispheres) if hemispheres is not None else [None] * len(paths)
@@ -294,7 +296,7 @@ def read_image_map(paths, hemispheres=None, hdus=None, **kwargs):
             raise InputError(f"map file {str(path)!r}: {exc}") from None
     kwargs.setdefault("name", " + ".join(Path(p).name for p in paths))
     kwargs.setdefault("sources", tuple(str(p) for p in paths))
-    return ImageMap(tiles, **kwargs)
+    return ImageReddeningMap(tiles, **kwargs)
 
 
 def read_map_description(path, **overrides):
@@ -365,8 +367,8 @@ def open_map(spec, *, unit=None, scale=None, interpolation=None, r_v=None, colum
 
     Returns
     -------
-    DustMap
-        `~redcorr.maps.HealpixMap` or `~redcorr.maps.ImageMap`.
+    ReddeningMap
+        `~redcorr.maps.HealpixReddeningMap` or `~redcorr.maps.ImageReddeningMap`.
     """
     specs = [spec] if isinstance(spec, (str, Path)) else list(spec)
     if not specs:

@@ -160,7 +160,7 @@ def law_r_v(law, r_v_text):
 
 def fixed_r_v(law):
     """R_V of a registered law whose R_V cannot change; None otherwise (also for grain models)."""
-    return next((i["default_r_v"] for i in list_curves() if i["name"] == law and i["r_v_range"] is None), None)
+    return next((i["default_r_v"] for i in list_curves() if i["name"] == law and i["r_v_limits"] is None), None)
 
 
 def is_grain(law):

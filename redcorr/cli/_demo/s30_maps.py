@@ -29,8 +29,8 @@ def section(scn, demo_dir):
     )
     ra = np.array([p[1] for p in _PLACES])
     dec = np.array([p[2] for p in _PLACES])
-    ebv_hp, flag_hp = healpix.ebv(ra, dec)
-    ebv_im, flag_im = image.ebv(ra, dec)
+    ebv_hp, flag_hp = healpix.reddening_at(ra, dec)
+    ebv_im, flag_im = image.reddening_at(ra, dec)
     a_v, _ = image.lookup(ra, dec)
     rows = [
         {

@@ -25,7 +25,7 @@ def dust_entries():
     """``(name, description)`` of every law and grain model the picker offers."""
     out = []
     for info in list_curves():
-        r_v = f"R_V {info['default_r_v']:g}" + (" fixed" if info["r_v_range"] is None else "")
+        r_v = f"R_V {info['default_r_v']:g}" + (" fixed" if info["r_v_limits"] is None else "")
         lo, hi = info["wave_range_um"]
         out.append((info["name"], f"{r_v} · {lo:.3g}–{hi:.3g} µm"))
     for info in list_grain_models():
@@ -132,7 +132,7 @@ class DustScreen(GrainWait, Screen):
     def _draw(self, rows):
         curve = self.curve
         self.query_one(BandTable).show_rows(rows)
-        lo, hi = curve.x_range
+        lo, hi = curve.wavenumber_limits
         x = np.linspace(lo, min(hi, 11.0), 240)
         y = curve(x * u.um**-1)
         wmin, wmax = curve.wave_range.to_value(u.um)
