@@ -57,9 +57,10 @@ def best_of(cases, repeat):
 
 
 def _make(columns, linear=False):
-    from redcorr.correct import Correction
+    from redcorr.correction import Correction
+    from redcorr.io.correction import correction_options
 
-    return Correction(BANDS, columns=columns, nonlinear=not linear)
+    return Correction(columns, correction_options(BANDS, nonlinear=not linear))
 
 
 def run_redcorr(src, dst, linear=False, keep=None):

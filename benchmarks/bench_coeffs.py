@@ -17,8 +17,9 @@ import timeit
 import numpy as np
 
 from redcorr.bandpass import gaussian, tophat
+from redcorr.coefficients import coefficient_grid
 from redcorr.curves import get_curve
-from redcorr.extinction import band_quadrature, coefficient_grid
+from redcorr.extinction import band_quadrature
 from redcorr.io.filters import list_bands, load_band
 
 

@@ -20,8 +20,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 import numpy as np  # noqa: E402
 
-from redcorr.grains import DEFAULT_WAVE_UM, get_grain_model  # noqa: E402
-from redcorr.io.grains import CACHE_ENV  # noqa: E402
+from redcorr.grains import DEFAULT_WAVE_UM  # noqa: E402
+from redcorr.io.grains import CACHE_ENV, default_cache, get_grain_model  # noqa: E402
 from redcorr.mie import sphere  # noqa: E402
 
 
@@ -60,11 +60,11 @@ def main(name="wd01-rv3.1"):
         def cold():
             for f in Path(tmp).rglob("*.npz"):
                 f.unlink()
-            get_grain_model(name).curve()
+            get_grain_model(name).curve(cache=default_cache())
 
         t_cold = best(cold, 3)
-        get_grain_model(name).curve()
-        t_hot = best(lambda: get_grain_model(name).curve(), 10)
+        get_grain_model(name).curve(cache=default_cache())
+        t_hot = best(lambda: get_grain_model(name).curve(cache=default_cache()), 10)
     sizes = [c.n_sizes for c in model.components]
     print(f"model {name}: {wave.size + 2} wavelengths, sizes per component {sizes}, {m.size} Mie evaluations")
     print(f"baseline: one sphere() call of {m.size} (m, x) pairs   {t_mie * 1e3:9.1f} ms")

@@ -13,7 +13,7 @@ random positions, in the same run:
 
 Both sides work through the positions in chunks of the same size so that memory
 stays modest. The baseline runs in one thread, as the library call does; a
-lookup samples up to ``redcorr.maps._MAX_THREADS`` chunks at once on as many
+lookup samples up to ``redcorr.maps._base._MAX_THREADS`` chunks at once on as many
 usable CPUs (the count is printed), so its ratio shrinks with the CPUs.
 Usage: ``python benchmarks/bench_maps.py [--rows N] [--nside N]``.
 """
@@ -31,7 +31,8 @@ from astropy.io import fits
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # this checkout's redcorr
 from redcorr.io import open_map  # noqa: E402
-from redcorr.maps import _CHUNK, _MAX_THREADS, _usable_cpus, parse_frame, transform_lonlat  # noqa: E402
+from redcorr.maps import parse_frame, transform_lonlat  # noqa: E402
+from redcorr.maps._base import _CHUNK, _MAX_THREADS, _usable_cpus  # noqa: E402
 
 
 def _write_map(path, nside):

@@ -3,7 +3,7 @@
 Target (issue 8): <= 100 ms from the change to the table and plot on screen.
 The baseline, measured in the same run, is the core computation alone — what
 the screen asks the core for: load_curve at the new R_V, the curve on the
-plot's 240 wavenumbers, and band_table for the demo's five KW-CAM bands
+plot's 240 wavenumbers, and band_summary for the demo's five KW-CAM bands
 through a 5800 K blackbody.
 
 The app runs headless (App.run_test). The time is taken from setting the R_V
@@ -27,7 +27,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 import numpy as np  # noqa: E402
 from astropy import units as u  # noqa: E402
 
-from redcorr.band_table import band_table  # noqa: E402
+from redcorr.band_summary import band_summary  # noqa: E402
 from redcorr.io import load_curve  # noqa: E402
 from redcorr.io.filters import load_band  # noqa: E402
 from redcorr.io.spectra import load_sed  # noqa: E402
@@ -39,19 +39,19 @@ def core_only(r_v, bands, sed):
     curve = load_curve("f99", r_v=r_v)
     lo, hi = curve.wavenumber_limits
     curve(np.linspace(lo, min(hi, 11.0), 240) * u.um**-1)
-    return band_table(curve, bands, sed, 1.0)
+    return band_summary(curve, bands, sed, 1.0)
 
 
 async def ui_times(values):
     from redcorr.tui import RedcorrApp
-    from redcorr.tui.widgets import BandTable, CurvePlot
+    from redcorr.tui.widgets import BandGrid, CurvePlot
 
     app = RedcorrApp()
     out = []
     async with app.run_test(size=(140, 44)) as pilot:
         await pilot.pause()
         screen = app.screen
-        plot, table = screen.query_one(CurvePlot), screen.query_one(BandTable)
+        plot, table = screen.query_one(CurvePlot), screen.query_one(BandGrid)
         painted = []
         original = plot.render
 

@@ -21,7 +21,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from redcorr.correct import intrinsic_colour
+from redcorr.correction import intrinsic_colour
 from redcorr.curves import get_curve
 from redcorr.extinction import band_extinction
 from redcorr.io._toml import load_toml
@@ -48,7 +48,7 @@ def make(seed=20261202):
     v0 = rng.uniform(13.0, 19.0, N_STARS)
     mags0 = {"kw-v": v0}
     for band in ("kw-b", "kw-r", "kw-i"):
-        mags0[band] = v0 + intrinsic_colour(band, "kw-v", teff)
+        mags0[band] = v0 + intrinsic_colour(load_band(band), load_band("kw-v"), teff)
     ebv, flags = open_map(HERE / "brume_ebv_healpix.fits").lookup(ra, dec)
     ebv = np.where(flags == 0, ebv, 0.55)
     curve = get_curve(cloud["law"], r_v=cloud["r_v"])

@@ -3,9 +3,10 @@
 The core is pure array code: extinction curves (:mod:`redcorr.curves`),
 Mie theory and grain models (:mod:`redcorr.mie`, :mod:`redcorr.grains`),
 band integration (:mod:`redcorr.bandpass`, :mod:`redcorr.sed`,
-:mod:`redcorr.extinction`), map lookup (:mod:`redcorr.maps`), catalog
-correction (:mod:`redcorr.correct`) and exposure planning
-(:mod:`redcorr.exposure`). Files are read and written only in
+:mod:`redcorr.extinction`, :mod:`redcorr.coefficients`), synthetic
+photometry (:mod:`redcorr.photometry`), map lookup (:mod:`redcorr.maps`), catalog
+correction (:mod:`redcorr.correction`) and exposure planning
+(:mod:`redcorr.ccd`, :mod:`redcorr.exposure`). Files are read and written only in
 :mod:`redcorr.io`; the command line (:mod:`redcorr.cli`) and the terminal UI
 (:mod:`redcorr.tui`) are thin shells over both.
 
@@ -21,14 +22,14 @@ _LAZY = {
     "TabulatedCurve": "redcorr.curves",
     "get_curve": "redcorr.curves",
     "list_curves": "redcorr.curves",
-    "get_grain_model": "redcorr.grains",
-    "list_grain_models": "redcorr.grains",
+    "get_grain_model": "redcorr.io.grains",
+    "list_grain_models": "redcorr.io.grains",
     "Band": "redcorr.bandpass",
     "blackbody": "redcorr.sed",
     "band_extinction": "redcorr.extinction",
     "band_ratio": "redcorr.extinction",
-    "coefficient_grid": "redcorr.extinction",
-    "correct_dataframe": "redcorr.correct",
+    "coefficient_grid": "redcorr.coefficients",
+    "correct_dataframe": "redcorr.io",
     "plan_exposure": "redcorr.exposure",
     "load_curve": "redcorr.io",
     "load_band": "redcorr.io",

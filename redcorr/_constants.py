@@ -5,10 +5,10 @@ Each is re-exported by the module it belongs to (named below), which is
 where to import it from.
 """
 
-__all__ = ["CORRECTION_FLAG_BITS", "DEFAULT_TEMPERATURE", "DEFAULT_CHUNK_ROWS", "MAP_FLAG_NAMES",
-           "INTERPOLATIONS", "MAP_UNITS"]
+__all__ = ["CORRECTION_FLAGS", "DEFAULT_TEMPERATURE", "DEFAULT_CHUNK_ROWS", "MAP_FLAGS",
+           "INTERPOLATIONS", "MAP_UNITS", "PLAN_CAUTION"]
 
-CORRECTION_FLAG_BITS = {
+CORRECTION_FLAGS = {
     "non_numeric": 1,
     "missing": 2,
     "negative_reddening": 4,
@@ -17,7 +17,7 @@ CORRECTION_FLAG_BITS = {
     "map_coverage": 32,
     "not_converged": 64,
 }
-"""dict: name → value of each bit of the ``dered_flags`` column (``redcorr.correct.FLAG_BITS``)."""
+"""dict: name → value of each bit of a correction's ``dered_flags`` column (``redcorr.correction.flags``)."""
 
 DEFAULT_TEMPERATURE = 7000.0
 """K: default blackbody source, a mid-F star, typical of field stars (common practice, no source)."""
@@ -27,11 +27,17 @@ DEFAULT_CHUNK_ROWS = 65_536
 flight (read ahead, being corrected, being written) stay small beside the program itself
 (``redcorr.io.catalogs``)."""
 
-MAP_FLAG_NAMES = {1: "outside", 2: "blank", 4: "partial", 8: "no-position"}
-"""Dust-map flag bit → short name, for printing (``redcorr.maps.FLAG_NAMES``)."""
+MAP_FLAGS = {"outside": 1, "blank": 2, "partial": 4, "no-position": 8}
+"""dict: name → value of each bit of a dust map's lookup flags (``redcorr.maps``); not the bits of
+``CORRECTION_FLAGS``."""
 
 INTERPOLATIONS = ("bilinear", "nearest")
 """Ways of sampling a dust map between pixels (``redcorr.maps``)."""
 
 MAP_UNITS = ("E(B-V)", "A_V")
 """What a dust map may hold (``redcorr.maps``)."""
+
+PLAN_CAUTION = (
+    "Caution: these are estimates; confirm with the observatory's own tools before committing telescope time."
+)
+"""The caution shown with every exposure plan (``redcorr.exposure.CAUTION``)."""

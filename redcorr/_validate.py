@@ -13,11 +13,15 @@ from astropy import units as u
 from redcorr.exceptions import InputError, UnknownNameError
 
 __all__ = [
+    "as_a_v",
     "as_float_array",
+    "as_seconds",
     "check_choice",
     "check_finite",
     "check_positive",
     "check_range",
+    "check_sampled_curve",
+    "check_snr",
     "inverse_micron",
 ]
 
@@ -99,6 +103,39 @@ def as_float_array(name, value, unit=None, what="a number"):
         raise InputError(f"{name}={value!r} is not numeric") from None
 
 
+def as_a_v(a_v):
+    """A_V as a float64 array (mag); a Quantity in mag accepted; NaN passes through, infinities do not."""
+    if isinstance(a_v, u.Quantity):
+        a_v = a_v.to_value(u.mag)
+    try:
+        arr = np.asarray(a_v, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"a_v={a_v!r} is not numeric") from None
+    if np.any(np.isinf(arr)):
+        raise InputError("a_v must be finite (NaN is passed through)")
+    return arr
+
+
+def as_seconds(name, t):
+    """Exposure times as a float64 array in s (a Quantity of time accepted); each finite and >= 0, NaN passed."""
+    arr = as_float_array(name, t, u.s, "a unit of time")
+    bad = ~np.isnan(arr) & ~(arr >= 0)
+    bad |= np.isinf(arr)
+    if np.any(bad):
+        raise InputError(f"{name}={arr[bad].flat[0]:g} s is not allowed; exposure times must be finite and >= 0")
+    return arr
+
+
+def check_snr(name, snr):
+    """Signal-to-noise ratios as a float64 array; each finite and > 0, NaN passed."""
+    arr = np.asarray(snr, dtype=float)
+    bad = ~np.isnan(arr) & ~(arr > 0)
+    bad |= np.isinf(arr)
+    if np.any(bad):
+        raise InputError(f"{name}={arr[bad].flat[0]:g} is not allowed; a signal-to-noise ratio must be finite and > 0")
+    return arr
+
+
 def inverse_micron(wave, name="wave"):
     """Convert wavelengths to wavenumbers x = 1/λ in µm⁻¹ as a float64 array.
 
@@ -137,3 +174,21 @@ def inverse_micron(wave, name="wave"):
         first = np.asarray(wave)[bad].flat[0] if not isinstance(wave, u.Quantity) else wave[bad].flat[0]
         raise InputError(f"{name}={first} is not a positive wavelength")
     return x
+
+
+def check_sampled_curve(wave_um, values, name="throughput"):
+    """Float64 ``(wave_um, values)`` of a sampled curve whose last axis runs along ``wave_um``.
+
+    ``wave_um`` must be 1-d, finite, positive and strictly increasing, with
+    at least two samples; ``values`` must end in an axis of the same length.
+    """
+    lam = np.asarray(wave_um, dtype=float)
+    val = np.asarray(values, dtype=float)
+    if lam.ndim != 1 or lam.size < 2 or val.shape[-1:] != lam.shape:
+        raise InputError(
+            f"wave_um (shape {lam.shape}) and {name} (shape {val.shape}) must share their last axis, "
+            "with at least two wavelengths"
+        )
+    if not (np.all(np.isfinite(lam)) and np.all(lam > 0) and np.all(np.diff(lam) > 0)):
+        raise InputError("wave_um must be finite, positive and strictly increasing")
+    return lam, val

@@ -2,7 +2,7 @@
 
 Pure functions over columns (a pandas DataFrame, or any mapping from column
 name to a 1-d array): no files are read here. The magnitude and colour
-column names are those :class:`redcorr.correct.Correction` writes
+column names are those :class:`redcorr.correction.Correction` writes
 (``MAG_dered`` with the default suffix).
 """
 

@@ -1,407 +1,77 @@
-"""Exposure planning behind dust: photon rates, the CCD equation, time and depth.
+"""Exposure planning behind dust: time, S/N and depth of a point source, band by band.
 
 This module is pure array code (no files, no UI). It answers the observer's
 questions for a point source seen through an imaging instrument: how long to
 reach a signal-to-noise ratio, what S/N a given time gives, how deep an
-exposure goes, and how much of that the dust costs, band by band.
+exposure goes, and how much of that the dust costs, band by band. It builds
+on :mod:`redcorr.photometry` (AB magnitudes and photon rates),
+:mod:`redcorr.ccd` (the CCD equation) and :mod:`redcorr.extinction` (the
+band extinction), and re-derives none of them.
 
 Conventions
 -----------
-* Magnitudes are AB (Oke & Gunn 1983): ``F_ν = 3631 Jy · 10^(−0.4 m)``.
+* Magnitudes are AB (Oke & Gunn 1983) with the photon-counting band mean
+  of :mod:`redcorr.photometry`; a source of AB magnitude ``m`` in a band
+  gives ``N = (A_tel / h) · 3631 Jy · 10^(−0.4 m) ∫ T dλ/λ`` photons per
+  second whatever its spectrum (:func:`~redcorr.photometry.ab_photon_rate`).
 * A *system throughput* ``T(λ)`` is the fraction of photons arriving at the
   top of the telescope that become detected electrons (filter × optics × QE);
   it is a photon-counting curve between 0 and 1.
-* Photon rate of a source with spectrum ``F_ν`` through ``T``::
-
-      N = A_tel ∫ F_ν / (hν) · T dν = (A_tel / h) ∫ F_ν T(λ) dλ / λ
-
-  (``dν/ν = dλ/λ``). For a source of AB magnitude ``m`` *in that band* —
-  defined with photon weighting, ``m = −2.5 log10[∫F_ν T dλ/λ / ∫3631 Jy T dλ/λ]``
-  — the rate is exactly ``N = (A_tel / h) · 3631 Jy · 10^(−0.4 m) ∫ T dλ/λ``,
-  whatever the spectrum.
 * The magnitude the user gives is the source's dust-free magnitude. Dust
   dims it by ``A_band``, the band-integrated extinction computed by
   :func:`redcorr.extinction.band_extinction` for the source's spectrum
-  through this band; the planner never re-derives extinction. The
-  atmosphere dims it by ``k X`` (mag per airmass × airmass). The sky
-  brightness is as measured at the site and is not dimmed again.
+  through this band. The atmosphere dims it by ``k X`` (mag per airmass ×
+  airmass). The sky brightness is as measured at the site and is not
+  dimmed again.
 * Times are in seconds, rates in electrons per second. One exposure, one
   read-out.
 
 References
 ----------
 .. [1] Howell, S. B. 2006, *Handbook of CCD Astronomy*, 2nd ed., Cambridge
-       University Press, §4.4 (the CCD equation, eq. 4.4, and its solution
-       for the exposure time).
-.. [2] Merline, W. J. & Howell, S. B. 1995, Experimental Astronomy 6, 163.
-.. [3] Oke, J. B. & Gunn, J. E. 1983, ApJ 266, 713 (AB magnitudes).
+       University Press, §4.4 (the CCD equation).
+.. [2] Oke, J. B. & Gunn, J. E. 1983, ApJ 266, 713 (AB magnitudes).
 """
 
 import dataclasses
 import math
 
 import numpy as np
-from astropy import constants as const
-from astropy import units as u
-from scipy.integrate import trapezoid
 
-from redcorr._validate import as_float_array, check_choice, check_finite, check_positive, check_range
+from redcorr._constants import PLAN_CAUTION
+from redcorr._validate import (
+    as_seconds,
+    check_choice,
+    check_finite,
+    check_positive,
+    check_range,
+    check_sampled_curve,
+    check_snr,
+)
+from redcorr.ccd import (
+    DIGITISATION_SIGMA_ADU,
+    ccd_snr,
+    ccd_source_rate,
+    ccd_time,
+    dominant_noise,
+    gaussian_aperture_fraction,
+)
 from redcorr.exceptions import InputError, UnknownNameError
 from redcorr.extinction import band_extinction
+from redcorr.photometry import ab_photon_rate, synthetic_colour
 
 __all__ = [
-    "AB_ZERO_JY",
-    "DIGITISATION_SIGMA_ADU",
+    "CAUTION",
     "Channel",
     "Instrument",
     "BandPlan",
-    "ab_color",
-    "ab_mag_of_spectrum",
-    "ab_photon_rate",
-    "fnu_photon_rate",
-    "gaussian_aperture_fraction",
-    "ccd_snr",
-    "ccd_time",
-    "ccd_source_rate",
-    "dominant_noise",
     "plan_exposure",
     "snr_vs_time",
     "time_vs_av",
 ]
 
-AB_ZERO_JY = 3631.0
-"""Flux density of an AB magnitude 0 source, Jy (Oke & Gunn 1983)."""
-
-DIGITISATION_SIGMA_ADU = 0.289
-"""1σ error of the A/D conversion in ADU, ≈ 1/√12 (Merline & Howell 1995; Howell 2006 §4.4)."""
-
-_H = const.h.to_value(u.J * u.s)
-_JY = 1e-26  # W m⁻² Hz⁻¹
-
-
-def _seconds(t, name):
-    """Float64 array of times in s (a Quantity of time accepted), checked ≥ 0."""
-    arr = as_float_array(name, t, u.s, "a unit of time")
-    bad = ~np.isnan(arr) & ~(arr >= 0)
-    bad |= np.isinf(arr)
-    if np.any(bad):
-        raise InputError(f"{name}={arr[bad].flat[0]:g} s is not allowed; exposure times must be finite and >= 0")
-    return arr
-
-
-def _snr_value(snr, name="snr"):
-    arr = np.asarray(snr, dtype=float)
-    bad = ~np.isnan(arr) & ~(arr > 0)
-    bad |= np.isinf(arr)
-    if np.any(bad):
-        raise InputError(f"{name}={arr[bad].flat[0]:g} is not allowed; a signal-to-noise ratio must be finite and > 0")
-    return arr
-
-
-def _area_m2(area):
-    if isinstance(area, u.Quantity):
-        area = area.to_value(u.m**2)
-    return check_positive("area_m2", area)
-
-
-def _curve_arrays(wave_um, throughput):
-    lam = np.asarray(wave_um, dtype=float)
-    thr = np.asarray(throughput, dtype=float)
-    if lam.ndim != 1 or lam.size < 2 or thr.shape[-1:] != lam.shape:
-        raise InputError(
-            f"wave_um (shape {lam.shape}) and throughput (shape {thr.shape}) must share their last axis, "
-            "with at least two wavelengths"
-        )
-    if not (np.all(np.isfinite(lam)) and np.all(lam > 0) and np.all(np.diff(lam) > 0)):
-        raise InputError("wave_um must be finite, positive and strictly increasing")
-    return lam, thr
-
-
-def fnu_photon_rate(wave_um, fnu_jy, throughput, area_m2):
-    """Detected photon rate of a spectrum through a system throughput.
-
-    Parameters
-    ----------
-    wave_um : array_like, shape (n,)
-        Wavelengths in µm, strictly increasing.
-    fnu_jy : array_like, shape (..., n)
-        Flux density F_ν in Jy at ``wave_um``.
-    throughput : array_like, shape (n,)
-        System throughput (fraction of photons detected), 0..1.
-    area_m2 : float or `~astropy.units.Quantity` ['area']
-        Collecting area of the telescope.
-
-    Returns
-    -------
-    rate : ndarray
-        Photons (electrons) per second, shape ``fnu_jy.shape[:-1]``.
-
-    Notes
-    -----
-    .. math:: N = \\frac{A}{h} \\int F_\\nu(\\lambda)\\, T(\\lambda)\\, \\frac{d\\lambda}{\\lambda}
-
-    which is :math:`A \\int F_\\nu T / (h\\nu)\\, d\\nu` written in wavelength,
-    integrated with the trapezoid rule on the given grid.
-
-    Examples
-    --------
-    >>> import numpy as np
-    >>> lam = np.linspace(0.5, 0.6, 2001)
-    >>> rate = fnu_photon_rate(lam, np.full(lam.size, 3631.0), np.ones(lam.size), 1.0)
-    >>> round(float(rate / 1e10), 4)   # 3631 Jy/h · ln(1.2) photons s⁻¹ m⁻²
-    0.9991
-    """
-    lam, thr = _curve_arrays(wave_um, throughput)
-    fnu = np.asarray(fnu_jy, dtype=float)
-    integral = trapezoid(fnu * thr / lam, lam, axis=-1)
-    return _area_m2(area_m2) * _JY * integral / _H
-
-
-def ab_photon_rate(mag, wave_um, throughput, area_m2):
-    """Detected photon rate of a source of AB magnitude ``mag`` in the band ``throughput``.
-
-    Parameters
-    ----------
-    mag : float or array_like
-        AB magnitude in this band (photon-weighted definition, see the module notes).
-    wave_um, throughput : array_like, shape (n,)
-        The system throughput curve.
-    area_m2 : float or `~astropy.units.Quantity` ['area']
-
-    Returns
-    -------
-    rate : ndarray
-        Photons per second, broadcast over ``mag``.
-
-    Notes
-    -----
-    .. math:: N = \\frac{A}{h}\\, 3631\\,\\mathrm{Jy}\\; 10^{-0.4 m} \\int T(\\lambda)\\, \\frac{d\\lambda}{\\lambda}
-
-    References
-    ----------
-    Oke & Gunn 1983, ApJ 266, 713, eq. (1) (definition of AB).
-    """
-    lam, thr = _curve_arrays(wave_um, throughput)
-    m = np.asarray(mag, dtype=float)
-    zero = _area_m2(area_m2) * AB_ZERO_JY * _JY * trapezoid(thr / lam, lam) / _H
-    return zero * 10.0 ** (-0.4 * m)
-
-
-def ab_color(sed, band_from, band_to):
-    """``m_to − m_from``, the AB colour of a spectrum between two bands.
-
-    Parameters
-    ----------
-    sed : object with ``flam(wave_um)``
-        Source spectrum (any normalisation), e.g. from :mod:`redcorr.sed`.
-    band_from, band_to : Band
-        Objects with ``wave_um`` and ``response`` (photon-counting).
-
-    Notes
-    -----
-    With :math:`\\langle F_\\nu\\rangle_T = \\int F_\\nu T\\, d\\lambda/\\lambda \\,/\\, \\int T\\, d\\lambda/\\lambda`
-    and :math:`F_\\nu \\propto \\lambda^2 F_\\lambda`,
-    :math:`m_{to} - m_{from} = -2.5 \\log_{10}(\\langle F_\\nu\\rangle_{to} / \\langle F_\\nu\\rangle_{from})`.
-    """
-
-    def mean_fnu(band):
-        lam, thr = _curve_arrays(band.wave_um, band.response)
-        fnu = np.asarray(sed.flam(lam), dtype=float) * lam**2
-        return trapezoid(fnu * thr / lam, lam) / trapezoid(thr / lam, lam)
-
-    ratio = mean_fnu(band_to) / mean_fnu(band_from)
-    if not (np.isfinite(ratio) and ratio > 0):
-        raise InputError(
-            f"the spectrum {getattr(sed, 'name', sed)!r} has no flux in band "
-            f"{getattr(band_from, 'name', '?')!r} or {getattr(band_to, 'name', '?')!r}; "
-            "cannot convert the magnitude between them"
-        )
-    return float(-2.5 * np.log10(ratio))
-
-
-def ab_mag_of_spectrum(sed, band):
-    """AB magnitude in ``band`` of a flux-calibrated spectrum.
-
-    Parameters
-    ----------
-    sed : object with ``flam(wave_um)``
-        F_λ in erg s⁻¹ cm⁻² Å⁻¹ (as :func:`redcorr.io.spectra.read_sed_file`
-        returns for a table with units).
-    band : Band
-        Photon-counting response (``wave_um``, ``response``).
-
-    Notes
-    -----
-    .. math:: m_{AB} = -2.5 \\log_{10} \\frac{\\int F_\\nu T\\, d\\lambda/\\lambda}
-              {3631\\,\\mathrm{Jy} \\int T\\, d\\lambda/\\lambda},
-              \\qquad F_\\nu = F_\\lambda \\lambda^2 / c
-
-    References
-    ----------
-    Oke & Gunn 1983, ApJ 266, 713 (AB); the photon-weighted band average as in
-    Fukugita et al. 1996, AJ 111, 1748, eq. 7 (from memory).
-    """
-    lam, thr = _curve_arrays(band.wave_um, band.response)
-    flam = np.asarray(sed.flam(lam), dtype=float)  # erg s^-1 cm^-2 A^-1
-    fnu_jy = flam * (lam * 1e4) ** 2 / const.c.to_value(u.AA / u.s) * 1e23
-    mean = trapezoid(fnu_jy * thr / lam, lam) / trapezoid(thr / lam, lam)
-    if not mean > 0:
-        raise InputError(
-            f"the spectrum {getattr(sed, 'name', sed)!r} has no flux in band {getattr(band, 'name', '?')!r}"
-        )
-    return float(-2.5 * np.log10(mean / AB_ZERO_JY))
-
-
-def gaussian_aperture_fraction(radius_arcsec, fwhm_arcsec):
-    """Fraction of a circular Gaussian PSF inside a circular aperture.
-
-    Notes
-    -----
-    .. math:: f = 1 - \\exp\\left(-\\frac{r^2}{2\\sigma^2}\\right), \\qquad
-              \\sigma = \\frac{\\mathrm{FWHM}}{2\\sqrt{2\\ln 2}}
-
-    (the integral of a 2-d Gaussian over a disc centred on it). Real seeing
-    profiles have broader wings (Moffat-like), so this is an upper bound on
-    the enclosed fraction for a given FWHM.
-
-    Examples
-    --------
-    >>> round(float(gaussian_aperture_fraction(1.0, 2.0)), 3)   # r = FWHM/2 holds half the light
-    0.5
-    """
-    r = np.asarray(radius_arcsec, dtype=float)
-    sigma = np.asarray(fwhm_arcsec, dtype=float) / (2.0 * math.sqrt(2.0 * math.log(2.0)))
-    return -np.expm1(-0.5 * (r / sigma) ** 2)
-
-
-def _noise_terms(n_pix, n_sky_pix, sky_rate, dark_rate, read_noise, digitisation_e):
-    """Per-second background variance ``b`` and per-read variance ``c`` of the CCD equation."""
-    weight = n_pix * (1.0 + n_pix / np.asarray(n_sky_pix, dtype=float))
-    b = weight * (np.asarray(sky_rate, dtype=float) + np.asarray(dark_rate, dtype=float))
-    c = weight * (np.asarray(read_noise, dtype=float) ** 2 + np.asarray(digitisation_e, dtype=float) ** 2)
-    return b, c
-
-
-def ccd_snr(t, source_rate, sky_rate, dark_rate, read_noise, n_pix, n_sky_pix=np.inf, digitisation_e=0.0):
-    """Signal-to-noise ratio of a point source from the CCD equation.
-
-    Parameters
-    ----------
-    t : float, array_like or `~astropy.units.Quantity` ['time']
-        Exposure time, s (≥ 0).
-    source_rate : array_like
-        Source electrons per second inside the photometric aperture.
-    sky_rate, dark_rate : array_like
-        Sky and dark-current electrons per second per pixel.
-    read_noise : array_like
-        Read noise per pixel, electrons rms.
-    n_pix : array_like
-        Pixels in the photometric aperture.
-    n_sky_pix : array_like, optional
-        Pixels used to estimate the background (n_B); infinite (the default)
-        means a perfectly known background.
-    digitisation_e : array_like, optional
-        A/D noise in electrons, gain × σ_f with σ_f ≈ 0.289 ADU.
-
-    Returns
-    -------
-    snr : ndarray
-
-    Notes
-    -----
-    Howell (2006) eq. 4.4, after Merline & Howell (1995):
-
-    .. math:: \\frac{S}{N} = \\frac{N_*}{\\sqrt{N_* + n_{pix}\\left(1 + \\frac{n_{pix}}{n_B}\\right)
-              \\left(N_S + N_D + N_R^2 + G^2\\sigma_f^2\\right)}}
-
-    with :math:`N_* = R_* t`, :math:`N_S = R_S t`, :math:`N_D = R_D t` electrons.
-
-    References
-    ----------
-    Howell 2006, *Handbook of CCD Astronomy*, 2nd ed., §4.4, eq. 4.4;
-    Merline & Howell 1995, Exp. Astron. 6, 163.
-    """
-    t = _seconds(t, "time")
-    src = np.asarray(source_rate, dtype=float)
-    b, c = _noise_terms(n_pix, n_sky_pix, sky_rate, dark_rate, read_noise, digitisation_e)
-    signal = src * t
-    noise = np.sqrt(signal + b * t + c)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(signal > 0, signal / noise, 0.0)[()]
-
-
-def ccd_time(snr, source_rate, sky_rate, dark_rate, read_noise, n_pix, n_sky_pix=np.inf, digitisation_e=0.0):
-    """Exposure time for a target S/N: the CCD equation solved for ``t``.
-
-    Parameters are those of :func:`ccd_snr`, with ``snr`` (> 0) in place of ``t``.
-
-    Returns
-    -------
-    t : ndarray
-        Seconds; ``inf`` for a source rate of zero.
-
-    Notes
-    -----
-    Squaring the CCD equation with :math:`a = R_*`,
-    :math:`b = n'(R_S + R_D)` and :math:`c = n'(N_R^2 + G^2\\sigma_f^2)`,
-    :math:`n' = n_{pix}(1 + n_{pix}/n_B)`, gives
-    :math:`a^2 t^2 - s^2 (a + b)\\, t - s^2 c = 0`, whose positive root is
-
-    .. math:: t = \\frac{s^2 (a + b) + \\sqrt{s^4 (a + b)^2 + 4 a^2 s^2 c}}{2 a^2}
-
-    (Howell 2006 §4.4 gives the same quadratic). Both terms of the numerator
-    are positive, so there is no cancellation. Limits: source-limited
-    :math:`t = s^2/a`; sky-limited :math:`t = s^2 b / a^2`; read-noise-limited
-    :math:`t = s\\sqrt{c}/a`.
-
-    References
-    ----------
-    Howell 2006, *Handbook of CCD Astronomy*, 2nd ed., §4.4.
-    """
-    s = _snr_value(snr)
-    a = np.asarray(source_rate, dtype=float)
-    b, c = _noise_terms(n_pix, n_sky_pix, sky_rate, dark_rate, read_noise, digitisation_e)
-    s2 = s * s
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = (s2 * (a + b) + np.sqrt(s2 * s2 * (a + b) ** 2 + 4.0 * a * a * s2 * c)) / (2.0 * a * a)
-    return np.where(a > 0, t, np.inf)[()]
-
-
-def ccd_source_rate(snr, t, sky_rate, dark_rate, read_noise, n_pix, n_sky_pix=np.inf, digitisation_e=0.0):
-    """Source rate (e⁻/s in the aperture) that reaches ``snr`` in time ``t``: the limiting rate.
-
-    Notes
-    -----
-    The CCD equation solved for :math:`a = R_*` at fixed :math:`t` (notation of
-    :func:`ccd_time`): :math:`a^2 t^2 - s^2 t\\, a - s^2 (b t + c) = 0`, so
-
-    .. math:: a = \\frac{s^2 + \\sqrt{s^4 + 4 s^2 (b t + c)}}{2 t}
-    """
-    s = _snr_value(snr)
-    t = _seconds(t, "time")
-    b, c = _noise_terms(n_pix, n_sky_pix, sky_rate, dark_rate, read_noise, digitisation_e)
-    s2 = s * s
-    with np.errstate(divide="ignore"):
-        return ((s2 + np.sqrt(s2 * s2 + 4.0 * s2 * (b * t + c))) / (2.0 * t))[()]
-
-
-def dominant_noise(t, source_rate, sky_rate, dark_rate, read_noise, n_pix, n_sky_pix=np.inf, digitisation_e=0.0):
-    """Name of the largest variance term at time ``t``: "source", "sky", "dark" or "read".
-
-    Returns a str for scalar input, else an ndarray of str.
-    """
-    t = _seconds(t, "time")
-    weight = n_pix * (1.0 + n_pix / np.asarray(n_sky_pix, dtype=float))
-    terms = np.broadcast_arrays(
-        np.asarray(source_rate, dtype=float) * t,
-        weight * np.asarray(sky_rate, dtype=float) * t,
-        weight * np.asarray(dark_rate, dtype=float) * t,
-        weight * (np.asarray(read_noise, dtype=float) ** 2 + np.asarray(digitisation_e, dtype=float) ** 2),
-    )
-    names = np.array(["source", "sky", "dark", "read"])
-    out = names[np.argmax(np.stack(terms), axis=0)]
-    return str(out) if out.ndim == 0 else out
-
+CAUTION = PLAN_CAUTION
+"""The caution every shell shows next to a plan: the numbers are estimates, not commitments."""
 
 @dataclasses.dataclass(frozen=True)
 class Channel:
@@ -453,7 +123,7 @@ class Channel:
     sky_pixels: float = math.inf
 
     def __post_init__(self):
-        lam, thr = _curve_arrays(self.band.wave_um, self.band.response)
+        lam, thr = check_sampled_curve(self.band.wave_um, self.band.response)
         if thr.ndim != 1 or not (np.all(np.isfinite(thr)) and thr.min() >= 0 and thr.max() <= 1):
             raise InputError(
                 f"band {self.name!r}: the system throughput must be a fraction of photons between 0 and 1 "
@@ -628,7 +298,7 @@ def _band_mags(instrument, bands, mag, sed, mag_band):
     m0 = check_finite("mag", mag)
     if mag_band is None:
         return [m0] * len(bands)
-    return [m0 + ab_color(sed, mag_band, instrument.channel(b).band) for b in bands]
+    return [m0 + synthetic_colour(sed, instrument.channel(b).band, mag_band) for b in bands]
 
 
 def plan_exposure(
@@ -656,7 +326,7 @@ def plan_exposure(
         Dust-free AB magnitude of the source: in each band if ``mag_band`` is
         None, else in ``mag_band`` and carried to each band with the SED's AB
         colour; or a dict band name → magnitude (e.g. from
-        :func:`ab_mag_of_spectrum` for a flux-calibrated spectrum).
+        :func:`redcorr.photometry.synthetic_ab` for a flux-calibrated spectrum).
     curve : DustCurve
         Law or grain model (from :func:`redcorr.io.load_curve`).
     sed : SED
@@ -694,11 +364,11 @@ def plan_exposure(
     if (snr is None) == (time is None):
         raise InputError("give exactly one of snr (a target S/N) or time (an exposure time in s)")
     a_v = check_range("a_v", a_v, 0.0, math.inf)
-    limit_snr = float(_snr_value(limit_snr, "limit_snr"))
+    limit_snr = float(check_snr("limit_snr", limit_snr))
     if snr is not None:
-        snr = float(_snr_value(snr))
+        snr = float(check_snr("snr", snr))
     else:
-        time = float(_seconds(time, "time"))
+        time = float(as_seconds("time", time))
     names = [instrument.channel(b).name for b in bands]
     if not names:
         raise InputError("bands is empty; give at least one band of the instrument")
@@ -754,7 +424,7 @@ def time_vs_av(instrument, bands, mag, *, curve, sed, a_v, snr, mag_band=None, e
     a_band : dict
         Band name → ndarray of A_band, mag.
     """
-    s = float(_snr_value(snr))
+    s = float(check_snr("snr", snr))
     grid = np.atleast_1d(np.asarray(a_v, dtype=float))
     if grid.ndim != 1 or not np.all(np.isfinite(grid)) or np.any(grid < 0):
         raise InputError("a_v must be a 1-d list of finite values >= 0")
@@ -785,7 +455,7 @@ def snr_vs_time(instrument, plans, t):
     dict
         Band name → ``(snr_clear, snr_dust)``, two ndarrays shaped like ``t``.
     """
-    t = _seconds(t, "time")
+    t = as_seconds("time", t)
     out = {}
     for p in plans:
         ch = instrument.channel(p.band)

@@ -1,40 +1,50 @@
-"""PNG figures drawn with matplotlib (off-screen); written atomically."""
+"""Figures drawn with matplotlib: each function builds and returns a Figure and writes nothing.
+
+The figures are made without pyplot (:class:`matplotlib.figure.Figure`), so
+no window, backend or global list of open figures is involved, and each
+carries its own resolution (``dpi``). They are written at the edge, by
+:func:`redcorr.io.figures.save_figure`.
+"""
 
 import numpy as np
 from astropy import units as u
 
-from redcorr.io._atomic import atomic_path
-
-__all__ = ["plot_curve", "plot_band_coefficients", "plot_snr_vs_time", "plot_time_vs_av"]
-
-
-def _figure():
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    import matplotlib.pyplot as plt
-
-    return plt
+__all__ = [
+    "curve_figure",
+    "band_coefficients_figure",
+    "snr_vs_time_figure",
+    "time_vs_av_figure",
+    "grain_model_figure",
+]
 
 
-def plot_curve(curve, path, *, marks=None, extrapolate=False):
-    """Draw A(λ)/A(V) against 1/λ over the curve's valid range.
+def _figure(figsize, dpi):
+    from matplotlib.figure import Figure  # noqa: PLC0415 - matplotlib only when a figure is asked for
+
+    return Figure(figsize=figsize, dpi=dpi, layout="constrained")
+
+
+def curve_figure(curve, *, marks=None, extrapolate=False):
+    """A(λ)/A(V) against 1/λ over the curve's valid range.
 
     Parameters
     ----------
     curve : DustCurve
-    path : path-like
-        PNG file to write (atomically).
     marks : array_like, optional
         Wavelengths in µm to mark with points.
     extrapolate : bool
         Passed to the curve when evaluating ``marks``.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        6.4 × 4.2 inches at 110 dpi.
     """
-    plt = _figure()
     lo, hi = curve.wavenumber_limits
     hi = min(hi, 12.0)
     x = np.linspace(lo, hi, 600)
-    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    fig = _figure((6.4, 4.2), 110)
+    ax = fig.subplots()
     ax.plot(x, curve(x * u.um**-1), lw=1.6, label=f"{curve.name} (R_V={curve.r_v:.2f})")
     if marks is not None:
         marks = np.atleast_1d(np.asarray(marks, dtype=float))
@@ -43,13 +53,11 @@ def plot_curve(curve, path, *, marks=None, extrapolate=False):
     ax.set_ylabel(r"$A(\lambda)/A(V)$")
     ax.set_title(curve.citation, fontsize=8)
     ax.legend(frameon=False)
-    with atomic_path(path, suffix=".png") as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
-    plt.close(fig)
+    return fig
 
 
-def plot_snr_vs_time(t, snr_by_band, path, *, title="", target=None):
-    """Draw S/N against exposure time, without (dashed) and with (solid) the dust.
+def snr_vs_time_figure(t, snr_by_band, *, title="", target=None):
+    """S/N against exposure time, without (dashed) and with (solid) the dust.
 
     Parameters
     ----------
@@ -58,15 +66,18 @@ def plot_snr_vs_time(t, snr_by_band, path, *, title="", target=None):
     snr_by_band : dict
         Band name → ``(snr_clear, snr_dust)``, as from
         :func:`redcorr.exposure.snr_vs_time`.
-    path : path-like
-        PNG file to write (atomically).
     title : str
     target : float, optional
         S/N to mark with a horizontal line.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        6.4 × 4.2 inches at 110 dpi.
     """
-    plt = _figure()
     t = np.asarray(t, dtype=float)
-    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    fig = _figure((6.4, 4.2), 110)
+    ax = fig.subplots()
     for name, (clear, dust) in snr_by_band.items():
         (line,) = ax.loglog(t, dust, lw=1.6, label=f"{name} behind the dust")
         ax.loglog(t, clear, lw=1.0, ls="--", color=line.get_color(), label=f"{name} without dust")
@@ -76,13 +87,11 @@ def plot_snr_vs_time(t, snr_by_band, path, *, title="", target=None):
     ax.set_ylabel("S/N")
     ax.set_title(title, fontsize=8)
     ax.legend(frameon=False, fontsize=7)
-    with atomic_path(path, suffix=".png") as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
-    plt.close(fig)
+    return fig
 
 
-def plot_time_vs_av(a_v, times_by_band, path, *, title="", mark=None):
-    """Draw the exposure time needed against A_V, one line per band.
+def time_vs_av_figure(a_v, times_by_band, *, title="", mark=None):
+    """The exposure time needed against A_V, one line per band.
 
     Parameters
     ----------
@@ -91,14 +100,17 @@ def plot_time_vs_av(a_v, times_by_band, path, *, title="", mark=None):
     times_by_band : dict
         Band name → times in s on the grid, as from
         :func:`redcorr.exposure.time_vs_av`.
-    path : path-like
-        PNG file to write (atomically).
     title : str
     mark : float, optional
         A_V to mark with a vertical line.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        6.4 × 4.2 inches at 110 dpi.
     """
-    plt = _figure()
-    fig, ax = plt.subplots(figsize=(6.4, 4.2), layout="constrained")
+    fig = _figure((6.4, 4.2), 110)
+    ax = fig.subplots()
     if mark is not None:
         ax.axvline(mark, color="0.5", lw=0.8, ls=":")
     for name, times in times_by_band.items():
@@ -107,13 +119,11 @@ def plot_time_vs_av(a_v, times_by_band, path, *, title="", mark=None):
     ax.set_ylabel("exposure time needed [s]")
     ax.set_title(title, fontsize=8)
     ax.legend(frameon=False)
-    with atomic_path(path, suffix=".png") as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
-    plt.close(fig)
+    return fig
 
 
-def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate=False):
-    """Draw the bands over A(λ)/A(V), and A_b/A_V against A_V for each band.
+def band_coefficients_figure(curve, bands, sed, *, a_v_max=20.0, extrapolate=False):
+    """The bands over A(λ)/A(V), and A_b/A_V against A_V for each band.
 
     Parameters
     ----------
@@ -121,21 +131,24 @@ def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate
     bands : list of Band
     sed : SED
         Source spectrum used for A_b/A_V.
-    path : path-like
-        PNG file to write (atomically).
     a_v_max : float
         Upper end of the A_V axis of the right panel.
     extrapolate : bool
         Passed to the band integration.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        11 × 4.2 inches at 110 dpi, two panels.
     """
     from redcorr.extinction import band_extinction, band_ratio  # noqa: PLC0415
 
-    plt = _figure()
     wmin, wmax = curve.wave_range.to_value(u.um)
     lo = max(min(b.wave_range_um[0] for b in bands) * 0.9, wmin)
     hi = min(max(b.wave_range_um[1] for b in bands) * 1.1, wmax)
     lam = np.geomspace(lo, hi, 500)
-    fig, (left, right) = plt.subplots(1, 2, figsize=(11, 4.2), layout="constrained")
+    fig = _figure((11, 4.2), 110)
+    left, right = fig.subplots(1, 2)
     left.plot(lam, curve(lam), color="k", lw=1.6, label=f"{curve.name} (R_V={curve.r_v:.2f})")
     left.set_xlabel(r"$\lambda$ [$\mu$m]")
     left.set_ylabel(r"$A(\lambda)/A(V)$")
@@ -157,6 +170,50 @@ def plot_band_coefficients(curve, bands, sed, path, *, a_v_max=20.0, extrapolate
     right.set_ylabel(r"$A_b/A_V$")
     right.set_title(f"source: {sed.name}", fontsize=9)
     right.legend(frameon=False, fontsize=8, loc="best")
-    with atomic_path(path, suffix=".png") as tmp:
-        fig.savefig(tmp, format="png", dpi=110)
-    plt.close(fig)
+    return fig
+
+
+def grain_model_figure(curve):
+    """A grain model's A(λ)/A(V), albedo and g against 1/λ, and its phase function.
+
+    Parameters
+    ----------
+    curve : GrainCurve
+        A grain model's curve (:meth:`redcorr.grains.GrainModel.curve`); its
+        tabulated optics are drawn up to 1/λ = 10 µm⁻¹.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        9 × 6.6 inches at 100 dpi, four panels; the last compares the exact
+        Mie phase function (:meth:`~redcorr.grains.GrainModel.phase_function`)
+        at 0.2, 0.55 and 2.2 µm with Henyey–Greenstein of the same g.
+    """
+    from redcorr.curves.tabulated import V_WAVE_UM  # noqa: PLC0415
+    from redcorr.phase import henyey_greenstein  # noqa: PLC0415
+
+    model, optics = curve.model, curve.optics
+    x = 1.0 / optics.wave_um
+    keep = x <= 10.0
+    fig = _figure((9.0, 6.6), 100)
+    (ax1, ax2), (ax3, ax4) = fig.subplots(2, 2)
+    ax1.plot(x[keep], (optics.c_ext / optics.c_ext[np.argmin(abs(optics.wave_um - V_WAVE_UM))])[keep])
+    ax1.set_ylabel(r"$A(\lambda)/A(V)$")
+    ax2.plot(x[keep], optics.albedo[keep])
+    ax2.set_ylabel("albedo")
+    ax3.plot(x[keep], optics.g[keep])
+    ax3.set_ylabel(r"$g = \langle\cos\theta\rangle$")
+    for ax in (ax1, ax2, ax3):
+        ax.set_xlabel(r"$1/\lambda$ [$\mu$m$^{-1}$]")
+    theta = np.linspace(0.0, np.pi, 181)
+    for lam, colour in ((0.2, "C0"), (V_WAVE_UM, "C1"), (2.2, "C3")):
+        g = float(np.interp(1 / lam, x[::-1], optics.g[::-1]))
+        ax4.semilogy(np.degrees(theta), model.phase_function(lam, theta), color=colour,
+                     label=f"{lam:g} µm Mie, g={g:.2f}")
+        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), color=colour, ls="--", lw=0.9)
+    ax4.set_xlabel("scattering angle [deg]")
+    ax4.set_ylabel(r"phase function [sr$^{-1}$]")
+    ax4.set_title("Mie (solid) and Henyey–Greenstein with the same g (dashed)", fontsize=8)
+    ax4.legend(frameon=False, fontsize=8)
+    fig.suptitle(f"{model.name}: R_V = {curve.r_v:.3f}", fontsize=10)
+    return fig

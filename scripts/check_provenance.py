@@ -312,8 +312,10 @@ def wd01_constants(sd):
     report("sizes.py M_C_G vs make.py MC (g)", code_const(sizes, "M_C_G"), mk["MC"], 1e-4,
            note="12.011 u here, 12.0107 u there")
     a_c = re.search(r"^\s*a_c\s*=\s*([0-9.eE+-]+)", sd.text("input/d03/wd01/make.py"), re.M)
-    calls = [c for c in code_calls(PKG / "grains" / "__init__.py", "WD01Silicate") if len(c) >= 4 and c[3] is not None]
-    report("grains/__init__.py wd01_sizes silicate a_c vs make.py a_c (µm)", calls[0][3], float(a_c.group(1)), 0)
+    published_py = PKG / "grains" / "published.py"
+    calls = [c for c in code_calls(published_py, "WD01Silicate") if len(c) >= 4 and c[3] is not None]
+    report("grains/published.py wd01_distributions silicate a_c vs make.py a_c (µm)",
+           calls[0][3], float(a_c.group(1)), 0)
 
 
 @check("sdist")
@@ -323,12 +325,12 @@ def material_parameters(sd):
         r"([0-9.]+) = grain density.*?\n'\.\./ri-data/(\w+?)(?:_\d\.\d+)?'", inp)}
     fracs = {m.group(2): float(m.group(1)) for m in re.finditer(
         r"([0-9.]+) = mass fraction.*?\n.*?\n'\.\./ri-data/(\w+?)(?:_\d\.\d+)?'", inp)}
-    mats = code_const(PKG / "grains" / "__init__.py", "MATERIALS")
-    report("grains MATERIALS silicate-d03 density vs sdist input/d03/d03_3.1_6.0_A.in",
+    mats = code_const(PKG / "io" / "grains" / "models.py", "MATERIALS")
+    report("io.grains MATERIALS silicate-d03 density vs sdist input/d03/d03_3.1_6.0_A.in",
            mats["silicate-d03"]["density"], dens["silicate_d03"], 0)
-    report("grains MATERIALS graphite-d03 density vs sdist input/d03/d03_3.1_6.0_A.in",
+    report("io.grains MATERIALS graphite-d03 density vs sdist input/d03/d03_3.1_6.0_A.in",
            mats["graphite-d03"]["density"], dens["graphite_per_d03"], 0)
-    report("grains MATERIALS silicate-ld93/graphite-ld93 densities vs the same file",
+    report("io.grains MATERIALS silicate-ld93/graphite-ld93 densities vs the same file",
            [mats["silicate-ld93"]["density"], mats["graphite-ld93"]["density"]],
            [dens["silicate_d03"], dens["graphite_per_d03"]], 0)
     par_w = mats["graphite-d03"]["sets"][0][1][0][0]
@@ -339,12 +341,12 @@ def material_parameters(sd):
 @check("sdist")
 def renormalizations(sd):
     readme = sd.text("input/d03/README.md")
-    models = {c[0]: c for c in code_calls(PKG / "grains" / "__init__.py", "_wd01_model")}
+    models = {c[0]: c for c in code_calls(PKG / "io" / "grains" / "models.py", "_wd01_model")}
     src = {}
     for r_v in ("3.1", "4.0", "5.5"):
         found = re.search(rf"Milky Way, R_V = {re.escape(r_v)}:.*?b_C = (\d+) ppm.*?factor\s+(\d\.\d+)", readme, re.S)
         src[r_v] = (float(found.group(1)) * 1e-6, float(found.group(2)))
-        report(f"grains GRAIN_MODELS wd01-rv{r_v}: b_C, renormalization vs sdist input/d03/README.md",
+        report(f"io.grains GRAIN_MODELS wd01-rv{r_v}: b_C, renormalization vs sdist input/d03/README.md",
                [models[r_v][1], models[r_v][2]], src[r_v], 1e-12,
                note=f"README: b_C = {found.group(1)} ppm, factor {found.group(2)}")
     mixtures = code_const(ROOT / "scripts" / "make_data.py", "MIXTURES")
@@ -393,7 +395,7 @@ def grain_model_vs_draine(_):
     """Indirect check of the remembered PAH parameters (Li & Draine 2001): the WD01 models built
     from them against Draine's published per-H extinction (tests/data, from the sdist)."""
     sys.path.insert(0, str(ROOT))
-    from redcorr.grains import get_grain_model  # noqa: PLC0415
+    from redcorr.io.grains import get_grain_model  # noqa: PLC0415
 
     def draine(r_v):
         t = Table.read(TEST_DATA / f"d03_mw{r_v}.ecsv")
@@ -405,13 +407,13 @@ def grain_model_vs_draine(_):
 
     w, c = draine("3.1")
     bands = np.array([3.3, 6.22, 7.7, 8.6, 11.3, 12.7])
-    ours = get_grain_model("wd01-rv3.1").optics(bands, cache=False).c_ext
+    ours = get_grain_model("wd01-rv3.1").optics(bands).c_ext
     report("WD01 R_V=3.1 model C_ext/H at the PAH bands 3.3-12.7 µm vs tests/data/d03_mw3.1.ecsv",
            ours, interp(bands, w, c), 0.10, note="indirect check of grains/pah.py DRUDE_BANDS")
     for r_v in ("3.1", "4.0", "5.5"):
         w, c = draine(r_v)
         grid = w[(w >= 0.125) & (w <= 3.0)][::2]
-        optics = get_grain_model(f"wd01-rv{r_v}").optics(np.r_[grid, 0.55], cache=False)
+        optics = get_grain_model(f"wd01-rv{r_v}").optics(np.r_[grid, 0.55])
         report(f"WD01 R_V={r_v} model A(λ)/A(V), 0.125-3 µm, vs tests/data/d03_mw{r_v}.ecsv",
                optics.c_ext[:-1] / optics.c_ext[-1], interp(grid, w, c) / interp(0.55, w, c), 0.02,
                note="indirect check of the PAH continuum and blend")
@@ -420,17 +422,17 @@ def grain_model_vs_draine(_):
 # --------------------------------------------------------------------------- astropy
 @check()
 def ab_and_units():
-    exposure = PKG / "exposure.py"
+    photometry = PKG / "photometry.py"
     ab = (1 * u.AB).to_value(u.Jy)
-    report("exposure.py AB_ZERO_JY vs astropy.units AB zero point, 10^(-0.4*48.60) erg s-1 cm-2 Hz-1",
-           code_const(exposure, "AB_ZERO_JY"), ab, 1e-4, note=f"astropy: {ab:.3f} Jy")
+    report("photometry.py AB_ZERO_JY vs astropy.units AB zero point, 10^(-0.4*48.60) erg s-1 cm-2 Hz-1",
+           code_const(photometry, "AB_ZERO_JY"), ab, 1e-4, note=f"astropy: {ab:.3f} Jy")
     try:
         report("tests/published.py AB_ZERO_POINT_JY vs astropy.units AB", published("AB_ZERO_POINT_JY"), ab, 1e-4)
     except KeyError:
         pass
-    report("exposure.py _JY vs astropy u.Jy in W m-2 Hz-1", code_const(exposure, "_JY"),
+    report("photometry.py _JY vs astropy u.Jy in W m-2 Hz-1", code_const(photometry, "_JY"),
            (1 * u.Jy).to_value(u.W / u.m**2 / u.Hz), 1e-15)
-    report("exposure.py DIGITISATION_SIGMA_ADU vs 1/sqrt(12)", code_const(exposure, "DIGITISATION_SIGMA_ADU"),
+    report("ccd.py DIGITISATION_SIGMA_ADU vs 1/sqrt(12)", code_const(PKG / "ccd.py", "DIGITISATION_SIGMA_ADU"),
            1 / math.sqrt(12), 2e-3, note="rounded to 3 figures")
     m_c = code_const(PKG / "grains" / "sizes.py", "M_C_G")
     report("sizes.py M_C_G / 12.011 vs astropy.constants.u (g)", m_c / 12.011, const.u.to_value(u.g), 1e-8)
@@ -452,10 +454,10 @@ def wien():
 def hst_constant():
     area = math.pi * 1.2**2 * u.m**2
     hst = (area * 3631 * u.Jy / const.h).to_value(u.Hz)
-    report("HST handbooks' count-rate constant 2.5e11 (tests/test_exposure.py) vs pi (1.2 m)^2 3631 Jy / h",
+    report("HST handbooks' count-rate constant 2.5e11 (tests/test_photometry.py) vs pi (1.2 m)^2 3631 Jy / h",
            2.5e11, hst, 0.01, note=f"astropy: {hst:.4g}; printed to 2 figures")
     photons = (3631 * u.Jy).to_value(u.photon / u.s / u.cm**2 / u.AA, u.spectral_density(0.55 * u.um))
-    report("'AB = 0 gives about 1000 photons s-1 cm-2 A-1 at 5500 A' (tests/test_exposure.py) vs astropy",
+    report("'AB = 0 gives about 1000 photons s-1 cm-2 A-1 at 5500 A' (tests/test_photometry.py) vs astropy",
            1000.0, photons, 0.05, note=f"astropy: {photons:.1f}")
 
 
@@ -529,8 +531,8 @@ def ab_speclite():
 
     ref = speclite.filters.ab_reference_flux(5500 * u.AA)
     ref_jy = (ref * (5500 * u.AA) ** 2 / const.c).to_value(u.Jy)
-    report("exposure.py AB_ZERO_JY vs speclite.filters.ab_reference_flux",
-           code_const(PKG / "exposure.py", "AB_ZERO_JY"), ref_jy, 1e-9)
+    report("photometry.py AB_ZERO_JY vs speclite.filters.ab_reference_flux",
+           code_const(PKG / "photometry.py", "AB_ZERO_JY"), ref_jy, 1e-9)
 
 
 @check("lezargus")

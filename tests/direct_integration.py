@@ -1,8 +1,8 @@
 """Reference band integrals by a numerical method independent of redcorr's.
 
 redcorr.extinction integrates with product Gauss–Legendre rules on intervals
-in 1/λ and redcorr.correct tabulates blackbody colours with its own
-trapezoid sums on the filter samples. The tests' references instead use
+in 1/λ and redcorr.correction tabulates blackbody colours with
+redcorr.photometry's trapezoid sums on the filter samples. The tests' references instead use
 numpy's trapezoid rule on a dense uniform grid in λ, the response linearly
 interpolated between its samples (the definition of a Band), and Planck's
 law written here from scipy.constants (CODATA values). With 20001 points the

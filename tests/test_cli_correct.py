@@ -73,12 +73,12 @@ def test_missing_column_lists_available_and_writes_nothing(tmp_path, capsys):
 
 
 def test_unexpected_failure_exits_1(tmp_path, capsys, monkeypatch):
-    import redcorr.correct
+    import redcorr.correction
 
     def broken(self, frame):
         raise RuntimeError("boom")
 
-    monkeypatch.setattr(redcorr.correct.Correction, "_arrays", broken)
+    monkeypatch.setattr(redcorr.correction.Correction, "_arrays", broken)
     src = _src(tmp_path)
     assert main(["correct", str(src), str(tmp_path / "o.csv"), *BANDS]) == 1
     assert "unexpected failure" in capsys.readouterr().err

@@ -8,7 +8,7 @@ from numpy.testing import assert_allclose
 from published import AB_ZERO_POINT_JY
 
 from redcorr.cli import main
-from redcorr.cli.plan import CAUTION
+from redcorr.exposure import CAUTION
 from redcorr.extinction import band_extinction
 from redcorr.io import load_curve
 from redcorr.io.instrument import load_instrument

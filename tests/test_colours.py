@@ -6,8 +6,9 @@ import pytest
 
 from redcorr._paths import project_dir
 from redcorr.colours import colour_index, colour_magnitude
-from redcorr.correct import Correction
+from redcorr.correction import Correction
 from redcorr.exceptions import InputError
+from redcorr.io.correction import correction_options
 
 
 def test_colour_index_sign_convention():
@@ -33,8 +34,8 @@ def test_colour_index_broadcasts_and_propagates_nan():
 
 def test_colour_magnitude_of_a_corrected_demo_catalog():
     frame = pd.read_csv(project_dir("demo") / "brume_catalog.csv", comment="#", nrows=50)
-    corr = Correction(["kw-b", "kw-v"], columns=list(frame.columns), ebv_column="ebv", law="f99", r_v=4.3,
-                      colours=[("kw-b", "kw-v")])
+    corr = Correction(list(frame.columns), correction_options(["kw-b", "kw-v"], ebv_column="ebv", law="f99", r_v=4.3,
+                                                              colours=[("kw-b", "kw-v")]))
     out = corr.correct(frame)
     cmd = colour_magnitude(out, "kw_b", "kw_v")
     colour, mag = cmd["as observed"]

@@ -1,4 +1,4 @@
-"""Tests of redcorr.correct: DataFrames in, DataFrames out."""
+"""Tests of redcorr.correction: DataFrames in, DataFrames out."""
 
 import functools
 
@@ -11,9 +11,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from published import CCM89_TABLE3_RV31, SF11_TABLE6_RV31
 
-from redcorr.correct import FLAG_BITS, Correction, correct_dataframe
+from redcorr.correction import CORRECTION_FLAGS, Correction
 from redcorr.curves import get_curve
 from redcorr.exceptions import InputError, OutOfRangeWarning, UnknownNameError
+from redcorr.io.correction import correct_dataframe, correction_options
 from redcorr.io.filters import load_band
 
 
@@ -233,8 +234,8 @@ _STARS.loc[7, "ebv"] = -0.05
 
 @functools.cache
 def _chunk_correction():
-    corr = Correction(KW, columns=list(_STARS.columns), spectrum="colour", solve_colour=("kw-b", "kw-v"),
-                      colours=[("kw-v", "kw-r")])
+    corr = Correction(list(_STARS.columns), correction_options(KW, spectrum="colour", solve_colour=("kw-b", "kw-v"),
+                                                               colours=[("kw-v", "kw-r")]))
     return corr, corr.correct(_STARS)
 
 
@@ -260,10 +261,10 @@ def test_flags_missing_negative_and_text():
     out, summary = correct_dataframe(frame, ["kw-v"], mag_columns={"kw-v": "v"})
     flags = out["dered_flags"].to_numpy()
     assert flags[0] == 0
-    assert flags[1] == FLAG_BITS["non_numeric"] | FLAG_BITS["missing"]
-    assert flags[2] == FLAG_BITS["missing"]  # an empty cell is missing, not text
-    assert flags[3] == FLAG_BITS["missing"]
-    assert flags[4] == FLAG_BITS["negative_reddening"]
+    assert flags[1] == CORRECTION_FLAGS["non_numeric"] | CORRECTION_FLAGS["missing"]
+    assert flags[2] == CORRECTION_FLAGS["missing"]  # an empty cell is missing, not text
+    assert flags[3] == CORRECTION_FLAGS["missing"]
+    assert flags[4] == CORRECTION_FLAGS["negative_reddening"]
     assert np.isnan(out["v_dered"].iloc[1]) and np.isnan(out["A_kw_v"].iloc[3])
     assert out["A_kw_v"].iloc[4] < 0  # odd extension: a negative E(B-V) brightens nothing away
     assert summary["flagged"]["non_numeric"] == 1 and summary["flagged"]["missing"] == 3
@@ -276,8 +277,8 @@ def test_flag_outside_grid_warns_and_rv_outside_law_range():
     with pytest.warns(OutOfRangeWarning, match="1 row"):
         out, summary = correct_dataframe(frame, ["kw-v"], mag_columns={"kw-v": "v"}, rv_column="rv")
     flags = out["dered_flags"].to_numpy()
-    assert flags[1] & FLAG_BITS["outside_grid"]
-    assert flags[2] & FLAG_BITS["outside_curve"] and np.isnan(out["v_dered"].iloc[2])
+    assert flags[1] & CORRECTION_FLAGS["outside_grid"]
+    assert flags[2] & CORRECTION_FLAGS["outside_curve"] and np.isnan(out["v_dered"].iloc[2])
     assert summary["flagged"]["outside_curve"] == 1
 
 
@@ -292,7 +293,7 @@ def test_map_source_flags_coverage():
     ok = mflags == 0
     # bitwise: with map_scale = 1 the corrector must use the map's own value unchanged
     np.testing.assert_array_equal(out["ebv_used"].to_numpy()[ok], values[ok])
-    assert ((out["dered_flags"].to_numpy() & FLAG_BITS["map_coverage"]) != 0).tolist() == (~ok).tolist()
+    assert ((out["dered_flags"].to_numpy() & CORRECTION_FLAGS["map_coverage"]) != 0).tolist() == (~ok).tolist()
     assert summary["rows"] == 3
 
 
@@ -331,12 +332,12 @@ def test_header_only_frame_gives_empty_output_with_all_columns():
 
 def test_guessing_columns_and_galactic_b_is_not_a_magnitude():
     frame = pd.DataFrame({"Vmag": [15.0], "e_Vmag": [0.02], "E(B-V)": [0.1], "B": [16.0]})
-    corr = Correction(["kw-v", "kw-b"], columns=list(frame.columns))
+    corr = Correction(list(frame.columns), correction_options(["kw-v", "kw-b"]))
     assert corr.mag_cols == ["Vmag", "B"] and corr.err_cols == ["e_Vmag", None]
     assert corr.red_col == "E(B-V)" and corr.red_quantity == "ebv"
     coords = pd.DataFrame({"l": [240.0], "b": [-13.0], "kw_v": [15.0], "ebv": [0.1]})
     with pytest.raises(InputError, match="no magnitude column found for band 'kw-b'"):
-        Correction(["kw-b"], columns=list(coords.columns))
+        Correction(list(coords.columns), correction_options(["kw-b"]))
 
 
 def test_band_beyond_the_law_is_refused_or_flagged():
@@ -348,5 +349,5 @@ def test_band_beyond_the_law_is_refused_or_flagged():
     with pytest.warns(ExtrapolationWarning):
         out, summary = correct_dataframe(frame, ["tophat:3.6:0.4"], mag_columns={"tophat:3.6:0.4": "m"},
                                          extrapolate=True)
-    assert (out["dered_flags"] & FLAG_BITS["outside_curve"]).all() and summary["flagged"]["outside_curve"] == 2
+    assert (out["dered_flags"] & CORRECTION_FLAGS["outside_curve"]).all() and summary["flagged"]["outside_curve"] == 2
     assert out["A_tophat_3_6_0_4"].notna().all()

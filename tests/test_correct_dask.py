@@ -13,10 +13,12 @@ import pyarrow.parquet as pq
 import pytest
 from catalog_helpers import KW, intrinsic
 
-from redcorr.correct import Correction, correct_dask
+from redcorr.correction import Correction
 from redcorr.exceptions import InputError
 from redcorr.io.batch import correct_file, correct_file_dask
 from redcorr.io.catalogs import write_catalog
+from redcorr.io.correction import correction_options
+from redcorr.io.dask_engine import correct_dask
 
 dd = pytest.importorskip("dask.dataframe")
 distributed = pytest.importorskip("distributed")
@@ -30,7 +32,7 @@ def cluster():
 
 
 def _make(columns):
-    return Correction(KW, columns=columns, colours=[("kw-b", "kw-v")], rv_error=0.1)
+    return Correction(columns, correction_options(KW, colours=[("kw-b", "kw-v")], rv_error=0.1))
 
 
 def _sorted(frame):
@@ -110,7 +112,7 @@ def test_text_in_a_number_column_fails_in_strict_mode_with_dask(tmp_path):
     # local threaded scheduler: no cluster needed for an error path
     _, parts = _with_text(tmp_path, n=10)
     with pytest.raises(InputError, match="strict"):
-        correct_file_dask(parts, tmp_path / "out", lambda c: Correction(KW, columns=c, strict=True))
+        correct_file_dask(parts, tmp_path / "out", lambda c: Correction(c, correction_options(KW, strict=True)))
     assert not (tmp_path / "out").exists()
 
 

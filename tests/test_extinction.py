@@ -10,14 +10,13 @@ from published import SF11_TABLE6_RV31
 from scipy.integrate import quad
 
 from redcorr.bandpass import Band, gaussian, tophat
+from redcorr.coefficients import CoefficientGrid, coefficient_grid
 from redcorr.curves import TabulatedCurve, get_curve
 from redcorr.exceptions import ExtrapolationWarning, InputError, OutOfRangeWarning, TruncatedBandWarning
 from redcorr.extinction import (
-    CoefficientGrid,
     band_extinction,
     band_quadrature,
     band_ratio,
-    coefficient_grid,
     colour_excess_ratio,
     effective_wavelength,
 )

@@ -8,8 +8,9 @@ from published import DRAINE03_RENORMALIZATION, WD01_CASE_A_B_C
 
 from redcorr.cli import main
 from redcorr.exceptions import InputError, UnknownNameError
-from redcorr.grains import GrainCurve, get_grain_model
+from redcorr.grains import GrainCurve
 from redcorr.io import load_curve, read_grain_model
+from redcorr.io.grains import get_grain_model
 
 pytestmark = pytest.mark.usefixtures("private_cache")  # tests/conftest.py
 
@@ -113,8 +114,8 @@ def test_toml_model_reproduces_named_model(tmp_path):
     # the named model must be the published mixture: the same inputs through the same code,
     # equal to rounding (1e-12)
     np.testing.assert_allclose(
-        mine.optics(wave, cache=False).c_ext,
-        get_grain_model("wd01-rv5.5").optics(wave, cache=False).c_ext,
+        mine.optics(wave, cache=None).c_ext,
+        get_grain_model("wd01-rv5.5").optics(wave, cache=None).c_ext,
         rtol=1e-12,
     )
     curve = load_curve(f"grain:{path}")
@@ -159,7 +160,7 @@ b_c = 6e-5
     model = read_grain_model(path)
     assert model.name == "grain:all.toml" and len(model.components) == 6
     assert model.components[2].material.name == "ice.csv"
-    optics = model.optics([0.55, 2.0], cache=False)
+    optics = model.optics([0.55, 2.0], cache=None)
     assert np.all(optics.c_ext > 0)
 
 

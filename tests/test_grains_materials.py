@@ -6,8 +6,8 @@ from astropy import units as u
 from astropy.table import Table
 
 from redcorr.exceptions import InputError, UnknownNameError
-from redcorr.grains import OpticalConstants, get_material, list_materials
-from redcorr.io.grains import read_optical_constants
+from redcorr.grains import OpticalConstants
+from redcorr.io.grains import get_material, list_materials, read_optical_constants
 
 
 @pytest.mark.parametrize(

@@ -11,17 +11,9 @@ from published import DRAINE03_RENORMALIZATION, WD01_CASE_A_B_C
 
 from redcorr.curves import DustCurve, TabulatedCurve
 from redcorr.exceptions import InputError
-from redcorr.grains import (
-    Component,
-    GrainModel,
-    LogNormal,
-    PAHBlend,
-    get_grain_model,
-    get_material,
-    mrn77,
-    wd01_sizes,
-)
-from redcorr.io.grains import CACHE_ENV, GridCache, default_cache
+from redcorr.grains import Component, GrainModel, LogNormal, PAHBlend, mrn77
+from redcorr.io import load_curve
+from redcorr.io.grains import CACHE_ENV, GridCache, default_cache, get_grain_model, get_material, wd01_sizes
 
 DATA = Path(__file__).parent / "data"
 
@@ -103,9 +95,9 @@ def test_graphite_spheres_alone_miss_draine():
         Component(get_material("silicate-d03"), silicate),
         Component(get_material("graphite-d03"), carbon),
     ])
-    assert plain.r_v(cache=False) - TABLE_R_V["3.1"] > 0.3
+    assert plain.r_v(cache=None) - TABLE_R_V["3.1"] > 0.3
     # with it, within the 0.05 of test_wd01_r_v_albedo_and_normalization
-    assert get_grain_model("wd01-rv3.1").r_v(cache=False) == pytest.approx(TABLE_R_V["3.1"], abs=0.05)
+    assert get_grain_model("wd01-rv3.1").r_v(cache=None) == pytest.approx(TABLE_R_V["3.1"], abs=0.05)
 
 
 def test_rayleigh_absorption_depends_only_on_volume():
@@ -115,8 +107,8 @@ def test_rayleigh_absorption_depends_only_on_volume():
     sil = get_material("silicate-d03")
     big = LogNormal(0.01, 0.2, volume=1e-8)
     small = LogNormal(0.001, 0.2, volume=1e-8)
-    c_big = GrainModel([Component(sil, big)]).optics(100.0, cache=False).c_ext
-    c_small = GrainModel([Component(sil, small)]).optics(100.0, cache=False).c_ext
+    c_big = GrainModel([Component(sil, big)]).optics(100.0, cache=None).c_ext
+    c_small = GrainModel([Component(sil, small)]).optics(100.0, cache=None).c_ext
     assert c_small == pytest.approx(c_big, rel=1e-4)
 
 
@@ -128,7 +120,7 @@ def test_mass_per_h_and_opacity():
     expect = 0.0
     for rho, log_a in ((3.5, -25.11), (2.24, -25.13)):
         expect += rho * 4 * np.pi / 3 * 10**log_a * 2 * (np.sqrt(0.25e-4) - np.sqrt(0.005e-4))
-    optics = model.optics([0.55], cache=False)
+    optics = model.optics([0.55], cache=None)
     assert optics.mass_per_h == pytest.approx(expect, rel=1e-3)
     assert optics.kappa_ext[0] == pytest.approx(optics.c_ext[0] / expect, rel=1e-3)
     assert optics.kappa_abs[0] < optics.kappa_ext[0]
@@ -152,8 +144,8 @@ def test_curve_plugs_into_the_curve_interface():
 
 def test_a_over_av_shapes():
     model = get_grain_model("mrn77")
-    assert model.a_over_av(0.55, cache=False) == pytest.approx(1.0, rel=1e-12)  # normalised at V
-    assert model.a_over_av([[0.44, 0.55]], cache=False).shape == (1, 2)
+    assert model.a_over_av(0.55, cache=None) == pytest.approx(1.0, rel=1e-12)  # normalised at V
+    assert model.a_over_av([[0.44, 0.55]], cache=None).shape == (1, 2)
 
 
 def test_pah_only_for_carbon():
@@ -167,7 +159,7 @@ def test_wavelength_outside_material():
     model = get_grain_model("mrn77")  # Laor & Draine (1993) tables stop at 1000 µm
     msg = r"wave=2000 µm lies outside the optical constants of silicate-ld93, \[0.001, 1000\]"
     with pytest.raises(InputError, match=msg):
-        model.optics([0.5, 2000.0], cache=False)
+        model.optics([0.5, 2000.0], cache=None)
 
 
 def test_cache_hit_skips_computation(tmp_path, monkeypatch):
@@ -190,10 +182,12 @@ def test_cache_hit_skips_computation(tmp_path, monkeypatch):
 def test_cache_bypass_and_default_location(tmp_path):
     cache = default_cache()
     assert cache.directory == tmp_path / "cache" / "grains"
-    get_grain_model("mrn77").optics([0.55], cache=False)
+    get_grain_model("mrn77").optics([0.55])  # cache=None, the default: the core keeps nothing
     assert not cache.directory.exists()
-    get_grain_model("mrn77").optics([0.55])
+    get_grain_model("mrn77").optics([0.55], cache=default_cache())
     assert len(list(cache.directory.glob("*.npz"))) == 1
+    load_curve("mrn77")  # the edge passes the disk cache by default
+    assert len(list(cache.directory.glob("*.npz"))) == 2
 
 
 def test_cache_key_follows_inputs():
@@ -244,7 +238,7 @@ def test_model_phase_function_is_normalized_and_has_the_model_g():
     p = model.phase_function(0.55, theta)
     weight = 2 * np.pi * np.sin(theta)
     assert np.trapezoid(weight * p, theta) == pytest.approx(1.0, abs=1e-5)
-    g = model.optics([0.55], cache=False).g[0]
+    g = model.optics([0.55], cache=None).g[0]
     assert np.trapezoid(weight * np.cos(theta) * p, theta) == pytest.approx(g, abs=1e-5)
     with pytest.raises(InputError, match="one finite wavelength"):
         model.phase_function([0.5, 0.6], theta)
@@ -257,10 +251,10 @@ def test_grey_dust_warns_that_r_v_means_nothing():
 
     big = GrainModel([Component(get_material("silicate-d03"), LogNormal(20.0, 0.05, volume=1e-15))], name="boulders")
     with pytest.warns(OutOfRangeWarning, match="boulders: extinction at 0.44 µm"):
-        r_v = big.r_v(cache=False)
+        r_v = big.r_v(cache=None)
     assert not 0 < r_v < 100
     with pytest.warns(OutOfRangeWarning):
-        curve = big.curve([0.3, 0.5, 0.7, 1.0], cache=False)
+        curve = big.curve([0.3, 0.5, 0.7, 1.0], cache=None)
     # bitwise: R_V of grey dust subtracts two nearly equal cross sections, so it is only
     # reproducible because a wavelength's cross sections do not depend on the other
     # wavelengths computed with it (documented in GrainModel.optics)
@@ -278,9 +272,9 @@ def test_cross_sections_do_not_depend_on_the_other_wavelengths(monkeypatch, engi
         pytest.skip("numba is not installed")
     monkeypatch.setattr(mie_module, "default_engine", lambda: engine)
     model = get_grain_model("wd01-rv3.1")
-    alone = model.optics([0.44, 0.55], cache=False)
+    alone = model.optics([0.44, 0.55], cache=None)
     wave = [0.2, 0.44, 0.3, 1.2, 0.55, 2.2, 0.12]
-    mixed = model.optics(wave, cache=False)
+    mixed = model.optics(wave, cache=None)
     for name in ("c_ext", "c_sca", "c_abs", "g"):
         np.testing.assert_array_equal(getattr(mixed, name)[[1, 4]], getattr(alone, name), err_msg=name)
 
@@ -293,8 +287,8 @@ def test_two_processes_share_the_cache(tmp_path):
     import sys
 
     code = (
-        "from redcorr.grains import get_grain_model;"
-        "print(get_grain_model('mrn77').optics([0.3, 0.55, 2.2]).c_ext[1])"
+        "from redcorr.io.grains import default_cache, get_grain_model;"
+        "print(get_grain_model('mrn77').optics([0.3, 0.55, 2.2], cache=default_cache()).c_ext[1])"
     )
     env = dict(os.environ, **{CACHE_ENV: str(tmp_path), "REDCORR_MIE_NUMPY": "1"})  # no JIT warm-up
     root = Path(__file__).resolve().parent.parent
@@ -314,5 +308,5 @@ def test_wd01_infrared_with_remembered_pah_bands():
     # (2001) Drude bands come from memory, so this is their outside check (10%; measured ≤ 8%).
     wave = np.array([3.3, 6.22, 7.7, 8.6, 9.7, 11.3, 12.7, 18.0, 60.0])
     w, ref = read_draine("3.1")
-    ours = get_grain_model("wd01-rv3.1").optics(wave, cache=False).c_ext
+    ours = get_grain_model("wd01-rv3.1").optics(wave, cache=None).c_ext
     np.testing.assert_allclose(ours, log_interp(wave, w, ref["C_ext_per_H"]), rtol=0.10)

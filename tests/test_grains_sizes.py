@@ -17,11 +17,10 @@ from redcorr.grains import (
     TabulatedSizes,
     WD01Carbonaceous,
     WD01Silicate,
-    get_grain_model,
     mrn77,
-    wd01_sizes,
 )
 from redcorr.grains.sizes import M_C_G, RHO_GRAPHITE
+from redcorr.io.grains import get_grain_model, wd01_sizes
 
 DATA = Path(__file__).parent / "data"
 
@@ -174,7 +173,7 @@ def test_grid_needs_sizes():
 
 
 def test_unknown_size_type():
-    from redcorr.grains import build_component
+    from redcorr.io.grains import build_component
 
     with pytest.raises(UnknownNameError, match="sizes.type='powerlaw'"):
         build_component({"material": "silicate-d03", "sizes": {"type": "powerlaw"}})
@@ -188,7 +187,7 @@ def test_tabulated_sizes_range_must_lie_inside_the_table():
 
 
 def test_wd01_explicit_and_named_parameters_conflict():
-    from redcorr.grains import build_component
+    from redcorr.io.grains import build_component
 
     spec = {"type": "wd01-silicate", "r_v": 3.1, "alpha": -1.5}
     with pytest.raises(InputError, match="not both"):

@@ -14,14 +14,15 @@ from catalog_helpers import KW, intrinsic
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from redcorr.correct import Correction
+from redcorr.correction import Correction
 from redcorr.exceptions import InputError
 from redcorr.io.batch import correct_file
 from redcorr.io.catalogs import TEXT_DECIMALS, CatalogWriter, open_catalog, read_catalog, write_catalog
+from redcorr.io.correction import correction_options
 
 
 def _make(columns, **options):
-    return Correction(KW, columns=columns, **options)
+    return Correction(columns, correction_options(KW, **options))
 
 
 @pytest.mark.parametrize("suffix", ["csv", "csv.gz", "ecsv", "fits", "parquet"])
@@ -204,7 +205,7 @@ def test_missing_column_message_and_no_output(tmp_path):
     src = tmp_path / "in.csv"
     src.write_text("id,vmag_x,ebv\n1,15,0.1\n")
     with pytest.raises(InputError, match=r"\['id', 'vmag_x', 'ebv'\]"):
-        correct_file(src, tmp_path / "out.csv", lambda c: Correction(["kw-v"], columns=c))
+        correct_file(src, tmp_path / "out.csv", lambda c: Correction(c, correction_options(["kw-v"])))
     assert not (tmp_path / "out.csv").exists()
 
 
@@ -257,7 +258,7 @@ def test_inconsistent_row_lengths(tmp_path):
     src = tmp_path / "ragged.csv"
     src.write_text("kw_v,ebv\n15,0.1\n16,0.2,9\n")
     with pytest.raises(InputError, match="3 fields where the header has 2"):
-        correct_file(src, tmp_path / "out.csv", lambda c: Correction(["kw-v"], columns=c))
+        correct_file(src, tmp_path / "out.csv", lambda c: Correction(c, correction_options(["kw-v"])))
     assert not (tmp_path / "out.csv").exists()
 
 

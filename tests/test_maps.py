@@ -310,7 +310,7 @@ def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
     # (values, flags, including blank pixels and unusable positions) must not depend on it.
     # Bitwise identity is what is tested: each position is computed by the same arithmetic in
     # whichever chunk or thread it falls.
-    import redcorr.maps as maps
+    import redcorr.maps._base as maps  # where lookup reads _CHUNK, _MAX_THREADS and _usable_cpus
 
     values = healpix_values(16, "ring")
     values[::7] = np.nan

@@ -10,7 +10,7 @@ from astropy.table import Table
 from tui_helpers import run_app, set_value, type_into, until
 
 from redcorr.cli import main
-from redcorr.tui.widgets import BandTable, StatusLine
+from redcorr.tui.widgets import BandGrid, StatusLine
 
 pytestmark = pytest.mark.usefixtures("private_config")
 
@@ -68,7 +68,7 @@ def test_bands_from_files_library_and_specs_export_what_the_cli_prints(tmp_path,
         await pilot.press("enter", "enter")
         await pilot.pause()
         assert app.session.bands == KW + [spec, "bessell-V"]
-        rows = {r["band"]: r for r in screen.query_one(BandTable).rows_shown}
+        rows = {r["band"]: r for r in screen.query_one(BandGrid).rows_shown}
         # the same curve through a user file and through the library gives the same numbers; the file's
         # wavelengths are converted from Å by astropy units, the library's by its own arithmetic (1 ulp
         # apart), so lambda_eff may differ in the last bits: rel=1e-9 is far below any digit shown
@@ -91,7 +91,7 @@ def test_bands_from_files_library_and_specs_export_what_the_cli_prints(tmp_path,
         assert app.session.bands == bands
 
         # bad values: a message, nothing changed, the last good table kept
-        rows = screen.query_one(BandTable).rows_shown
+        rows = screen.query_one(BandGrid).rows_shown
         await type_into(pilot, "#band-spec", "tophat:0.5")
         await pilot.press("enter")
         await pilot.pause()
@@ -100,10 +100,10 @@ def test_bands_from_files_library_and_specs_export_what_the_cli_prints(tmp_path,
         await type_into(pilot, "#sed", "blackbody:hot")
         assert "sed='blackbody:hot'" in status.message
         assert screen.query_one("#sed").has_class("-refused")
-        assert screen.query_one(BandTable).rows_shown == rows  # the last good table stays
+        assert screen.query_one(BandGrid).rows_shown == rows  # the last good table stays
         await set_value(pilot, "#sed", "blackbody:4000")
         assert not status.has_class("-error")
-        assert screen.query_one(BandTable).rows_shown != rows
+        assert screen.query_one(BandGrid).rows_shown != rows
         await set_value(pilot, "#band-output", "table.txt")
         await pilot.click("#band-export")
         await pilot.pause()

@@ -1,16 +1,13 @@
 """The Catalog screen writes what `redcorr correct` writes, cancels safely and survives bad values."""
 
 import numpy as np
-import pandas as pd
 import pytest
 from tui_helpers import run_app, set_value, type_into, until
 
 from redcorr._paths import project_dir
-from redcorr.cli import build_parser, main
-from redcorr.cli.correct import _options as cli_options
+from redcorr.cli import main
 from redcorr.colours import colour_magnitude
-from redcorr.correct import Correction
-from redcorr.tui._inputs import catalog_probe, correction_options, guess_mapping
+from redcorr.tui._inputs import catalog_probe
 from redcorr.tui.widgets import StatusLine, XYPlot
 
 pytestmark = pytest.mark.usefixtures("private_config")
@@ -127,27 +124,3 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
     assert tui_out.read_bytes() == cli_out.read_bytes()
     assert main(["correct", str(DEMO), str(grain_cli), "--law", "mrn77", *common]) == 0
     assert grain_tui.read_bytes() == grain_cli.read_bytes()
-
-
-@pytest.mark.parametrize(
-    ("kind", "value", "flags"),
-    [
-        ("ebv", "0.6", ["--ebv", "0.6"]),
-        ("av", "2.5", ["--av", "2.5"]),
-        ("map", str(project_dir("demo") / "brume_ebv_healpix.fits"),
-         ["--map", str(project_dir("demo") / "brume_ebv_healpix.fits")]),
-    ],
-)
-def test_constant_and_map_reddening_set_up_the_correction_as_the_cli_does(kind, value, flags):
-    columns, first = catalog_probe(DEMO)
-    bands = ["kw-b", "kw-v", "kw-r", "kw-i"]
-    mapping = guess_mapping(columns, bands, "f99", 4.3)
-    ours = correction_options(mapping, kind, value, "f99", 4.3, "colour", "7000", "kw-b,kw-v")
-    argv = ["correct", str(DEMO), "out.csv", *[a for b in bands for a in ("--band", b)], "--law", "f99",
-            "--rv", "4.3", "--solve-colour", "kw-b,kw-v", "--colour", "kw-b,kw-v", *flags]
-    theirs = cli_options(build_parser().parse_args(argv))
-    a = Correction(bands, columns=columns, **ours)
-    b = Correction(bands, columns=columns, **theirs)
-    assert a.setup() == b.setup()
-    # exact: the same options must give the same numbers, not merely close ones
-    pd.testing.assert_frame_equal(a.correct(first), b.correct(first), check_exact=True)

@@ -5,12 +5,12 @@ import pytest
 from astropy import units as u
 from tui_helpers import run_app, set_value, type_into, until
 
-from redcorr.band_table import band_table
+from redcorr.band_summary import band_summary
 from redcorr.extinction import band_extinction, effective_wavelength
 from redcorr.io import load_curve
 from redcorr.io.filters import load_band
 from redcorr.io.spectra import load_sed
-from redcorr.tui.widgets import BandTable, CurvePlot, StatusLine
+from redcorr.tui.widgets import BandGrid, CurvePlot, StatusLine
 
 pytestmark = pytest.mark.usefixtures("private_config")
 
@@ -34,7 +34,7 @@ async def pick(pilot, name):
 
 async def r_v_changes_the_table_and_plot_to_the_core_values(app, pilot):
     screen = app.screen
-    table = screen.query_one(BandTable)
+    table = screen.query_one(BandGrid)
     before = [row["A_band"] for row in table.rows_shown]
     await type_into(pilot, "#r-v", "5.5")
     curve, sed = load_curve("f99", r_v=5.5), load_sed("blackbody:5800")
@@ -63,13 +63,13 @@ async def bad_values_show_a_message_and_keep_the_app_usable(app, pilot):
     status = screen.query_one(StatusLine)
     for selector, text, message in BAD_VALUES:
         await type_into(pilot, selector, "")  # an empty R_V is the law's default
-        before = screen.query_one(BandTable).rows_shown
+        before = screen.query_one(BandGrid).rows_shown
         await pilot.press(*text)
         await pilot.pause()
         assert message in status.message
         assert status.has_class("-error")
         assert screen.query_one(selector).has_class("-refused")
-        assert screen.query_one(BandTable).rows_shown == before  # the last good view stays
+        assert screen.query_one(BandGrid).rows_shown == before  # the last good view stays
         # still usable: a good value clears the message and redraws
         await set_value(pilot, selector, "3.6" if selector == "#r-v" else "2")
         assert status.message == ""
@@ -115,8 +115,8 @@ async def e_bv_fixed_r_v_laws_grain_models_and_warnings(app, pilot, tmp_path):
     await until(pilot, lambda: screen.curve.name == "mrn77", "the grain model")
     curve = load_curve("mrn77")
     assert screen.query_one("#r-v").disabled and screen.curve.r_v == curve.r_v  # exact: the same model's R_V
-    rows = screen.query_one(BandTable).rows_shown
-    expected = band_table(curve, [load_band(b) for b in KW], load_sed("blackbody:5800"), screen.a_v)
+    rows = screen.query_one(BandGrid).rows_shown
+    expected = band_summary(curve, [load_band(b) for b in KW], load_sed("blackbody:5800"), screen.a_v)
     assert rows == expected  # exact: the core's table, shown as is
 
 

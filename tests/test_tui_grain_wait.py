@@ -7,12 +7,12 @@ from textual.widgets import DataTable
 from tui_helpers import run_app, set_value, type_into, until
 
 from redcorr._paths import project_dir
-from redcorr.band_table import band_table
+from redcorr.band_summary import band_summary
 from redcorr.io import load_curve
 from redcorr.io.filters import load_band
 from redcorr.io.spectra import load_sed
 from redcorr.tui import _cache
-from redcorr.tui.widgets import BandTable, StatusLine
+from redcorr.tui.widgets import BandGrid, StatusLine
 
 pytestmark = pytest.mark.usefixtures("private_config")
 
@@ -64,8 +64,9 @@ def check_result(screen, key):
     """The screen shows the core's numbers for the grain model once it is computed."""
     curve = load_curve(MODEL)
     if key in ("f2", "f3"):
-        rows = band_table(curve, [load_band(b) for b in screen.session.bands], load_sed(screen.session.sed), screen.a_v)
-        assert screen.query_one(BandTable).rows_shown == rows  # exact: the core's table, shown as is
+        bands = [load_band(b) for b in screen.session.bands]
+        rows = band_summary(curve, bands, load_sed(screen.session.sed), screen.a_v)
+        assert screen.query_one(BandGrid).rows_shown == rows  # exact: the core's table, shown as is
     elif key == "f4":
         assert screen.query_one("#cat-mapping").mapping["kw-v"] == ("kw_v", "e_kw_v")
         assert screen.query_one("#cat-after", DataTable).row_count == 5

@@ -71,7 +71,7 @@ def _a_v(args, curve):
 
 
 def _write_grid(curve, bands, path, extrapolate, out):
-    from redcorr.extinction import coefficient_grid
+    from redcorr.coefficients import coefficient_grid
     from redcorr.io.grids import write_coefficient_grid
 
     grid = coefficient_grid(curve, bands, extrapolate=extrapolate)
@@ -94,7 +94,7 @@ def _write_grid(curve, bands, path, extrapolate, out):
 
 
 def run(args):
-    from redcorr.band_table import band_table
+    from redcorr.band_summary import band_summary
     from redcorr.extinction import colour_excess_ratio
     from redcorr.io import check_output_path
     from redcorr.io.filters import load_band
@@ -107,7 +107,7 @@ def run(args):
     bands = [load_band(spec) for spec in args.band]
     sed = load_sed(args.sed)
     a_v = _a_v(args, curve)
-    rows = band_table(curve, bands, sed, a_v, args.extrapolate)
+    rows = band_summary(curve, bands, sed, a_v, args.extrapolate)
     info = sys.stderr if args.json else sys.stdout
     if args.json:
         print_json(rows)
@@ -128,7 +128,9 @@ def run(args):
     if args.grid:
         _write_grid(curve, bands, args.grid, args.extrapolate, info)
     if args.plot:
-        from redcorr.plotting import plot_band_coefficients  # noqa: PLC0415 - matplotlib only when asked
+        from redcorr.io.figures import save_figure  # noqa: PLC0415
+        from redcorr.plotting import band_coefficients_figure  # noqa: PLC0415 - matplotlib only when asked
 
-        plot_band_coefficients(curve, bands, sed, args.plot, a_v_max=max(20.0, a_v), extrapolate=args.extrapolate)
+        fig = band_coefficients_figure(curve, bands, sed, a_v_max=max(20.0, a_v), extrapolate=args.extrapolate)
+        save_figure(fig, args.plot)
     return 0

@@ -3,13 +3,13 @@
 import argparse
 import sys
 
-from redcorr._constants import CORRECTION_FLAG_BITS, DEFAULT_CHUNK_ROWS, DEFAULT_TEMPERATURE
+from redcorr._constants import CORRECTION_FLAGS, DEFAULT_CHUNK_ROWS, DEFAULT_TEMPERATURE
 from redcorr.cli._common import finite_float, print_json
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
 
-_EPILOG = "dered_flags bits: " + ", ".join(f"{v}={k}" for k, v in CORRECTION_FLAG_BITS.items())
+_EPILOG = "dered_flags bits: " + ", ".join(f"{v}={k}" for k, v in CORRECTION_FLAGS.items())
 
 
 def _mapping(text):
@@ -119,22 +119,20 @@ def add_parser(sub):
 
 
 def _options(args):
-    """Correction keyword arguments from the command line."""
-    dust_map = None
-    if args.map:
-        from redcorr.io.maps import open_map  # noqa: PLC0415 - only when a map is asked for
+    """The correction's options from the command line, through the edge shared with the terminal UI."""
+    from redcorr.io.correction import correction_options  # noqa: PLC0415 - heavy (pandas): loaded on use
 
-        dust_map = open_map(args.map)
     if args.teff_col and args.solve_colour:
         raise InputError("give --teff-col or --solve-colour, not both")
     spectrum = "column" if args.teff_col else "colour" if args.solve_colour else "fixed"
-    return dict(
+    return correction_options(
+        args.band, law=args.law, r_v=args.rv,
         mag_columns=dict(args.mag), err_columns=dict(args.err), colours=args.colour,
-        ebv_column=args.ebv_col, av_column=args.av_col, ebv=args.ebv, av=args.av, dust_map=dust_map,
+        ebv_column=args.ebv_col, av_column=args.av_col, ebv=args.ebv, av=args.av, dust_map=args.map,
         reddening_error_column=args.red_err_col, reddening_error=args.red_err, map_scale=args.map_scale,
         lon_column=args.lon_col, lat_column=args.lat_col, frame=args.frame,
-        law=args.law, r_v=args.rv, rv_column=args.rv_col, rv_error=args.rv_err,
-        rv_error_column=args.rv_err_col, nonlinear=not args.linear, extrapolate=args.extrapolate,
+        rv_column=args.rv_col, rv_error=args.rv_err, rv_error_column=args.rv_err_col,
+        nonlinear=not args.linear, extrapolate=args.extrapolate,
         spectrum=spectrum, temperature=args.teff, temperature_column=args.teff_col,
         solve_colour=args.solve_colour, colour_offset=args.colour_offset, strict=args.strict,
         suffix=args.suffix,
@@ -176,13 +174,13 @@ class _Progress:
 
 
 def run(args):
-    from redcorr.correct import Correction  # heavy (pandas): loaded on use
+    from redcorr.correction import Correction  # noqa: PLC0415 - heavy (pandas): loaded on use
     from redcorr.io.batch import correct_file, correct_file_dask  # noqa: PLC0415
 
     options = _options(args)
 
     def make(columns):
-        return Correction(args.band, columns=columns, **options)
+        return Correction(columns, options)
 
     if args.engine == "dask":
         summary = correct_file_dask(

@@ -33,7 +33,7 @@ def add_parser(sub):
 
 def _list(as_json):
     from redcorr.curves import list_curves  # heavy: loaded on use, so that the parser builds quickly
-    from redcorr.grains import list_grain_models
+    from redcorr.io.grains import list_grain_models
 
     rows = []
     for info in list_curves():
@@ -79,9 +79,10 @@ def run(args):
         for w, r in zip(np.atleast_1d(wave_um), ratio, strict=True)
     ]
     if args.plot:
-        from redcorr.plotting import plot_curve  # noqa: PLC0415 - matplotlib only when asked
+        from redcorr.io.figures import save_figure  # noqa: PLC0415
+        from redcorr.plotting import curve_figure  # noqa: PLC0415 - matplotlib only when asked
 
-        plot_curve(curve, args.plot, marks=wave_um, extrapolate=args.extrapolate)
+        save_figure(curve_figure(curve, marks=wave_um, extrapolate=args.extrapolate), args.plot)
     if args.json:
         print_json(rows)
     else:

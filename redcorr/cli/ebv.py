@@ -1,6 +1,6 @@
 """``redcorr ebv``: look up E(B-V) in a local dust map at given positions."""
 
-from redcorr._constants import INTERPOLATIONS, MAP_FLAG_NAMES, MAP_UNITS
+from redcorr._constants import INTERPOLATIONS, MAP_FLAGS, MAP_UNITS
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
 
@@ -19,7 +19,7 @@ def add_parser(sub):
             "--frame says otherwise) or galactic l/b, in degrees; give several as repeated values "
             "or comma lists (write a list starting with a minus sign as --dec=-27.4,-27.5). "
             "Output ra_deg/dec_deg are ICRS, l_deg/b_deg galactic. Flag bits: "
-            + ", ".join(f"{bit} {name}" for bit, name in MAP_FLAG_NAMES.items())
+            + ", ".join(f"{bit} {name}" for name, bit in MAP_FLAGS.items())
             + " (0 = ok)."
         ),
     )

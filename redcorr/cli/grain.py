@@ -30,10 +30,11 @@ def add_parser(sub):
     p.set_defaults(func=run)
 
 
-def grain_rows(model, wave_um, *, cache=True):
+def grain_rows(model, wave_um, *, cache):
     """R_V and one row per wavelength: wavelength_um, A_over_AV, albedo, g, C_ext_per_H, kappa_ext.
 
-    Cross sections are computed at exactly these wavelengths (no interpolation).
+    Cross sections are computed at exactly these wavelengths (no interpolation),
+    kept in ``cache`` (the disk cache, or None), as for `GrainModel.optics`.
     """
     import numpy as np  # heavy: loaded on use
 
@@ -60,7 +61,7 @@ def grain_rows(model, wave_um, *, cache=True):
 
 
 def _list(as_json):
-    from redcorr.grains import list_grain_models, list_materials
+    from redcorr.io.grains import list_grain_models, list_materials
 
     models, materials = list_grain_models(), list_materials()
     if as_json:
@@ -75,7 +76,7 @@ def _list(as_json):
 
 
 def run(args):
-    from redcorr.grains import get_grain_model
+    from redcorr.io.grains import default_cache, get_grain_model
 
     if args.list:
         return _list(args.json)
@@ -84,7 +85,7 @@ def run(args):
     if not args.wave and not args.plot:
         raise InputError("--wave is missing; give one or more wavelengths (or --plot FILE.png)")
     model = get_grain_model(args.model)
-    cache = not args.no_cache
+    cache = None if args.no_cache else default_cache()
     r_v, rows = None, []
     if args.wave:
         _, wave_um = wavelengths(args.wave, args.unit)
@@ -108,40 +109,9 @@ def run(args):
 
 
 def _plot(model, path, *, cache):
-    import numpy as np
-
-    from redcorr.curves.tabulated import V_WAVE_UM
-    from redcorr.io import atomic_path, check_output_path  # noqa: PLC0415
-    from redcorr.phase import henyey_greenstein  # noqa: PLC0415
-    from redcorr.plotting import _figure  # noqa: PLC0415 - matplotlib only when asked
+    from redcorr.io import check_output_path  # noqa: PLC0415
+    from redcorr.io.figures import save_figure  # noqa: PLC0415
+    from redcorr.plotting import grain_model_figure  # noqa: PLC0415 - matplotlib only when asked
 
     check_output_path(path)
-    curve = model.curve(cache=cache)
-    optics = curve.optics
-    x = 1.0 / optics.wave_um
-    keep = x <= 10.0
-    plt = _figure()
-    fig, axes = plt.subplots(2, 2, figsize=(9.0, 6.6), layout="constrained")
-    (ax1, ax2), (ax3, ax4) = axes
-    ax1.plot(x[keep], (optics.c_ext / optics.c_ext[np.argmin(abs(optics.wave_um - V_WAVE_UM))])[keep])
-    ax1.set_ylabel(r"$A(\lambda)/A(V)$")
-    ax2.plot(x[keep], optics.albedo[keep])
-    ax2.set_ylabel("albedo")
-    ax3.plot(x[keep], optics.g[keep])
-    ax3.set_ylabel(r"$g = \langle\cos\theta\rangle$")
-    for ax in (ax1, ax2, ax3):
-        ax.set_xlabel(r"$1/\lambda$ [$\mu$m$^{-1}$]")
-    theta = np.linspace(0.0, np.pi, 181)
-    for lam, colour in ((0.2, "C0"), (V_WAVE_UM, "C1"), (2.2, "C3")):
-        g = float(np.interp(1 / lam, x[::-1], optics.g[::-1]))
-        ax4.semilogy(np.degrees(theta), model.phase_function(lam, theta), color=colour,
-                     label=f"{lam:g} µm Mie, g={g:.2f}")
-        ax4.semilogy(np.degrees(theta), henyey_greenstein(theta, g), color=colour, ls="--", lw=0.9)
-    ax4.set_xlabel("scattering angle [deg]")
-    ax4.set_ylabel(r"phase function [sr$^{-1}$]")
-    ax4.set_title("Mie (solid) and Henyey–Greenstein with the same g (dashed)", fontsize=8)
-    ax4.legend(frameon=False, fontsize=8)
-    fig.suptitle(f"{model.name}: R_V = {curve.r_v:.3f}", fontsize=10)
-    with atomic_path(path, suffix=".png") as tmp:
-        fig.savefig(tmp, format="png", dpi=100)
-    plt.close(fig)
+    save_figure(grain_model_figure(model.curve(cache=cache)), path)

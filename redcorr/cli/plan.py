@@ -2,14 +2,11 @@
 
 import sys
 
+from redcorr._constants import PLAN_CAUTION
 from redcorr.cli._common import finite_float, print_json, print_table
 from redcorr.exceptions import InputError
 
-__all__ = ["add_parser", "run", "CAUTION"]
-
-CAUTION = (
-    "Caution: these are estimates; confirm with the observatory's own tools before committing telescope time."
-)
+__all__ = ["add_parser", "run"]
 
 JSON_KEYS = ("band", "A_band", "t_clear_s", "t_dust_s", "time_factor", "snr", "limiting_mag")
 
@@ -22,7 +19,7 @@ def add_parser(sub):
             "Plan exposures of a point source behind dust with an instrument description (TOML, or 'demo'). "
             "The dust's band extinction is computed for the source spectrum through each band's system "
             "throughput; the S/N follows the CCD equation (Howell 2006, Handbook of CCD Astronomy, §4.4). "
-            "--mag is the source's dust-free AB magnitude. " + CAUTION
+            "--mag is the source's dust-free AB magnitude. " + PLAN_CAUTION
         ),
     )
     p.add_argument("--instrument", required=True, metavar="FILE|demo", help="instrument description (TOML) or 'demo'")
@@ -84,10 +81,11 @@ def _mag_band(args, instrument):
 def run(args):
     import numpy as np
 
-    from redcorr.exposure import ab_mag_of_spectrum, plan_exposure, snr_vs_time, time_vs_av
+    from redcorr.exposure import CAUTION, plan_exposure, snr_vs_time, time_vs_av
     from redcorr.io import check_output_path
     from redcorr.io.instrument import load_instrument
     from redcorr.io.spectra import load_sed
+    from redcorr.photometry import synthetic_ab
 
     for path in (args.plot, args.av_plot):
         if path:
@@ -110,7 +108,7 @@ def run(args):
             )
         if args.mag_band:
             raise InputError("--mag-band applies to --mag; a calibrated spectrum gives every band's magnitude")
-        mag = {instrument.channel(b).name: ab_mag_of_spectrum(sed, instrument.channel(b).band) for b in bands}
+        mag = {instrument.channel(b).name: synthetic_ab(sed, instrument.channel(b).band) for b in bands}
     else:
         mag = args.mag
     mag_band = _mag_band(args, instrument)
@@ -128,27 +126,29 @@ def run(args):
         table = time_vs_av(instrument, [p.band for p in plans], mag, a_v=grid, snr=grid_snr, **common)
 
     if args.plot:
-        from redcorr.plotting import plot_snr_vs_time  # noqa: PLC0415 - matplotlib only when asked
+        from redcorr.io.figures import save_figure  # noqa: PLC0415
+        from redcorr.plotting import snr_vs_time_figure  # noqa: PLC0415 - matplotlib only when asked
 
         t_hi = max(p.t_dust_s for p in plans if np.isfinite(p.t_dust_s)) * 4.0
         t = np.geomspace(max(t_hi, 1.0) * 1e-4, max(t_hi, 1.0), 200)
-        plot_snr_vs_time(
+        fig = snr_vs_time_figure(
             t,
             snr_vs_time(instrument, plans, t),
-            args.plot,
             target=args.snr,
             title=f"{instrument.name}: AB {label}{where}, A_V = {a_v:g} ({curve.name}, R_V {curve.r_v:g})",
         )
+        save_figure(fig, args.plot)
     if args.av_plot:
-        from redcorr.plotting import plot_time_vs_av  # noqa: PLC0415
+        from redcorr.io.figures import save_figure  # noqa: PLC0415
+        from redcorr.plotting import time_vs_av_figure  # noqa: PLC0415
 
-        plot_time_vs_av(
+        fig = time_vs_av_figure(
             table[0],
             table[1],
-            args.av_plot,
             mark=a_v,
             title=f"{instrument.name}: AB {label}{where} to S/N {grid_snr:g} ({curve.name}, R_V {curve.r_v:g})",
         )
+        save_figure(fig, args.av_plot)
 
     if args.json:
         print_json([p.as_dict(JSON_KEYS) for p in plans])

@@ -280,10 +280,15 @@ class GrainModel:
 
     Examples
     --------
-    >>> from redcorr.grains import get_grain_model
-    >>> model = get_grain_model("mrn77")
-    >>> round(float(model.a_over_av(0.55, cache=False)), 6)
+    >>> from redcorr.grains import Material, OpticalConstants, PowerLaw
+    >>> glass = OpticalConstants([0.1, 10.0], [1.5, 1.5], [0.01, 0.01], name="glass")
+    >>> sizes = PowerLaw(1e-25, 3.5, 0.005, 0.25)
+    >>> model = GrainModel([Component(Material("glass", [(1.0, glass)], density=2.5, citation="example"), sizes)])
+    >>> round(float(model.a_over_av(0.55)), 6)
     1.0
+
+    Named models and models described in TOML come from
+    :func:`redcorr.io.grains.get_grain_model`.
     """
 
     def __init__(self, components, *, name="grain model", citation="", description=""):
@@ -312,17 +317,18 @@ class GrainModel:
             "components": [c.key() for c in self.components],
         }
 
-    def optics(self, wave, *, cache=True):
+    def optics(self, wave, *, cache=None):
         """Cross sections per H, albedo and g at ``wave``.
 
         Parameters
         ----------
         wave : float, array_like or Quantity
             Wavelengths (plain numbers in µm); 1-d or scalar.
-        cache : bool or object, optional
-            ``True`` uses the user's cache directory
-            (:func:`redcorr.io.grains.default_cache`), ``False`` bypasses
-            it; or any object with ``get(key)`` and ``put(key, arrays)``.
+        cache : object or None, optional
+            Where computed cross sections are kept: any object with
+            ``get(key)`` (the stored arrays or None) and ``put(key, arrays)``,
+            such as the disk cache :func:`redcorr.io.grains.default_cache`;
+            None (the default) computes afresh and keeps nothing.
 
         Returns
         -------
@@ -340,7 +346,7 @@ class GrainModel:
         wave_um = np.atleast_1d(1.0 / inverse_micron(wave))
         if wave_um.ndim != 1 or not np.all(np.isfinite(wave_um)):
             raise InputError("wave must be a scalar or a 1-d list of finite wavelengths")
-        store = _resolve_cache(cache)
+        store = _check_cache(cache)
         key = self.key(wave_um)
         hit = store.get(key) if store is not None else None
         if hit is None:
@@ -400,19 +406,19 @@ class GrainModel:
                 den += c_sca
         return num / den
 
-    def r_v(self, *, cache=True):
+    def r_v(self, *, cache=None):
         """Monochromatic R_V = A(0.55 µm)/[A(0.44 µm) − A(0.55 µm)]."""
         c_b, c_v = self.optics([B_WAVE_UM, V_WAVE_UM], cache=cache).c_ext
         return r_v_from_cross_sections(c_b, c_v, self.name)
 
-    def a_over_av(self, wave, *, cache=True):
+    def a_over_av(self, wave, *, cache=None):
         """A(λ)/A(V) = C_ext(λ)/C_ext(0.55 µm) at ``wave``; scalar in, scalar out."""
         wave_um = 1.0 / inverse_micron(wave)
         flat = np.append(np.ravel(wave_um), V_WAVE_UM)
         c = self.optics(flat, cache=cache).c_ext
         return (c[:-1] / c[-1]).reshape(np.shape(wave_um))[()]
 
-    def curve(self, wave=None, *, cache=True):
+    def curve(self, wave=None, *, cache=None):
         """The model as an extinction curve (`GrainCurve`, a `TabulatedCurve`).
 
         Parameters
@@ -421,7 +427,7 @@ class GrainModel:
             Tabulation wavelengths; default `DEFAULT_WAVE_UM` (200 values,
             0.1-100 µm, log-spaced). 0.44 and 0.55 µm are always added so that
             A(V) and R_V are exact, not interpolated.
-        cache : bool or object, optional
+        cache : object or None, optional
             As for :meth:`optics`.
         """
         grid = DEFAULT_WAVE_UM if wave is None else np.ravel(1.0 / inverse_micron(wave))
@@ -432,15 +438,9 @@ class GrainModel:
         return f"<GrainModel {self.name!r}: {len(self.components)} component(s)>"
 
 
-def _resolve_cache(cache):
-    if cache is True:
-        from redcorr.io.grains import default_cache  # noqa: PLC0415 - files live in redcorr.io
-
-        return default_cache()
-    if cache is False or cache is None:
-        return None
-    if not (hasattr(cache, "get") and hasattr(cache, "put")):
-        raise InputError(f"cache={cache!r} must be True, False or an object with get() and put()")
+def _check_cache(cache):
+    if cache is not None and not (hasattr(cache, "get") and hasattr(cache, "put")):
+        raise InputError(f"cache={cache!r} must be None or an object with get() and put()")
     return cache
 
 

@@ -8,6 +8,7 @@ map and grain readers (pandas, astropy.table, astropy.coordinates).
 import importlib
 
 _LAZY = {
+    "atomic_folder": "redcorr.io._atomic",
     "atomic_path": "redcorr.io._atomic",
     "check_output_path": "redcorr.io._atomic",
     "load_curve": "redcorr.io.curves",
@@ -19,6 +20,10 @@ _LAZY = {
     "write_coefficient_grid": "redcorr.io.grids",
     "load_instrument": "redcorr.io.instrument",
     "open_map": "redcorr.io.maps",
+    "correction_options": "redcorr.io.correction",
+    "correct_dataframe": "redcorr.io.correction",
+    "get_grain_model": "redcorr.io.grains",
+    "list_grain_models": "redcorr.io.grains",
     "read_grain_model": "redcorr.io.grains",
     "read_optical_constants": "redcorr.io.grains",
     "read_size_table": "redcorr.io.grains",

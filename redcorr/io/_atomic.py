@@ -1,13 +1,14 @@
-"""Atomic file output: write to a temporary file beside the target, then rename."""
+"""Atomic output: write to a temporary file or folder beside the target, then rename."""
 
 import contextlib
 import os
+import shutil
 import tempfile
 from pathlib import Path
 
 from redcorr.exceptions import InputError
 
-__all__ = ["atomic_path", "check_output_path"]
+__all__ = ["atomic_folder", "atomic_path", "check_output_path"]
 
 
 def check_output_path(path, *, overwrite=True, inputs=()):
@@ -55,4 +56,32 @@ def atomic_path(path, suffix=None):
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
+        raise
+
+
+@contextlib.contextmanager
+def atomic_folder(path, *, overwrite=False):
+    """Yield a temporary folder beside ``path``; move it onto ``path`` on success.
+
+    Used for Parquet datasets written by several workers. An existing
+    ``path`` is refused unless ``overwrite``; then it is replaced only after
+    the new folder is complete.
+    """
+    target = Path(path)
+    if target.exists() and not overwrite:
+        raise InputError(f"output={str(path)!r} exists; choose another name or allow overwriting")
+    if not target.parent.exists():
+        raise InputError(f"output={str(path)!r}: folder {str(target.parent)!r} does not exist")
+    tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent))
+    try:
+        yield tmp
+        if target.exists():
+            old = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".old", dir=target.parent))
+            os.replace(target, old / target.name)
+            os.replace(tmp, target)
+            shutil.rmtree(old, ignore_errors=True)
+        else:
+            os.replace(tmp, target)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
         raise

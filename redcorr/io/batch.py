@@ -1,4 +1,4 @@
-"""Correct catalog files: stream chunks through a :class:`redcorr.correct.Correction`.
+"""Correct catalog files: stream chunks through a :class:`redcorr.correction.Correction`.
 
 Two engines share one correction:
 
@@ -19,21 +19,21 @@ import queue
 import threading
 from pathlib import Path
 
-from redcorr.correct import correct_dask, summarise_dask, warn_summary
+from redcorr.correction import warn_summary
 from redcorr.exceptions import InputError
-from redcorr.io._atomic import atomic_path, check_output_path
+from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path
 from redcorr.io.catalogs import (
     DEFAULT_CHUNK_ROWS,
     CatalogWriter,
     ColumnTypeError,
     PandasLikeColumns,
-    atomic_folder,
     detect_format,
     open_catalog,
     round_for_text,
     summary_path,
     write_summary,
 )
+from redcorr.io.dask_engine import correct_dask, summarise_dask
 
 __all__ = ["correct_file", "correct_file_dask"]
 
@@ -81,7 +81,7 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
 
     Returns
     -------
-    redcorr.correct.RunSummary
+    redcorr.correction.RunSummary
     """
     input_path, output_path = Path(input_path), Path(output_path)
     _check_targets(output_path, overwrite, [input_path])
@@ -234,7 +234,7 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
 
     Returns
     -------
-    redcorr.correct.RunSummary
+    redcorr.correction.RunSummary
 
     Notes
     -----

@@ -74,10 +74,10 @@ def read_curve_table(path):
 
 
 def _grain_curve(spec, r_v):
-    """The extinction curve of a named grain model or of ``grain:PATH.toml``."""
-    from redcorr.grains import get_grain_model  # noqa: PLC0415 - grain models load on demand
+    """The extinction curve of a named grain model or of ``grain:PATH.toml``, through the disk cache."""
+    from redcorr.io.grains import default_cache, get_grain_model  # noqa: PLC0415 - grain models load on demand
 
-    curve = get_grain_model(spec).curve()
+    curve = get_grain_model(spec).curve(cache=default_cache())
     if r_v is not None and not abs(float(r_v) - curve.r_v) <= 0.005:
         raise InputError(
             f"r_v={r_v!r} cannot be set for grain model {spec!r}: its R_V ({curve.r_v:.3f}) "
@@ -94,7 +94,7 @@ def load_curve(spec, r_v=None):
     spec : str
         Registry name (see :func:`redcorr.curves.list_curves`),
         ``file:PATH`` for a table read by :func:`read_curve_table`, a named
-        grain model (see :func:`redcorr.grains.list_grain_models`, e.g.
+        grain model (see :func:`redcorr.io.grains.list_grain_models`, e.g.
         ``wd01-rv3.1``) or ``grain:PATH.toml`` for a grain model described in
         TOML (:func:`redcorr.io.grains.read_grain_model`). Grain models are
         computed with Mie theory on 0.1-100 µm (cached on disk).
@@ -111,7 +111,7 @@ def load_curve(spec, r_v=None):
         return curve
     if str(spec).strip().lower() in LAWS:  # a law by its name: the grain models (scipy) need not load
         return get_curve(spec, r_v=r_v)
-    from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
+    from redcorr.io.grains import GRAIN_MODELS  # noqa: PLC0415
 
     # One namespace for laws and grain models, so a typo gets suggestions from both.
     key = check_choice("law", spec, sorted(LAWS) + sorted(GRAIN_MODELS))

@@ -5,15 +5,15 @@ from pathlib import Path
 from astropy.table import Table
 
 from redcorr import __version__
+from redcorr.coefficients import CoefficientGrid
 from redcorr.exceptions import InputError
-from redcorr.extinction import CoefficientGrid
 from redcorr.io._atomic import atomic_path, check_output_path
 
 __all__ = ["write_coefficient_grid", "read_coefficient_grid"]
 
 
 def write_coefficient_grid(grid, path, polynomial=None):
-    """Write a :class:`~redcorr.extinction.CoefficientGrid` as ECSV, atomically.
+    """Write a :class:`~redcorr.coefficients.CoefficientGrid` as ECSV, atomically.
 
     The header holds the provenance (law, citation, R_V, every band's
     source, convention and pivot wavelength), the E(B−V) definition, the

@@ -5,13 +5,14 @@ import math
 import numpy as np
 
 from redcorr._validate import check_finite, check_range
-from redcorr.band_table import band_table
-from redcorr.correct import Correction
+from redcorr.band_summary import band_summary
+from redcorr.correction import Correction
 from redcorr.curves import list_curves
 from redcorr.exceptions import InputError
 from redcorr.exposure import plan_exposure, snr_vs_time, time_vs_av
 from redcorr.io import load_curve
 from redcorr.io.catalogs import open_catalog
+from redcorr.io.correction import correction_options
 from redcorr.tui import _cache
 
 __all__ = [
@@ -20,9 +21,9 @@ __all__ = [
     "SPECTRA",
     "av_table",
     "band_rows",
+    "catalog_options",
     "catalog_probe",
     "colour_pair",
-    "correction_options",
     "dust_state",
     "fixed_r_v",
     "guess_mapping",
@@ -57,9 +58,9 @@ def dust_state(law, r_v_text, amount_text, amount_kind):
 
 
 def band_rows(curve, band_specs, sed_spec, a_v):
-    """`redcorr.band_table.band_table` for band and source specs (loaded once, then cached)."""
+    """`redcorr.band_summary.band_summary` for band and source specs (loaded once, then cached)."""
     bands = [_cache.band(spec) for spec in band_specs]
-    return band_table(curve, bands, _cache.sed(sed_spec), a_v)
+    return band_summary(curve, bands, _cache.sed(sed_spec), a_v)
 
 
 def plan_state(curve, a_v, instrument_spec, mag_text, mag_band_spec, sed_spec, goal, goal_text, limit_text):
@@ -165,7 +166,7 @@ def fixed_r_v(law):
 
 def is_grain(law):
     """True for a grain-model name or ``grain:PATH.toml`` (computed with Mie theory, slow the first time)."""
-    from redcorr.grains import GRAIN_MODELS  # noqa: PLC0415
+    from redcorr.io.grains import GRAIN_MODELS  # noqa: PLC0415
 
     return law.startswith("grain:") or law.strip().lower() in GRAIN_MODELS
 
@@ -183,7 +184,7 @@ def guess_mapping(columns, bands, law, r_v):
     out = {}
     for spec in bands:
         try:
-            corr = Correction([spec], columns=columns, ebv=0.0, law=law, r_v=r_v)
+            corr = Correction(columns, correction_options([spec], ebv=0.0, law=law, r_v=r_v))
             out[spec] = (corr.mag_cols[0], corr.err_cols[0])
         except InputError:
             out[spec] = (None, None)
@@ -193,24 +194,28 @@ def guess_mapping(columns, bands, law, r_v):
 def guess_reddening(columns, bands, mapping, law, r_v):
     """``(kind, column)`` of the reddening column `Correction` finds, or None."""
     try:
-        corr = Correction(bands, columns=columns, law=law, r_v=r_v, **mapping_options(mapping))
+        corr = Correction(columns, correction_options(bands, law=law, r_v=r_v, **mapping_options(mapping)))
     except InputError:
         return None
     return ("ebv_column" if corr.red_quantity == "ebv" else "av_column"), corr.red_col
 
 
 def mapping_options(mapping):
-    """`Correction` keywords for a column mapping (an empty error column switches the guess off)."""
+    """Options of `redcorr.io.correction.correction_options` for a column mapping.
+
+    An empty error column switches the guess off.
+    """
     mags = {b: m for b, (m, _) in mapping.items() if m}
     errs = {b: (e or None) for b, (_, e) in mapping.items()}
     return {"mag_columns": mags, "err_columns": errs}
 
 
-def correction_options(mapping, red_kind, red_value, law, r_v, spectrum, teff_text, colour):
-    """Keyword arguments of `redcorr.correct.Correction` from the Catalog screen's choices.
+def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, teff_text, colour):
+    """The correction's options from the Catalog screen's choices.
 
-    They are those ``redcorr correct`` builds from the equivalent options
-    (``--mag``/``--err``, ``--ebv-col``/``--av-col``/``--ebv``/``--av``/``--map``,
+    Built by `redcorr.io.correction.correction_options`, the function
+    ``redcorr correct`` builds them with from the equivalent options
+    (``--band``, ``--mag``/``--err``, ``--ebv-col``/``--av-col``/``--ebv``/``--av``/``--map``,
     ``--law``, ``--rv``, ``--teff``, ``--solve-colour``, ``--colour``).
     """
     if red_kind not in RED_KINDS:
@@ -230,19 +235,20 @@ def correction_options(mapping, red_kind, red_value, law, r_v, spectrum, teff_te
     pair = colour_pair(colour)
     if spectrum == "colour" and pair is None:
         raise InputError("spectrum='colour' needs the colour B1,B2 to solve the temperature from")
-    return dict(
+    return correction_options(
+        bands,
+        law=law,
+        r_v=r_v,
         **mapping_options(mapping),
         **reddening,
         colours=[pair] if pair else [],
-        law=law,
-        r_v=r_v,
         spectrum=spectrum,
         temperature=check_finite("temperature", teff_text),
         solve_colour=pair if spectrum == "colour" else None,
     )
 
 
-def preview_correction(frame, bands, options):
-    """The first rows corrected by `redcorr.correct.Correction` (nothing is written)."""
-    corr = Correction(bands, columns=list(frame.columns), **options)
+def preview_correction(frame, options):
+    """The first rows corrected by `redcorr.correction.Correction` (nothing is written)."""
+    corr = Correction(list(frame.columns), options)
     return corr.correct(frame), corr

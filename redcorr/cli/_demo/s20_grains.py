@@ -5,8 +5,7 @@ import numpy as np
 from redcorr.cli._common import print_table
 from redcorr.cli.grain import grain_rows
 from redcorr.curves import get_curve
-from redcorr.grains import get_grain_model
-from redcorr.io import read_grain_model
+from redcorr.io.grains import default_cache, get_grain_model, read_grain_model
 
 
 def section(scn, demo_dir):
@@ -15,8 +14,8 @@ def section(scn, demo_dir):
     diffuse = get_grain_model("wd01-rv3.1")
     law = get_curve(cloud["law"], r_v=cloud["r_v"])
     centres = np.asarray(inst["band_centre_um"], dtype=float)
-    r_v_grown, rows_grown = grain_rows(grown, centres)
-    r_v_diffuse, rows_diffuse = grain_rows(diffuse, centres)
+    r_v_grown, rows_grown = grain_rows(grown, centres, cache=default_cache())
+    r_v_diffuse, rows_diffuse = grain_rows(diffuse, centres, cache=default_cache())
     print(f"## Grain models for the {cloud['name']} (Mie theory, demo/brume_grains.toml)")
     print(
         f"{grown.name}: R_V = {r_v_grown:.2f} (monochromatic); diffuse {diffuse.name}: "

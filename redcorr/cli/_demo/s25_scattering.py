@@ -3,8 +3,7 @@
 import numpy as np
 
 from redcorr.cli._common import print_table
-from redcorr.grains import get_grain_model
-from redcorr.io import read_grain_model
+from redcorr.io.grains import default_cache, get_grain_model, read_grain_model
 from redcorr.phase import henyey_greenstein
 
 ANGLES_DEG = (0, 10, 30, 60, 90, 135, 180)
@@ -19,7 +18,7 @@ def section(scn, demo_dir):
     print(f"## Scattering by the {cloud['name']}'s grains at {band} ({wave:g} µm): Mie phase function")
     columns = {"theta_deg": [float(t) for t in ANGLES_DEG]}
     for model in models:
-        g = float(model.optics([wave]).g[0])
+        g = float(model.optics([wave], cache=default_cache()).g[0])
         columns[f"p_{model.name}"] = model.phase_function(wave, theta)
         columns[f"p_HG(g={g:.2f})"] = henyey_greenstein(theta, g)
     rows = [{k: float(v[i]) for k, v in columns.items()} for i in range(len(ANGLES_DEG))]

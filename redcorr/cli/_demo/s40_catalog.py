@@ -1,8 +1,8 @@
 """Demo section: correct the invented Brume Field catalog, from its E(B-V) column and from the map."""
 
 from redcorr.cli._common import print_table
-from redcorr.correct import correct_dataframe
 from redcorr.io.catalogs import read_catalog
+from redcorr.io.correction import correct_dataframe
 from redcorr.io.maps import open_map
 
 _SHOW = 5

@@ -1,8 +1,7 @@
 """Demo section: plan exposures of a Brume Field star behind the Brume Cloud."""
 
 from redcorr.cli._common import print_table
-from redcorr.cli.plan import CAUTION
-from redcorr.exposure import plan_exposure, time_vs_av
+from redcorr.exposure import CAUTION, plan_exposure, time_vs_av
 from redcorr.io import load_curve
 from redcorr.io._toml import load_toml
 from redcorr.io.instrument import load_instrument

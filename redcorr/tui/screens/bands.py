@@ -9,13 +9,13 @@ from textual.screen import Screen
 from textual.widgets import Button, Footer, Header, Label, OptionList, Static
 from textual.widgets.option_list import Option
 
-from redcorr.io.band_tables import write_band_table
+from redcorr.io.band_summary_files import write_band_summary
 from redcorr.io.filters import list_bands, project_bands
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state
 from redcorr.tui.screens._grain import GrainWait
-from redcorr.tui.widgets import BandTable, Field, FileTree, NamePicker, StatusLine
+from redcorr.tui.widgets import BandGrid, Field, FileTree, NamePicker, StatusLine
 
 __all__ = ["BandsScreen", "band_entries"]
 
@@ -70,7 +70,7 @@ class BandsScreen(GrainWait, Screen):
                     with Vertical(id="bands-chosen-box"):
                         yield Label("chosen (Delete removes)")
                         yield OptionList(id="bands-chosen")
-                    yield BandTable(id="bands-table")
+                    yield BandGrid(id="bands-table")
                 with Horizontal(classes="form"):
                     yield Field("export to", s.band_output, input_id="band-output", width=40)
                     yield Button("Export", id="band-export", variant="primary")
@@ -164,7 +164,7 @@ class BandsScreen(GrainWait, Screen):
         table = guarded(band_rows, self.curve, s.bands, s.sed, self.a_v)
         self.query_one("#sed").set_class(bool(table.error) and "sed=" in table.error, "-refused")
         if table.ok:
-            self.query_one(BandTable).show_rows(table.value)
+            self.query_one(BandGrid).show_rows(table.value)
         status.show_outcome(combine(dust, table))
 
     def action_export(self):
@@ -187,7 +187,7 @@ class BandsScreen(GrainWait, Screen):
             "bands": list(s.bands),
         }
         written = guarded(
-            lambda: write_band_table(band_rows(curve, s.bands, s.sed, a_v), s.band_output.strip(), meta)
+            lambda: write_band_summary(band_rows(curve, s.bands, s.sed, a_v), s.band_output.strip(), meta)
         )
         self.query_one("#band-output").set_class(not written.ok, "-refused")
         status.show_outcome(written, done=f"wrote {written.value}" if written.ok else "")

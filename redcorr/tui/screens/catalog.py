@@ -12,7 +12,7 @@ from textual.screen import Screen
 from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
 
 from redcorr.colours import colour_magnitude
-from redcorr.correct import Correction
+from redcorr.correction import Correction
 from redcorr.io.batch import correct_file
 from redcorr.io.catalogs import open_catalog
 from redcorr.tui import _cache
@@ -20,8 +20,8 @@ from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import (
     RED_KINDS,
     SPECTRA,
+    catalog_options,
     catalog_probe,
-    correction_options,
     guess_mapping,
     guess_reddening,
     is_grain,
@@ -175,7 +175,7 @@ class CatalogScreen(GrainWait, Screen):
 
     # -- the core ----------------------------------------------------------------------------
     def _law(self, for_run=False):
-        """``(law, r_v)`` for `Correction`.
+        """``(law, r_v)`` for `catalog_options`.
 
         A grain model already computed is passed as the curve object, so that
         checks and previews on the UI thread do not load it again; the run
@@ -242,13 +242,13 @@ class CatalogScreen(GrainWait, Screen):
         self.app.remember()
         self.update_preview()
 
-    def _options(self, for_run=False):
+    def _choices(self, for_run=False):
+        """The arguments of `catalog_options`, read from the screen (on the main thread)."""
         s = self.session
         law, r_v = self._law(for_run)
         mapping = self.query_one(ColumnMapping).mapping
-        return correction_options(
-            mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum, s.cat_teff, s.cat_colour
-        )
+        return (self._bands(), mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum, s.cat_teff,
+                s.cat_colour)
 
     def update_preview(self):
         """Correct the first rows through `Correction` and show them before and after."""
@@ -262,8 +262,8 @@ class CatalogScreen(GrainWait, Screen):
         )
         if self.grain_pending(s.law) or not self._mapped:
             return
-        options = guarded(lambda: (self._bands(), self._options()))
-        result = guarded(preview_correction, self.preview, *options.value) if options.ok else options
+        options = guarded(lambda: catalog_options(*self._choices()))
+        result = guarded(preview_correction, self.preview, options.value) if options.ok else options
         error = result.error or ""
         self.query_one("#cat-red-value").set_class(error.startswith(("ebv", "av", "map", "no reddening")), "-refused")
         self.query_one("#cat-teff").set_class(error.startswith("temperature"), "-refused")
@@ -300,21 +300,19 @@ class CatalogScreen(GrainWait, Screen):
         if not self._mapped:
             status.show("the columns are not mapped: fix the bands, then open the catalog again (ctrl+o)", "error")
             return
-        options = guarded(lambda: (self._bands(), self._options()))
-        checked = (
-            guarded(Correction, *options.value[:1], columns=self.columns, **options.value[1]) if options.ok else options
-        )
+        options = guarded(lambda: catalog_options(*self._choices()))
+        checked = guarded(Correction, self.columns, options.value) if options.ok else options
         if not checked.ok:
             status.show_outcome(checked)
             return
-        bands, kwargs = guarded(lambda: (self._bands(), self._options(for_run=True))).value
+        choices = self._choices(for_run=True)
         self.running = True
         self._cancel.clear()
         self.query_one("#cat-run", Button).disabled = True
         self.query_one("#cat-cancel", Button).disabled = False
         self.query_one(ProgressBar).update(total=1.0, progress=0.0)
         status.show(f"correcting {s.cat_input} …")
-        self.correct_in_thread(s.cat_input.strip(), s.cat_output.strip(), bands, kwargs, s.cat_overwrite)
+        self.correct_in_thread(s.cat_input.strip(), s.cat_output.strip(), choices, s.cat_overwrite)
 
     def action_cancel(self):
         """Ask the running correction to stop after the current chunk; nothing is written then."""
@@ -323,8 +321,11 @@ class CatalogScreen(GrainWait, Screen):
             self.query_one(StatusLine).show("cancelling after the current chunk …", "warning")
 
     @work(thread=True, exclusive=True, group="catalog")
-    def correct_in_thread(self, input_path, output_path, bands, options, overwrite):
-        """`redcorr.io.batch.correct_file`, exactly as ``redcorr correct`` calls it."""
+    def correct_in_thread(self, input_path, output_path, choices, overwrite):
+        """`redcorr.io.batch.correct_file`, exactly as ``redcorr correct`` calls it.
+
+        The options are built here, from the names (a grain model loads in this thread).
+        """
 
         def progress(rows, fraction):
             if self._cancel.is_set():
@@ -335,20 +336,22 @@ class CatalogScreen(GrainWait, Screen):
                 raise RunCancelled from None
 
         def run():
+            options = catalog_options(*choices)
             try:
-                return correct_file(
+                summary = correct_file(
                     input_path,
                     output_path,
-                    lambda columns: Correction(bands, columns=columns, **options),
+                    lambda columns: Correction(columns, options),
                     overwrite=overwrite,
                     progress=progress,
                 )
             except RunCancelled:
                 return None
+            return summary, options
 
         outcome = guarded(run)
         with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
-            self.app.call_from_thread(self._finished, outcome, output_path, bands, options)
+            self.app.call_from_thread(self._finished, outcome, output_path)
 
     def on_unmount(self):
         self._cancel.set()  # quitting during a run stops it safely
@@ -359,7 +362,7 @@ class CatalogScreen(GrainWait, Screen):
             bar.update(total=1.0, progress=fraction)
         self.query_one(StatusLine).show(f"corrected {rows:,} rows …")
 
-    def _finished(self, outcome, output_path, bands, options):
+    def _finished(self, outcome, output_path):
         self.running = False
         self.query_one("#cat-run", Button).disabled = False
         self.query_one("#cat-cancel", Button).disabled = True
@@ -374,13 +377,13 @@ class CatalogScreen(GrainWait, Screen):
             return
         self.query_one("#cat-output").set_class(False, "-refused")
         self.query_one(ProgressBar).update(total=1.0, progress=1.0)
-        self.summary = outcome.value
+        self.summary, options = outcome.value
         self.query_one("#cat-summary", Static).update("\n".join(self.summary.lines()))
-        self._plot(output_path, bands, options)
+        self._plot(output_path, options)
 
-    def _plot(self, output_path, bands, options):
+    def _plot(self, output_path, options):
         """Before/after colour–magnitude diagram from the written file (first rows)."""
-        pair = options["colours"][0] if options["colours"] else None
+        pair = options.bands.colours[0] if options.bands.colours else None
         if pair is None:
             self.query_one(XYPlot).draw([], title="give a colour B1,B2 to see the diagram")
             return
@@ -389,7 +392,7 @@ class CatalogScreen(GrainWait, Screen):
             self.query_one(StatusLine).show_outcome(read)
             return
         frame = read.value
-        m1, m2 = (options["mag_columns"][b] for b in pair)
+        m1, m2 = (options.bands.mag_columns[b] for b in pair)
         cmd = guarded(colour_magnitude, frame, m1, m2, suffix=self._suffix)
         if not cmd.ok:
             self.query_one(StatusLine).show_outcome(cmd)

@@ -9,12 +9,12 @@ from textual.screen import Screen
 from textual.widgets import Footer, Header, Input, Select, Static
 
 from redcorr.curves import list_curves
-from redcorr.grains import list_grain_models
+from redcorr.io.grains import list_grain_models
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
 from redcorr.tui.screens._grain import GrainWait
-from redcorr.tui.widgets import BandTable, CurvePlot, Field, NamePicker, StatusLine
+from redcorr.tui.widgets import BandGrid, CurvePlot, Field, NamePicker, StatusLine
 
 __all__ = ["DustScreen", "dust_entries"]
 
@@ -68,7 +68,7 @@ class DustScreen(GrainWait, Screen):
                 yield StatusLine(id="dust-status")
                 yield Static(id="dust-info", classes="info")
                 yield CurvePlot(id="dust-plot")
-                yield BandTable(id="dust-bands")
+                yield BandGrid(id="dust-bands")
         yield Footer()
 
     def on_mount(self):
@@ -131,7 +131,7 @@ class DustScreen(GrainWait, Screen):
 
     def _draw(self, rows):
         curve = self.curve
-        self.query_one(BandTable).show_rows(rows)
+        self.query_one(BandGrid).show_rows(rows)
         lo, hi = curve.wavenumber_limits
         x = np.linspace(lo, min(hi, 11.0), 240)
         y = curve(x * u.um**-1)

@@ -6,7 +6,7 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Label, Select, Static
 
-from redcorr.cli.plan import CAUTION
+from redcorr.exposure import CAUTION
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import GOALS, av_table, dust_state, plan_state
 from redcorr.tui.screens._grain import GrainWait

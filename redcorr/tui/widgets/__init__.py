@@ -1,6 +1,6 @@
 """Reusable pieces of the terminal UI, each with its own DEFAULT_CSS."""
 
-from redcorr.tui.widgets.band_table import BandTable
+from redcorr.tui.widgets.band_grid import BandGrid
 from redcorr.tui.widgets.curve_plot import CurvePlot
 from redcorr.tui.widgets.field import Field
 from redcorr.tui.widgets.file_tree import FileTree
@@ -9,4 +9,4 @@ from redcorr.tui.widgets.name_picker import NamePicker
 from redcorr.tui.widgets.status import StatusLine
 from redcorr.tui.widgets.xy_plot import XYPlot
 
-__all__ = ["BandTable", "ColumnMapping", "CurvePlot", "Field", "FileTree", "NamePicker", "StatusLine", "XYPlot"]
+__all__ = ["BandGrid", "ColumnMapping", "CurvePlot", "Field", "FileTree", "NamePicker", "StatusLine", "XYPlot"]

@@ -1,18 +1,18 @@
 """One row per band: the numbers ``redcorr coeffs`` prints and the terminal UI shows.
 
-Both shells call :func:`band_table`, so the table on screen and the table
+Both shells call :func:`band_summary`, so the table on screen and the table
 on the command line are the same numbers.
 """
 
 from redcorr.extinction import band_extinction, band_ratio, effective_wavelength
 
-__all__ = ["band_table", "BAND_TABLE_COLUMNS"]
+__all__ = ["band_summary", "BAND_SUMMARY_COLUMNS"]
 
-BAND_TABLE_COLUMNS = ("band", "lambda_eff_um", "A_band", "A_over_AV", "A_over_EBV")
+BAND_SUMMARY_COLUMNS = ("band", "lambda_eff_um", "A_band", "A_over_AV", "A_over_EBV")
 """Keys of each row, in display order."""
 
 
-def band_table(curve, bands, sed, a_v, extrapolate=False):
+def band_summary(curve, bands, sed, a_v, extrapolate=False):
     """Band-integrated extinction of a source behind dust, one dict per band.
 
     Parameters
@@ -30,7 +30,7 @@ def band_table(curve, bands, sed, a_v, extrapolate=False):
     Returns
     -------
     list of dict
-        Keys `BAND_TABLE_COLUMNS`: band name, reddened effective wavelength
+        Keys `BAND_SUMMARY_COLUMNS`: band name, reddened effective wavelength
         λ_eff (µm), A_b (mag), A_b/A_V and A_b/E(B-V).
 
     Notes
@@ -48,7 +48,7 @@ def band_table(curve, bands, sed, a_v, extrapolate=False):
     >>> from redcorr.curves import get_curve
     >>> from redcorr.bandpass import tophat
     >>> from redcorr.sed import blackbody
-    >>> row, = band_table(get_curve("ccm89"), [tophat(0.55, 0.001, "v")], blackbody(6000), 1.0)
+    >>> row, = band_summary(get_curve("ccm89"), [tophat(0.55, 0.001, "v")], blackbody(6000), 1.0)
     >>> round(row["A_over_EBV"], 2)
     3.1
     """

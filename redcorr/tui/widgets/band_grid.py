@@ -2,9 +2,9 @@
 
 from textual.widgets import DataTable
 
-from redcorr.band_table import BAND_TABLE_COLUMNS
+from redcorr.band_summary import BAND_SUMMARY_COLUMNS
 
-__all__ = ["BandTable"]
+__all__ = ["BandGrid"]
 
 _HEADERS = {
     "band": "band",
@@ -15,11 +15,11 @@ _HEADERS = {
 }
 
 
-class BandTable(DataTable):
-    """Shows the rows of `redcorr.band_table.band_table` as they are; :attr:`rows_shown` keeps them."""
+class BandGrid(DataTable):
+    """Shows the rows of `redcorr.band_summary.band_summary` as they are; :attr:`rows_shown` keeps them."""
 
     DEFAULT_CSS = """
-    BandTable { height: auto; max-height: 12; }
+    BandGrid { height: auto; max-height: 12; }
     """
 
     def __init__(self, **kwargs):
@@ -27,11 +27,11 @@ class BandTable(DataTable):
         self.rows_shown = []
 
     def on_mount(self):
-        for key in BAND_TABLE_COLUMNS:
+        for key in BAND_SUMMARY_COLUMNS:
             self.add_column(_HEADERS[key], key=key)
 
     def show_rows(self, rows):
-        """Replace the table's rows (dicts keyed by `BAND_TABLE_COLUMNS`)."""
+        """Replace the table's rows (dicts keyed by `BAND_SUMMARY_COLUMNS`)."""
         self.rows_shown = [dict(r) for r in rows]
         self.clear()
         for row in self.rows_shown:

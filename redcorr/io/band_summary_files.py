@@ -1,4 +1,4 @@
-"""Write a band table (the rows of `redcorr.band_table.band_table`) to ECSV or CSV."""
+"""Write a band summary (the rows of `redcorr.band_summary.band_summary`) to ECSV or CSV."""
 
 from pathlib import Path
 
@@ -7,19 +7,19 @@ from astropy.table import Table
 from redcorr.exceptions import InputError
 from redcorr.io._atomic import atomic_path, check_output_path
 
-__all__ = ["write_band_table"]
+__all__ = ["write_band_summary"]
 
 _UNITS = {"lambda_eff_um": "um", "A_band": "mag"}
 _FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}
 
 
-def write_band_table(rows, path, meta=None):
+def write_band_summary(rows, path, meta=None):
     """Write band rows atomically; the format follows the suffix (``.ecsv`` or ``.csv``).
 
     Parameters
     ----------
     rows : list of dict
-        Rows with the keys of `redcorr.band_table.BAND_TABLE_COLUMNS`.
+        Rows with the keys of `redcorr.band_summary.BAND_SUMMARY_COLUMNS`.
     path : path-like
         Output file; its folder must exist.
     meta : dict, optional

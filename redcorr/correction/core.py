@@ -1,0 +1,429 @@
+"""The row-by-row correction: :class:`Correction`, set up once and applied to any number of tables."""
+
+import numpy as np
+import pandas as pd
+
+from redcorr.correction.columns import band_label, column_names, float_column, plan_columns, text_column
+from redcorr.correction.flags import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
+from redcorr.correction.options import CorrectionOptions, bands_beyond_curve
+from redcorr.correction.providers import DIFF_STEP, make_provider
+from redcorr.correction.temperature import ColourTable
+from redcorr.exceptions import InputError
+
+__all__ = ["Correction"]
+
+_RV_HALF_STEP = 0.05
+"""Half step of the central difference dA_b/dR_V at a constant R_V."""
+
+
+class Correction:
+    """A reddening correction set up once, applied to any number of tables.
+
+    Parameters
+    ----------
+    columns : list of str
+        The columns of the tables to come; named columns are checked and
+        the others guessed (see :mod:`redcorr.correction.columns`).
+    options : CorrectionOptions
+        Bands, dust, reddening source, source spectrum and output; build it
+        from names with :func:`redcorr.io.correction.correction_options`.
+
+    Attributes
+    ----------
+    mag_cols, err_cols : list
+        The magnitude and error column of each band (an error may be None).
+    red_col : str or None
+        The column of reddening read (given or guessed).
+    red_quantity : {"ebv", "av"}
+        What the reddening source gives.
+    suffix : str
+        Suffix of the corrected columns.
+    output_columns : list of str
+        The columns :meth:`correct` adds, in order.
+    summary : RunSummary
+        Counts of the rows corrected so far.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> from redcorr.bandpass import tophat
+    >>> from redcorr.correction import BandSelection, CorrectionOptions, DustOptions
+    >>> from redcorr.curves import get_curve
+    >>> options = CorrectionOptions(BandSelection([tophat(0.55, 0.1)], labels=["v"]),
+    ...                             DustOptions(get_curve("f99")))
+    >>> corr = Correction(["v", "ebv"], options)
+    >>> corr.output_columns
+    ['v_dered', 'A_v', 'ebv_used', 'av_used', 'dered_flags']
+    >>> out = corr.correct(pd.DataFrame({"v": [15.0], "ebv": [0.0]}))
+    >>> float(out["v_dered"].iloc[0])
+    15.0
+    """
+
+    def __init__(self, columns, options):
+        if not isinstance(options, CorrectionOptions):
+            raise InputError(f"options={options!r} is not a CorrectionOptions")
+        self.columns = [str(c) for c in columns]
+        self.options = options
+        self.plan = plan_columns(self.columns, options)
+        self.bands = list(options.bands.bands)
+        self.labels = list(options.bands.labels)
+        self.mag_cols, self.err_cols = list(self.plan.mag_cols), list(self.plan.err_cols)
+        self.red_col, self.red_quantity = self.plan.red_col, self.plan.red_quantity
+        self.suffix = options.output.suffix
+        self.curve = options.dust.curve
+        self.r_v = float(self.curve.r_v)
+        self.colours = [options.bands.pair(p, "colours") for p in options.bands.colours]
+        spectrum = options.spectrum
+        self.temperature = spectrum.temperature
+        self._colour_table = None
+        if spectrum.spectrum == "colour":
+            self.solve = options.bands.pair(spectrum.solve_colour, "solve_colour")
+            self._colour_table = ColourTable.default(self.bands[self.solve[0]], self.bands[self.solve[1]])
+        self._outside_curve_all = bool(bands_beyond_curve(self.curve, self.bands))
+        self._providers = {}
+        self.output_columns = self._out_names()
+        clash = [c for c in self.output_columns if c in self.columns]
+        if clash:
+            raise InputError(
+                f"output columns {clash} already exist in the input; choose another suffix "
+                "or rename those columns"
+            )
+        self.summary = RunSummary(self.setup())
+
+    # -- set-up -------------------------------------------------------------------------------
+    def _has_errors(self, err_col):
+        dust = self.options.dust
+        return (err_col is not None or self.plan.red_err_col is not None or self.options.reddening.reddening_error > 0
+                or dust.rv_error_column is not None or dust.rv_error > 0)
+
+    def _out_names(self):
+        names = []
+        for mag, label, err in zip(self.mag_cols, self.labels, self.err_cols, strict=True):
+            names.append(mag + self.suffix)
+            if self._has_errors(err):
+                names.append(mag + self.suffix + "_err")
+            names.append("A_" + band_label(label))
+        for i, j in self.colours:
+            base = f"{self.mag_cols[i]}-{self.mag_cols[j]}{self.suffix}"
+            names.append(base)
+            if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
+                names.append(base + "_err")
+        names += ["ebv_used", "av_used"]
+        if self.plan.rv_col is not None:
+            names.append("rv_used")
+        if self.options.spectrum.spectrum != "fixed":
+            names.append("teff_used")
+        if self.options.spectrum.spectrum == "colour":
+            names.append("teff_iterations")
+        names.append(FLAG_COLUMN)
+        return names
+
+    def setup(self):
+        """A JSON-ready description of this correction (for summaries and file metadata)."""
+        source = self.options.reddening
+        spectrum = self.options.spectrum.spectrum
+        return {
+            "law": self.options.dust.law,
+            "curve": self.curve.name,
+            "citation": getattr(self.curve, "citation", ""),
+            "r_v": self.plan.rv_col or self.r_v,
+            "bands": {
+                lab: {"magnitude": m, "error": e}
+                for lab, m, e in zip(self.labels, self.mag_cols, self.err_cols, strict=True)
+            },
+            "reddening": {
+                "source": self.plan.red_kind,
+                "quantity": self.red_quantity,
+                "column": self.red_col,
+                "constant": source.ebv if source.ebv is not None else source.av,
+                "error_column": self.plan.red_err_col,
+            },
+            "mode": "nonlinear" if self.options.dust.nonlinear else "linear",
+            "spectrum": spectrum,
+            "temperature_K": self.temperature if spectrum == "fixed" else self.plan.t_col,
+            "flag_column": FLAG_COLUMN,
+            "suffix": self.suffix,
+        }
+
+    def numeric_columns(self):
+        """Input columns that must hold numbers (readers may parse them as float64 up front)."""
+        return list(dict.fromkeys(self.plan.used()))
+
+    # -- coefficients -------------------------------------------------------------------------
+    def _provider(self, rv):
+        """The A_b provider at R_V = rv (cached; ``None`` means the set-up curve)."""
+        key = None if rv is None else round(float(rv), 6)
+        if key not in self._providers:
+            dust = self.options.dust
+            fixed = self.options.spectrum.spectrum == "fixed"
+            self._providers[key] = make_provider(
+                self.curve if key is None else dust.curve_at(key),
+                self.bands,
+                nonlinear=dust.nonlinear,
+                temperature=self.temperature if fixed else None,
+                extrapolate=dust.extrapolate,
+            )
+        return self._providers[key]
+
+    def _a_fixed_input(self, rv_node, red, temperature):
+        """A_b at R_V = rv_node with the reddening held fixed in its own quantity."""
+        a_v = red * rv_node if self.red_quantity == "ebv" else red
+        return self._provider(rv_node).a_band(a_v, temperature)
+
+    def _reddening_slope(self, red, rv, temperature):
+        """dA_b/d(reddening) (n, n_band) in the reddening's own quantity (E(B-V) or A_V)."""
+        if self.plan.rv_col is None:
+            a_v = red * self.r_v if self.red_quantity == "ebv" else red
+            per_av = self._provider(None).slope(a_v, temperature)
+            return per_av * self.r_v if self.red_quantity == "ebv" else per_av
+        up = self._extinction(red + DIFF_STEP, rv, temperature)[0]  # R_V per row: through the nodes
+        down = self._extinction(red - DIFF_STEP, rv, temperature)[0]
+        return (up - down) / (2 * DIFF_STEP)
+
+    def _extinction(self, red, rv, temperature):
+        """A_b (n, n_band), dA_b/dR_V (n, n_band) or None, inside-grid mask, R_V-ok mask."""
+        n = red.size
+        dust = self.options.dust
+        need_slope = dust.rv_error_column is not None or dust.rv_error > 0
+        if self.plan.rv_col is None:
+            a_v = red * self.r_v if self.red_quantity == "ebv" else red
+            a_band, inside = self._provider(None).a_band(a_v, temperature)
+            slope = None
+            if need_slope:
+                lo_rv = max(self.r_v - _RV_HALF_STEP, dust.r_v_limits[0])
+                hi_rv = min(self.r_v + _RV_HALF_STEP, dust.r_v_limits[1])
+                a_lo, _ = self._a_fixed_input(lo_rv, red, temperature)
+                a_hi, _ = self._a_fixed_input(hi_rv, red, temperature)
+                slope = (a_hi - a_lo) / (hi_rv - lo_rv)
+            return a_band, slope, inside, np.ones(n, bool)
+        lo, hi = dust.r_v_limits
+        step = dust.rv_step
+        rv_ok = np.isfinite(rv) & (rv >= lo) & (rv <= hi)
+        a_band = np.full((n, len(self.bands)), np.nan)
+        slope = np.full((n, len(self.bands)), np.nan)
+        inside = np.ones(n, bool)
+        nodes = lo + step * np.floor((np.where(rv_ok, rv, lo) - lo) / step)
+        nodes = np.minimum(nodes, hi - step)
+        for node in np.unique(nodes[rv_ok]):
+            rows = rv_ok & (nodes == node)
+            lo_node, hi_node = float(node), float(min(node + step, hi))
+            t = temperature[rows]
+            a_lo, in_lo = self._a_fixed_input(lo_node, red[rows], t)
+            a_hi, in_hi = self._a_fixed_input(hi_node, red[rows], t)
+            w = ((rv[rows] - lo_node) / (hi_node - lo_node))[:, None]
+            a_band[rows] = (1 - w) * a_lo + w * a_hi
+            slope[rows] = (a_hi - a_lo) / (hi_node - lo_node)
+            inside[rows] = in_lo & in_hi
+        return a_band, (slope if need_slope else None), inside, rv_ok
+
+    # -- applying -----------------------------------------------------------------------------
+    def _numeric(self, table, col, flags):
+        """Column as float64; text cells become NaN and set the non_numeric flag (or raise)."""
+        values = float_column(table, col)
+        if values is not None:
+            return values
+        series = text_column(table, col)
+        values = pd.to_numeric(series, errors="coerce")
+        blank = series.isna().to_numpy() | series.astype(str).str.strip().eq("").to_numpy()
+        bad = values.isna().to_numpy() & ~blank
+        if np.any(bad):
+            if self.options.output.strict:
+                first = int(np.flatnonzero(bad)[0])
+                raise InputError(
+                    f"column {col!r} has text {series.iloc[first]!r} in row {series.index[first]}, "
+                    "where a number is needed (strict mode)"
+                )
+            flags[bad] |= CORRECTION_FLAGS["non_numeric"]
+        return values.to_numpy(dtype=float, na_value=np.nan)
+
+    def _reddening(self, table, flags):
+        n = len(table)
+        source, plan = self.options.reddening, self.plan
+        if plan.red_kind == "constant":
+            red = np.full(n, source.ebv if source.ebv is not None else source.av)
+        elif plan.red_kind == "column":
+            red = self._numeric(table, plan.red_col, flags)
+        else:
+            lon = self._numeric(table, plan.lon_col, flags)
+            lat = self._numeric(table, plan.lat_col, flags)
+            red = np.full(n, np.nan)
+            good = np.isfinite(lon) & np.isfinite(lat)
+            map_flags = np.zeros(n, np.uint8)
+            if np.any(good):
+                values, mflags = source.dust_map.lookup(lon[good], lat[good], frame=plan.frame)
+                red[good] = np.asarray(values, float) * source.map_scale
+                map_flags[good] = np.asarray(mflags, np.uint8)
+            flags[good & ((map_flags != 0) | ~np.isfinite(red))] |= CORRECTION_FLAGS["map_coverage"]
+        if plan.red_err_col is not None:
+            err = self._numeric(table, plan.red_err_col, flags)
+        else:
+            err = np.full(n, source.reddening_error)
+        return red, err
+
+    def correct(self, frame):
+        """Correct one DataFrame; return the input columns followed by the output columns.
+
+        The counts of the rows processed are added to :attr:`summary`.
+
+        Parameters
+        ----------
+        frame : pandas.DataFrame
+            With the columns given at set-up.
+
+        Returns
+        -------
+        pandas.DataFrame
+            Same index as ``frame``.
+        """
+        out = self.apply(frame)
+        self.summary.add(out)
+        return out
+
+    def apply(self, frame):
+        """The same table as :meth:`correct`, without counting it in :attr:`summary`.
+
+        For tables corrected elsewhere (the partitions of a Dask DataFrame,
+        :mod:`redcorr.io.dask_engine`), whose counts are gathered afterwards.
+        """
+        added = pd.DataFrame(self._arrays(frame), index=frame.index)
+        return pd.concat([frame, added], axis=1)
+
+    def correct_arrays(self, table):
+        """Correct one table; return only the output columns, as a dict of numpy arrays.
+
+        The same numbers as :meth:`correct` without building a DataFrame: the
+        streaming path (:mod:`redcorr.io.batch`) passes the Arrow tables it
+        reads and joins the result to the input columns itself. The counts
+        are added to :attr:`summary`.
+
+        Parameters
+        ----------
+        table : pandas.DataFrame or pyarrow.Table
+            With the columns given at set-up.
+
+        Returns
+        -------
+        dict
+            Output column name → 1-d array, in :attr:`output_columns` order.
+        """
+        out = self._arrays(table)
+        self.summary.add(out)
+        return out
+
+    def _arrays(self, table):
+        names = column_names(table)
+        missing_cols = [c for c in self.plan.used() if c not in names]
+        if missing_cols:
+            raise InputError(f"columns {missing_cols} are missing; the columns are {names}")
+        plan, dust, spectrum = self.plan, self.options.dust, self.options.spectrum.spectrum
+        n = len(table)
+        nb = len(self.bands)
+        flags = np.zeros(n, np.int64)
+        mags = np.stack([self._numeric(table, c, flags) for c in self.mag_cols], axis=-1).reshape(n, nb)
+        errs = np.stack(
+            [self._numeric(table, c, flags) if c is not None else np.zeros(n) for c in self.err_cols], axis=-1
+        ).reshape(n, nb)
+        red, red_err = self._reddening(table, flags)
+        if plan.rv_col is not None:
+            rv = self._numeric(table, plan.rv_col, flags)
+            flags[~np.isfinite(rv)] |= CORRECTION_FLAGS["missing"]
+        else:
+            rv = np.full(n, self.r_v)
+        rv_err = self._numeric(table, plan.rv_err_col, flags) if plan.rv_err_col else np.full(n, dust.rv_error)
+        flags[~np.isfinite(red)] |= CORRECTION_FLAGS["missing"]
+        flags[np.any(~np.isfinite(mags), axis=1)] |= CORRECTION_FLAGS["missing"]
+        ebv = red if self.red_quantity == "ebv" else red / rv
+        flags[ebv < 0] |= CORRECTION_FLAGS["negative_reddening"]
+        red_safe = np.where(np.isfinite(red), red, 0.0)
+
+        if spectrum == "column":
+            temperature = self._numeric(table, plan.t_col, flags)
+            flags[~np.isfinite(temperature)] |= CORRECTION_FLAGS["missing"]
+            t_safe = np.where(np.isfinite(temperature), temperature, self.temperature)
+            a_band, slope, inside, rv_ok = self._extinction(red_safe, rv, t_safe)
+            iterations = None
+        elif spectrum == "colour":
+            a_band, slope, inside, rv_ok, temperature, iterations, converged = self._solve(mags, red_safe, rv)
+            flags[~converged] |= CORRECTION_FLAGS["not_converged"]
+        else:
+            temperature = np.full(n, self.temperature)
+            a_band, slope, inside, rv_ok = self._extinction(red_safe, rv, temperature)
+            iterations = None
+        flags[~inside] |= CORRECTION_FLAGS["outside_grid"]
+        flags[~rv_ok] |= CORRECTION_FLAGS["outside_curve"]
+        if self._outside_curve_all:
+            flags |= CORRECTION_FLAGS["outside_curve"]
+        a_band[~np.isfinite(red) | ~rv_ok] = np.nan
+
+        # R_b = dA_b/dE (or dA_b/dA_V) and the R_V effect, for the uncertainties (None: no such term)
+        red_term = rv_term = None
+        if np.any(red_err != 0):
+            t_used = np.where(np.isfinite(temperature), temperature, self.temperature)
+            red_term = self._reddening_slope(red_safe, rv, t_used) * red_err[:, None]
+        if slope is not None:
+            rv_term = slope * rv_err[:, None]
+        variance = errs**2
+        for term in (red_term, rv_term):
+            if term is not None:
+                variance += term**2
+
+        result = {}
+        dered = mags - a_band
+        mag_err = np.sqrt(variance)
+        for b, (mag, label, err_col) in enumerate(zip(self.mag_cols, self.labels, self.err_cols, strict=True)):
+            result[mag + self.suffix] = dered[:, b]
+            if self._has_errors(err_col):
+                result[mag + self.suffix + "_err"] = mag_err[:, b]
+            result["A_" + band_label(label)] = a_band[:, b]
+        for i, j in self.colours:
+            base = f"{self.mag_cols[i]}-{self.mag_cols[j]}{self.suffix}"
+            result[base] = dered[:, i] - dered[:, j]
+            if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
+                colour_var = errs[:, i] ** 2 + errs[:, j] ** 2
+                for term in (red_term, rv_term):
+                    if term is not None:
+                        colour_var += (term[:, i] - term[:, j]) ** 2
+                result[base + "_err"] = np.sqrt(colour_var)
+        valid = np.isfinite(red) & rv_ok
+        result["ebv_used"] = np.where(valid, ebv, np.nan)
+        result["av_used"] = np.where(valid, red * rv if self.red_quantity == "ebv" else red, np.nan)
+        if plan.rv_col is not None:
+            result["rv_used"] = np.where(rv_ok, rv, np.nan)
+        if spectrum != "fixed":
+            result["teff_used"] = temperature
+        if spectrum == "colour":
+            result["teff_iterations"] = iterations
+        result[FLAG_COLUMN] = flags
+        return result
+
+    def _solve(self, mags, red, rv):
+        """Iterate temperature ↔ extinction until A_b settles (see :mod:`redcorr.correction`, Notes)."""
+        spectrum = self.options.spectrum
+        n = red.size
+        i, j = self.solve
+        temperature = np.full(n, self.temperature)
+        a_band, slope, inside, rv_ok = self._extinction(red, rv, temperature)
+        iterations = np.zeros(n, np.int64)
+        active = np.isfinite(mags[:, i]) & np.isfinite(mags[:, j]) & rv_ok
+        colour_ok = np.ones(n, bool)
+        converged = ~active
+        for _ in range(spectrum.max_iterations):
+            if not np.any(active):
+                break
+            idx = np.flatnonzero(active)
+            colour = (mags[idx, i] - a_band[idx, i]) - (mags[idx, j] - a_band[idx, j]) - spectrum.colour_offset
+            t_new, c_in = self._colour_table.temperature_at(colour)
+            a_new, s_new, in_new, _ = self._extinction(red[idx], rv[idx], t_new)
+            change = np.max(np.abs(a_new - a_band[idx]), axis=1)
+            temperature[idx] = t_new
+            a_band[idx] = a_new
+            if slope is not None:
+                slope[idx] = s_new
+            inside[idx] = in_new
+            colour_ok[idx] = c_in
+            iterations[idx] += 1
+            done = change <= spectrum.tolerance
+            converged[idx[done]] = True
+            active[idx[done]] = False
+        inside &= colour_ok
+        return a_band, slope, inside, rv_ok, temperature, iterations, converged

@@ -1,0 +1,138 @@
+"""The flag column of a correction, and the summary of a run.
+
+Flags (``dered_flags``, a bit mask)
+-----------------------------------
+===  =====  ====================  =============================================
+bit  value  name                  meaning
+===  =====  ====================  =============================================
+0    1      non_numeric           an input cell was text, not a number (now NaN)
+1    2      missing               a magnitude or the reddening is NaN/empty
+2    4      negative_reddening    E(B-V) < 0; corrected as given (odd extension)
+3    8      outside_grid          A_V or temperature outside the coefficient
+                                  grid; the nearest grid edge was used
+4    16     outside_curve         R_V outside the law's range or missing (outputs
+                                  NaN), or a band beyond the law's wavelengths
+5    32     map_coverage          the dust map has no value here (outputs NaN)
+6    64     not_converged         the colour–temperature iteration did not
+                                  converge within ``max_iterations``
+===  =====  ====================  =============================================
+
+The values are :data:`CORRECTION_FLAGS` (kept in :mod:`redcorr._constants`
+so that ``redcorr correct --help`` lists them without importing numpy).
+They are not the bits of a dust map's lookup flags
+(:data:`redcorr._constants.MAP_FLAGS`): a row whose map value is missing
+gets ``map_coverage`` whatever the map's own reason.
+"""
+
+import time
+import warnings
+
+import numpy as np
+
+from redcorr._constants import CORRECTION_FLAGS
+from redcorr.exceptions import OutOfRangeWarning
+
+__all__ = ["CORRECTION_FLAGS", "FLAG_COLUMN", "RunSummary", "warn_summary"]
+
+FLAG_COLUMN = "dered_flags"
+"""str: name of the output column holding the flag bits of each row."""
+
+
+class RunSummary:
+    """Counts and ranges gathered over every table a :class:`~redcorr.correction.Correction` has processed.
+
+    Parameters
+    ----------
+    setup : dict, optional
+        The correction's :meth:`~redcorr.correction.Correction.setup`, echoed in :meth:`to_dict`.
+
+    Attributes
+    ----------
+    rows : int
+    flagged : dict
+        Rows with each flag bit set, by name (see :data:`CORRECTION_FLAGS`),
+        plus ``"any"``.
+    ebv_min, ebv_max : float
+        Range of the E(B-V) applied (NaN before any finite value).
+    iterations_max, iterations_sum : int
+        Of the colour–temperature solver.
+    """
+
+    def __init__(self, setup=None):
+        self.setup = dict(setup or {})
+        self.rows = 0
+        self.flagged = {name: 0 for name in CORRECTION_FLAGS} | {"any": 0}
+        self.ebv_min = np.nan
+        self.ebv_max = np.nan
+        self.iterations_max = 0
+        self.iterations_sum = 0
+        self.started = time.perf_counter()
+        self.elapsed = None
+
+    def add(self, out):
+        """Fold the counts of one corrected table (a DataFrame or a dict of arrays) into the summary."""
+        flags = np.asarray(out[FLAG_COLUMN])
+        self.rows += len(flags)
+        for name, bit in CORRECTION_FLAGS.items():
+            self.flagged[name] += int(np.count_nonzero(flags & bit))
+        self.flagged["any"] += int(np.count_nonzero(flags))
+        ebv = np.asarray(out["ebv_used"], dtype=float)
+        ebv = ebv[np.isfinite(ebv)]
+        if ebv.size:
+            self.ebv_min = float(np.fmin(self.ebv_min, ebv.min()))
+            self.ebv_max = float(np.fmax(self.ebv_max, ebv.max()))
+        if "teff_iterations" in out:
+            it = np.asarray(out["teff_iterations"])
+            if it.size:
+                self.iterations_max = max(self.iterations_max, int(it.max()))
+                self.iterations_sum += int(it.sum())
+
+    def finish(self):
+        """Stop the clock."""
+        self.elapsed = time.perf_counter() - self.started
+        return self
+
+    def to_dict(self):
+        """JSON-ready dict: rows, flagged counts, E(B-V) range, timing, setup."""
+        elapsed = self.elapsed if self.elapsed is not None else time.perf_counter() - self.started
+        out = {
+            "rows": self.rows,
+            "flagged": dict(self.flagged),
+            "flag_bits": dict(CORRECTION_FLAGS),
+            "ebv_min": self.ebv_min,
+            "ebv_max": self.ebv_max,
+            "seconds": round(elapsed, 3),
+            "rows_per_second": round(self.rows / elapsed, 1) if elapsed > 0 else None,
+            "setup": self.setup,
+        }
+        if self.setup.get("spectrum") == "colour":
+            out["iterations_max"] = self.iterations_max
+            out["iterations_mean"] = self.iterations_sum / self.rows if self.rows else 0.0
+        return out
+
+    def lines(self):
+        """Human-readable lines."""
+        d = self.to_dict()
+        text = [
+            f"rows: {d['rows']}  flagged: {d['flagged']['any']}  "
+            f"E(B-V): {d['ebv_min']:.4g} .. {d['ebv_max']:.4g}  "
+            f"time: {d['seconds']:.2f} s ({d['rows_per_second'] or 0:,.0f} rows/s)"
+        ]
+        reasons = ", ".join(f"{k} {v}" for k, v in d["flagged"].items() if v and k != "any")
+        if reasons:
+            text.append(f"flags: {reasons}")
+        if "iterations_max" in d:
+            text.append(f"temperature iterations: mean {d['iterations_mean']:.2f}, max {d['iterations_max']}")
+        return text
+
+
+def warn_summary(summary):
+    """Warn (`OutOfRangeWarning`) about rows corrected with clamped or extrapolated coefficients."""
+    outside = summary.flagged["outside_grid"]
+    if outside:
+        warnings.warn(
+            f"{outside} row(s) lie outside the coefficient grid (A_V or temperature); the grid edge "
+            f"was used for them (flag bit {CORRECTION_FLAGS['outside_grid']})",
+            OutOfRangeWarning,
+            stacklevel=3,
+        )

@@ -1,0 +1,78 @@
+"""Catalog files in and out, in chunks of bounded size.
+
+This package is the only code that knows CSV, ECSV, FITS or Parquet.
+Readers yield pandas DataFrames of at most ``chunk_rows`` rows; writers take such chunks
+and write them to a temporary file beside the target, which is renamed onto
+the target only when everything succeeded (:func:`redcorr.io.atomic_path`).
+An interruption or an error therefore never leaves a partial output.
+
+Formats
+-------
+``csv``
+    Delimited text, optionally gzip-compressed (``.gz``). Read with the
+    streaming reader of pyarrow. Lines starting with the comment character
+    (``#`` by default) are skipped, before the header and between rows.
+``ecsv``
+    Astropy's Enhanced CSV. The YAML header is read by astropy (names,
+    types, units, meta); the body, a plain delimited table, is streamed by
+    pyarrow like a CSV file. Written the same way: header by astropy, body
+    by pyarrow.
+``fits``
+    A FITS binary table (the first one, or ``hdu=``), memory-mapped by
+    astropy and read in row slices. As a FITS header needs the final row
+    count and string widths, output chunks are spooled to Parquet beside
+    the target first and then streamed into one table (disk space of about
+    twice the output, memory of one chunk).
+``parquet``
+    A Parquet file (read row group by row group) or a folder of Parquet
+    files, optionally hive-partitioned (``key=value`` folders), read as one
+    dataset. All files of a dataset must share one schema.
+
+Memory
+------
+Reading and writing every format holds a few chunks at a time (the one being
+corrected, up to two read ahead, the ones being written) plus pyarrow's CSV
+read-ahead blocks, so memory does not grow with file size (measured, 15 columns
+in, 33 out: peak RSS of about 340 MB from CSV to Parquet and 500 MB from CSV to
+CSV, where the input fields are held as text, the same for 1 M and 5 M rows).
+
+Modules
+-------
+``formats``
+    Format names from suffixes, column types between Arrow and pandas,
+    rounding of computed columns in text.
+``_base``
+    :class:`CatalogReader`, the interface of every reader.
+``csv_readers``, ``readers``
+    The CSV and ECSV readers; :func:`open_catalog` with the FITS and
+    Parquet readers.
+``writers``
+    :class:`CatalogWriter` (FITS output spooled through Parquet).
+``summaries``
+    The JSON run summary written beside an output.
+"""
+
+from redcorr._constants import DEFAULT_CHUNK_ROWS
+from redcorr.io.catalogs._base import CatalogReader
+from redcorr.io.catalogs.csv_readers import ColumnTypeError
+from redcorr.io.catalogs.formats import FORMATS, TEXT_DECIMALS, PandasLikeColumns, detect_format, round_for_text
+from redcorr.io.catalogs.readers import open_catalog, read_catalog
+from redcorr.io.catalogs.summaries import summary_path, write_summary
+from redcorr.io.catalogs.writers import CatalogWriter, write_catalog
+
+__all__ = [
+    "DEFAULT_CHUNK_ROWS",
+    "FORMATS",
+    "TEXT_DECIMALS",
+    "CatalogReader",
+    "CatalogWriter",
+    "ColumnTypeError",
+    "detect_format",
+    "open_catalog",
+    "PandasLikeColumns",
+    "read_catalog",
+    "round_for_text",
+    "summary_path",
+    "write_catalog",
+    "write_summary",
+]
