@@ -174,7 +174,7 @@ def test_nonlinear_falls_below_linear_at_high_extinction():
 
 
 # --- uncertainties -----------------------------------------------------------------------------
-@pytest.mark.parametrize("spectrum", [{}, {"temperature_column": "teff"}])
+@pytest.mark.parametrize("spectrum", [{}, {"spectrum": "column", "temperature_column": "teff"}])
 def test_reddening_error_uses_the_local_slope_of_a_band(spectrum):
     # First-order propagation (common practice, no source): σ_A = |dA_b/dE| σ_E, with the slope
     # taken where the row's reddening is. Checked against a central difference of the
