@@ -1,7 +1,11 @@
-"""Allow ``python -m redcorr``."""
+"""Allow ``python -m redcorr``; Ctrl-C while the command line loads ends quietly (status 130)."""
 
 import sys
 
-from redcorr.cli import main
+try:
+    from redcorr.cli import main
+except KeyboardInterrupt:
+    print("redcorr: interrupted", file=sys.stderr)
+    sys.exit(130)
 
 sys.exit(main())

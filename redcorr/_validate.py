@@ -23,7 +23,19 @@ __all__ = [
     "check_sampled_curve",
     "check_snr",
     "inverse_micron",
+    "shown",
 ]
+
+
+def shown(value):
+    """``value`` as an error message writes it: numbers plainly, strings quoted.
+
+    A numpy scalar or array is shown through its Python value, so that a
+    message never reads ``array(-0.1)`` or ``np.float64(2.0)``.
+    """
+    if isinstance(value, (np.ndarray, np.generic)):
+        value = value.tolist()
+    return repr(value)
 
 
 def check_finite(name, value):
@@ -31,9 +43,9 @@ def check_finite(name, value):
     try:
         out = float(value)
     except (TypeError, ValueError):
-        raise InputError(f"{name}={value!r} is not a number") from None
+        raise InputError(f"{name}={shown(value)} is not a number") from None
     if not math.isfinite(out):
-        raise InputError(f"{name}={value!r} must be a finite number")
+        raise InputError(f"{name}={shown(value)} must be a finite number")
     return out
 
 
@@ -41,7 +53,7 @@ def check_positive(name, value):
     """Return ``float(value)`` or raise if it is not a finite number > 0."""
     out = check_finite(name, value)
     if out <= 0:
-        raise InputError(f"{name}={value!r} must be > 0")
+        raise InputError(f"{name}={shown(value)} must be > 0")
     return out
 
 
@@ -49,12 +61,15 @@ def check_range(name, value, lo, hi):
     """Return ``float(value)`` or raise if it is not finite within ``[lo, hi]``."""
     out = check_finite(name, value)
     if not lo <= out <= hi:
-        raise InputError(f"{name}={value!r} is outside the allowed range [{lo:g}, {hi:g}]")
+        raise InputError(f"{name}={shown(value)} is outside the allowed range [{lo:g}, {hi:g}]")
     return out
 
 
-def check_choice(name, value, choices):
+def check_choice(name, value, choices, listed_by="--list"):
     """Return the canonical choice matching ``value`` case-insensitively.
+
+    ``listed_by`` names the option that lists the choices when they are too
+    many to quote; with None they are quoted however many there are.
 
     Raises
     ------
@@ -68,10 +83,10 @@ def check_choice(name, value, choices):
     close = difflib.get_close_matches(key, list(lookup), n=3, cutoff=0.5)
     if close:
         hint = "did you mean " + ", ".join(repr(lookup[c]) for c in close) + "?"
-    elif len(lookup) <= 12:
+    elif len(lookup) <= 12 or listed_by is None:
         hint = "choose from " + ", ".join(repr(c) for c in choices)
     else:
-        hint = f"{len(lookup)} names are known; list them with --list"
+        hint = f"{len(lookup)} names are known; list them with {listed_by}"
     raise UnknownNameError(f"{name}={value!r} is not known; {hint}")
 
 
@@ -100,7 +115,7 @@ def as_float_array(name, value, unit=None, what="a number"):
     try:
         return np.asarray(value, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"{name}={value!r} is not numeric") from None
+        raise InputError(f"{name}={shown(value)} is not numeric") from None
 
 
 def as_a_v(a_v):
@@ -110,19 +125,24 @@ def as_a_v(a_v):
     try:
         arr = np.asarray(a_v, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"a_v={a_v!r} is not numeric") from None
+        raise InputError(f"a_v={shown(a_v)} is not numeric") from None
     if np.any(np.isinf(arr)):
         raise InputError("a_v must be finite (NaN is passed through)")
     return arr
 
 
-def as_seconds(name, t):
-    """Exposure times as a float64 array in s (a Quantity of time accepted); each finite and >= 0, NaN passed."""
+def as_seconds(name, t, positive=False):
+    """Exposure times as a float64 array in s (a Quantity of time accepted); NaN passed.
+
+    Each must be finite and >= 0, or > 0 with ``positive`` (a time to plan,
+    where nothing is detected in 0 s).
+    """
     arr = as_float_array(name, t, u.s, "a unit of time")
-    bad = ~np.isnan(arr) & ~(arr >= 0)
+    bad = ~np.isnan(arr) & ~((arr > 0) if positive else (arr >= 0))
     bad |= np.isinf(arr)
     if np.any(bad):
-        raise InputError(f"{name}={arr[bad].flat[0]:g} s is not allowed; exposure times must be finite and >= 0")
+        limit = "> 0 s" if positive else ">= 0 s"
+        raise InputError(f"{name}={arr[bad].flat[0]:g} s is not allowed; exposure times must be finite and {limit}")
     return arr
 
 
@@ -154,7 +174,8 @@ def inverse_micron(wave, name="wave"):
     """
     if isinstance(wave, u.Quantity):
         try:
-            x = wave.to_value(u.um**-1, equivalencies=u.spectral())
+            with np.errstate(divide="ignore", invalid="ignore"):  # 0 becomes inf, refused below
+                x = wave.to_value(u.um**-1, equivalencies=u.spectral())
         except u.UnitConversionError:
             raise InputError(
                 f"{name} has unit {wave.unit!s}; a length, frequency, energy "
@@ -165,7 +186,7 @@ def inverse_micron(wave, name="wave"):
         try:
             lam = np.asarray(wave, dtype=float)
         except (TypeError, ValueError):
-            raise InputError(f"{name}={wave!r} is not numeric") from None
+            raise InputError(f"{name}={shown(wave)} is not numeric") from None
         with np.errstate(divide="ignore", invalid="ignore"):
             x = 1.0 / lam
     bad = np.isfinite(x) & (x <= 0)

@@ -28,7 +28,7 @@ import warnings
 import numpy as np
 from astropy import units as u
 
-from redcorr._validate import check_positive
+from redcorr._validate import check_positive, shown
 from redcorr.exceptions import InputError, TruncatedBandWarning
 
 __all__ = ["Band", "CONVENTIONS", "tophat", "gaussian", "product"]
@@ -52,7 +52,7 @@ def _to_um(wave, name):
     try:
         return np.asarray(wave, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"{name}={wave!r} is not numeric") from None
+        raise InputError(f"{name}={shown(wave)} is not numeric") from None
 
 
 class Band:
@@ -290,7 +290,10 @@ def gaussian(centre_um, fwhm_um, name=None, *, samples=401, extent=4.0):
     c = check_positive("centre_um", _to_um(centre_um, "centre_um"))
     f = check_positive("fwhm_um", _to_um(fwhm_um, "fwhm_um"))
     if extent * f >= c:
-        raise InputError(f"fwhm_um={f:g} is too wide for centre_um={c:g}: the band would reach λ <= 0")
+        raise InputError(
+            f"fwhm_um={f:g} is too wide for centre_um={c:g}: "
+            f"it must be < {c / extent:g} so that the band stays at λ > 0"
+        )
     wave = np.linspace(c - extent * f, c + extent * f, samples)
     resp = np.exp(-4 * np.log(2) * ((wave - c) / f) ** 2)
     resp[[0, -1]] = 0.0

@@ -165,8 +165,8 @@ def ccd_time(snr, source_rate, sky_rate, dark_rate, read_noise, n_pix, n_sky_pix
     s = check_snr("snr", snr)
     a = np.asarray(source_rate, dtype=float)
     b, c = noise_terms(n_pix, n_sky_pix, sky_rate, dark_rate, read_noise, digitisation_e)
-    s2 = s * s
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # beyond float64: t = inf
+        s2 = s * s
         t = (s2 * (a + b) + np.sqrt(s2 * s2 * (a + b) ** 2 + 4.0 * a * a * s2 * c)) / (2.0 * a * a)
     return np.where(a > 0, t, np.inf)[()]
 

@@ -368,7 +368,7 @@ def plan_exposure(
     if snr is not None:
         snr = float(check_snr("snr", snr))
     else:
-        time = float(as_seconds("time", time))
+        time = float(as_seconds("time", time, positive=True))
     names = [instrument.channel(b).name for b in bands]
     if not names:
         raise InputError("bands is empty; give at least one band of the instrument")
@@ -380,6 +380,11 @@ def plan_exposure(
         if snr is not None:
             t_clear = float(ch.time_for_snr(m, snr))
             t_dust = float(ch.time_for_snr(m, snr, a_band))
+            if not math.isfinite(t_dust):
+                raise InputError(
+                    f"snr={snr:g} is not reached in any finite time in band {name!r} (source AB {float(m):g}, "
+                    f"A_band {a_band:.3g} mag); ask for a lower S/N or a brighter source"
+                )
             reached = snr
         else:
             t_dust = time
@@ -426,8 +431,10 @@ def time_vs_av(instrument, bands, mag, *, curve, sed, a_v, snr, mag_band=None, e
     """
     s = float(check_snr("snr", snr))
     grid = np.atleast_1d(np.asarray(a_v, dtype=float))
-    if grid.ndim != 1 or not np.all(np.isfinite(grid)) or np.any(grid < 0):
-        raise InputError("a_v must be a 1-d list of finite values >= 0")
+    bad = ~(np.isfinite(grid) & (grid >= 0))
+    if grid.ndim != 1 or np.any(bad):
+        found = f"shape {grid.shape}" if grid.ndim != 1 else f"{grid[bad][0]:g}"
+        raise InputError(f"a_v must be a 1-d list of finite values >= 0; found {found}")
     names = [instrument.channel(b).name for b in bands]
     mags = _band_mags(instrument, names, mag, sed, mag_band)
     times, a_bands = {}, {}

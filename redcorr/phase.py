@@ -11,7 +11,7 @@ import numpy as np
 from astropy import units as u
 from scipy.integrate import trapezoid
 
-from redcorr._validate import as_float_array
+from redcorr._validate import as_float_array, shown
 from redcorr.exceptions import InputError
 from redcorr.mie import _angles, sphere, sphere_amplitudes
 
@@ -182,7 +182,7 @@ def population_phase_function(m, radius, weight, wavelength, theta, *, conventio
     if not np.sum(w) > 0:
         raise InputError("weight must have at least one value > 0")
     if lam.ndim or not np.isfinite(lam) or lam <= 0:
-        raise InputError(f"wavelength={wavelength!r} must be a single length > 0")
+        raise InputError(f"wavelength={shown(wavelength)} must be a single length > 0")
     if np.ndim(m) and np.shape(m) != a.shape:
         raise InputError(f"m of shape {np.shape(m)} must be one value or one per radius, shape {a.shape}")
     th = _angles(theta)

@@ -12,7 +12,7 @@ import numpy as np
 from astropy import constants as const
 from astropy import units as u
 
-from redcorr._validate import check_finite, check_positive, inverse_micron
+from redcorr._validate import check_positive, check_range, inverse_micron
 from redcorr.exceptions import InputError
 
 __all__ = [
@@ -126,11 +126,12 @@ class BlackBody(SED):
 class PowerLaw(SED):
     """A power law in frequency, F_ν ∝ ν^α, i.e. F_λ ∝ λ^(−2−α).
 
-    ``flam`` is normalised to 1 at λ = 1 µm.
+    ``flam`` is normalised to 1 at λ = 1 µm. ``alpha`` is limited to
+    [−50, 50], where λ^(−2−α) stays within float64 from 0.001 to 1000 µm.
     """
 
     def __init__(self, alpha):
-        self.alpha = check_finite("alpha", alpha)
+        self.alpha = check_range("alpha", alpha, -50.0, 50.0)
         self.name = "flat" if self.alpha == 0 else f"powerlaw:{self.alpha:g}"
 
     def _flam(self, wave_um):

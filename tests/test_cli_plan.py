@@ -113,12 +113,13 @@ def test_plots_are_png(tmp_path, capsys):
 @pytest.mark.parametrize(
     ("extra", "message"),
     [
-        (["--time", "-5"], "time=-5 s is not allowed"),
-        (["--snr", "0"], "snr=0 is not allowed"),
-        (["--snr", "-2"], "snr=-2 is not allowed"),
+        (["--time", "-5"], "argument --time: '-5' is not allowed; it must be a number > 0 s"),
+        (["--time", "0"], "argument --time: '0' is not allowed; it must be a number > 0 s"),
+        (["--snr", "0"], "argument --snr: '0' is not allowed"),
+        (["--snr", "-2"], "argument --snr: '-2' is not allowed"),
         (["--snr", "5", "--band", "kw-q"], "band='kw-q' is not a band of instrument"),
         (["--snr", "5", "--ebv", "0.1"], None),  # --av and --ebv together: argparse usage error
-        (["--snr", "5", "--limit-snr", "0"], "limit_snr=0 is not allowed"),
+        (["--snr", "5", "--limit-snr", "0"], "argument --limit-snr: '0' is not allowed"),
     ],
 )
 def test_bad_input_exits_2_with_one_line(capsys, extra, message):
@@ -126,7 +127,7 @@ def test_bad_input_exits_2_with_one_line(capsys, extra, message):
     err = capsys.readouterr().err
     if message:
         assert message in err
-        assert len(err.strip().splitlines()) == 1
+        assert len([line for line in err.splitlines() if not line.startswith(("usage:", " "))]) == 1
 
 
 def test_missing_sky_value_in_a_user_instrument(tmp_path, capsys):

@@ -11,8 +11,10 @@ from numpy.testing import assert_allclose
 from published import AB_ZERO_POINT_JY
 
 from redcorr.ccd import ccd_source_rate
+from redcorr.curves import get_curve
 from redcorr.exceptions import InputError, UnknownNameError
-from redcorr.exposure import Channel, Instrument
+from redcorr.exposure import Channel, Instrument, plan_exposure
+from redcorr.sed import flat_fnu
 
 
 def _box(lo, hi, value=1.0, n=4001):
@@ -95,6 +97,14 @@ def test_negative_time_is_refused():
         _channel().snr(19.0, -5.0)
     with pytest.raises(InputError, match="time"):
         ccd_source_rate(5.0, [10.0, -1.0], 1.0, 0.0, 1.0, 10.0)
+
+
+@pytest.mark.parametrize("time", [0.0, -1.0])
+def test_a_planned_time_must_be_positive(time):
+    """Nothing is detected in 0 s: planning for it would give a table of NaN."""
+    inst = Instrument("test", {"box": _channel()})
+    with pytest.raises(InputError, match=rf"time={time:g} s is not allowed; .*> 0 s"):
+        plan_exposure(inst, ["box"], 19.0, a_v=1.0, time=time, curve=get_curve("ccm89"), sed=flat_fnu())
 
 
 @pytest.mark.parametrize("snr", [0.0, -3.0, np.inf])

@@ -15,15 +15,30 @@ them. ``redcorr --help`` thus loads none of them, and ``redcorr COMMAND``
 only what COMMAND uses (``tests/test_cli_startup.py`` checks this,
 ``benchmarks/bench_startup.py`` times it).
 
-Exit status: 0 on success, 2 for a user mistake (one line on stderr, no
-traceback), 1 for an unexpected failure, 130 on Ctrl-C.
+Exit status (one line on stderr for each failure; a traceback only with
+``REDCORR_DEBUG=1``):
+
+===  =====================================================================
+0    done
+1    unexpected failure (a bug: please report it)
+2    the user's input or arguments: a bad value (the line names the
+     argument, the value and what is allowed), an input file named by the
+     user that does not exist, an output that exists without
+     ``--overwrite`` (also when another run created it meanwhile)
+3    the environment: disk full, quota exceeded, permission denied
+     (reading or writing), read-only file system; the line names the path
+130  interrupted: Ctrl-C (SIGINT), SIGTERM or SIGHUP; temporary files are
+     removed and no partial output is left
+===  =====================================================================
 """
 
 import argparse
 import importlib
 import os
 import pkgutil
+import signal
 import sys
+import threading
 import traceback
 import warnings
 
@@ -53,14 +68,52 @@ def _show_warning(message, category, filename, lineno, file=None, line=None):
     print(f"redcorr: warning: {message}", file=sys.stderr)
 
 
+def _interrupt(signum, frame):
+    """Signal handler: stop the main thread as Ctrl-C does, so that clean-up code runs."""
+    raise KeyboardInterrupt
+
+
+def _catch_signals():
+    """Treat SIGTERM and SIGHUP as SIGINT; return the previous handlers, to restore."""
+    if threading.current_thread() is not threading.main_thread():
+        return {}
+    names = ("SIGINT", "SIGTERM", "SIGHUP")
+    return {sig: signal.signal(sig, _interrupt) for sig in (getattr(signal, n, None) for n in names) if sig}
+
+
+def _environment_problem(exc):
+    """One line for an OSError caused by the environment (disk, permissions), else None."""
+    from redcorr.io._atomic import ENVIRONMENT_ERRNOS, error_code  # noqa: PLC0415 - only on failure
+
+    code = error_code(exc)
+    if code not in ENVIRONMENT_ERRNOS:
+        return None
+    if exc.filename is None:  # pyarrow's message names the path
+        return str(exc)
+    return f"{str(exc.filename)!r}: {os.strerror(code)}"
+
+
 def main(argv=None):
-    """Run the command line; return the exit status.
+    """Run the command line; return the exit status (see the package docstring).
 
     Parameters
     ----------
     argv : list of str, optional
         Arguments without the program name; ``sys.argv[1:]`` if omitted.
     """
+    previous = {}
+    try:
+        previous = _catch_signals()
+        return _run(argv)
+    except KeyboardInterrupt:  # also during start-up, and from SIGTERM or SIGHUP
+        print("redcorr: interrupted", file=sys.stderr)
+        return 130
+    finally:
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
+
+
+def _run(argv):
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
@@ -71,21 +124,33 @@ def main(argv=None):
         warnings.showwarning = _show_warning
         try:
             return int(args.func(args) or 0)
-        except (InputError, FileNotFoundError, IsADirectoryError, PermissionError) as exc:
+        except InputError as exc:
             print(f"redcorr {args.command}: error: {exc}", file=sys.stderr)
             return 2
         except BrokenPipeError:  # e.g. piped into head
             sys.stderr.close()
             return 0
-        except KeyboardInterrupt:
-            print("redcorr: interrupted", file=sys.stderr)
-            return 130
+        except OSError as exc:
+            problem = _environment_problem(exc)
+            if os.environ.get("REDCORR_DEBUG"):
+                traceback.print_exc()
+            if problem is not None:
+                print(f"redcorr {args.command}: error: {problem}", file=sys.stderr)
+                return 3
+            if isinstance(exc, (FileNotFoundError, IsADirectoryError, NotADirectoryError)):  # a path the user named
+                print(f"redcorr {args.command}: error: {exc}", file=sys.stderr)
+                return 2
+            return _unexpected(args, exc)
         except Exception as exc:
             if os.environ.get("REDCORR_DEBUG"):
                 traceback.print_exc()
-            print(
-                f"redcorr {args.command}: unexpected failure: {type(exc).__name__}: {exc} "
-                "(set REDCORR_DEBUG=1 for a traceback)",
-                file=sys.stderr,
-            )
-            return 1
+            return _unexpected(args, exc)
+
+
+def _unexpected(args, exc):
+    print(
+        f"redcorr {args.command}: unexpected failure: {type(exc).__name__}: {exc} "
+        "(set REDCORR_DEBUG=1 for a traceback)",
+        file=sys.stderr,
+    )
+    return 1

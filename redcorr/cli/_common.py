@@ -3,9 +3,22 @@
 import argparse
 import json
 import math
+import os
 import sys
 
-__all__ = ["WAVE_UNITS", "UNIT_HELP", "wavelengths", "print_json", "print_table", "finite_float"]
+from redcorr.exceptions import InputError
+
+__all__ = [
+    "WAVE_UNITS",
+    "UNIT_HELP",
+    "wavelengths",
+    "print_json",
+    "print_table",
+    "finite_float",
+    "positive_float",
+    "positive_seconds",
+    "check_outputs",
+]
 
 WAVE_UNITS = {"um": "um", "nm": "nm", "AA": "AA", "1/um": "1 / um", "um-1": "1 / um"}
 """Choices of ``--unit`` (micron, nanometre, ångström, inverse micron twice) → astropy unit string."""
@@ -31,6 +44,9 @@ def wavelengths(values, unit):
     import numpy as np  # heavy: loaded on use, so that the parser builds without numpy or astropy
     from astropy import units as u
 
+    for value in values:
+        if not value > 0:
+            raise InputError(f"--wave={value:g} {unit} is not a positive wavelength; wavelengths must be > 0")
     wave = np.asarray(values) * u.Unit(WAVE_UNITS[unit])
     return wave, wave.to_value(u.um, equivalencies=u.spectral())
 
@@ -44,6 +60,51 @@ def finite_float(text):
     if not math.isfinite(value):
         raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
     return value
+
+
+def _positive(text, unit):
+    value = finite_float(text)
+    if not value > 0:
+        raise argparse.ArgumentTypeError(f"{text!r} is not allowed; it must be a number > 0{unit}")
+    return value
+
+
+def positive_float(text):
+    """argparse type: a finite float > 0, with a message that quotes the value."""
+    return _positive(text, "")
+
+
+def positive_seconds(text):
+    """argparse type: a time in s, finite and > 0, with a message that quotes the value."""
+    return _positive(text, " s")
+
+
+def check_outputs(args, *options):
+    """Refuse unusable output paths of ``args`` before any work is done.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+    *options : str
+        Option names such as ``"--plot"``; an option left out (None) is skipped.
+
+    Raises
+    ------
+    InputError
+        Naming the option and the path: empty, a folder, or in a folder that
+        does not exist.
+    """
+    from redcorr.io import check_output_path  # noqa: PLC0415 - loads pathlib-only io helpers
+
+    for option in options:
+        path = getattr(args, option.lstrip("-").replace("-", "_"))
+        if path is None:
+            continue
+        if not path.strip():
+            raise InputError(f"{option}={path!r} is empty; give a file name")
+        if os.path.isdir(path):
+            raise InputError(f"{option}={path!r} is a folder; give a file name")
+        check_output_path(path, name=option)
 
 
 def _clean(value):

@@ -40,6 +40,8 @@ def run(args):
     from redcorr.io.filters import load_band
 
     if args.list:
+        if args.names:
+            raise InputError(f"--list takes no NAME; drop {' '.join(args.names)!r} or --list")
         return _list(args.json)
     if not args.names:
         raise InputError("NAME is missing; give one or more bands, or --list")

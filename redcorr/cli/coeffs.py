@@ -3,7 +3,7 @@
 import math
 import sys
 
-from redcorr.cli._common import finite_float, print_json, print_table
+from redcorr.cli._common import check_outputs, finite_float, print_json, print_table
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
@@ -96,13 +96,10 @@ def _write_grid(curve, bands, path, extrapolate, out):
 def run(args):
     from redcorr.band_summary import band_summary
     from redcorr.extinction import colour_excess_ratio
-    from redcorr.io import check_output_path
     from redcorr.io.filters import load_band
     from redcorr.io.spectra import load_sed
 
-    for path in (args.grid, args.plot):
-        if path:
-            check_output_path(path)
+    check_outputs(args, "--grid", "--plot")
     curve = _curve(args)
     bands = [load_band(spec) for spec in args.band]
     sed = load_sed(args.sed)
@@ -125,9 +122,9 @@ def run(args):
                 for b1, b2 in zip(bands[:-1], bands[1:], strict=True)
             ]
             print_table(pairs, ["colour", "E_over_EBV"])
-    if args.grid:
+    if args.grid is not None:
         _write_grid(curve, bands, args.grid, args.extrapolate, info)
-    if args.plot:
+    if args.plot is not None:
         from redcorr.io.figures import save_figure  # noqa: PLC0415
         from redcorr.plotting import band_coefficients_figure  # noqa: PLC0415 - matplotlib only when asked
 

@@ -122,8 +122,17 @@ def _options(args):
     """The correction's options from the command line, through the edge shared with the terminal UI."""
     from redcorr.io.correction import correction_options  # noqa: PLC0415 - heavy (pandas): loaded on use
 
+    for name, path in (("INPUT", args.input), ("OUTPUT", args.output)):
+        if not path.strip():
+            raise InputError(f"{name}={path!r} is empty; give the path of a catalog")
     if args.teff_col and args.solve_colour:
         raise InputError("give --teff-col or --solve-colour, not both")
+    if args.map is None:
+        given = {"--map-scale": args.map_scale != 1.0, "--lon-col": args.lon_col, "--lat-col": args.lat_col,
+                 "--frame": args.frame}
+        stray = [option for option, value in given.items() if value]
+        if stray:
+            raise InputError(f"{', '.join(stray)}: used only with --map; give --map or drop {', '.join(stray)}")
     spectrum = "column" if args.teff_col else "colour" if args.solve_colour else "fixed"
     return correction_options(
         args.band, law=args.law, r_v=args.rv,

@@ -1,6 +1,6 @@
 """``redcorr curve``: evaluate an extinction law at given wavelengths."""
 
-from redcorr.cli._common import UNIT_HELP, WAVE_UNITS, finite_float, print_json, print_table, wavelengths
+from redcorr.cli._common import UNIT_HELP, WAVE_UNITS, check_outputs, finite_float, print_json, print_table, wavelengths
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
@@ -66,11 +66,15 @@ def run(args):
     from redcorr.io import load_curve
 
     if args.list:
+        extra = [f"LAW={args.law!r}"] * bool(args.law) + ["--wave"] * bool(args.wave)
+        if extra:
+            raise InputError(f"--list takes no LAW or --wave; drop {' and '.join(extra)}, or --list")
         return _list(args.json)
     if not args.law:
         raise InputError("LAW is missing; give a law name (see --list) or file:PATH")
     if not args.wave:
         raise InputError("--wave is missing; give one or more wavelengths")
+    check_outputs(args, "--plot")
     curve = load_curve(args.law, r_v=args.rv)
     wave, wave_um = wavelengths(args.wave, args.unit)
     ratio = np.atleast_1d(curve(wave, extrapolate=args.extrapolate))

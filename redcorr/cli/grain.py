@@ -1,6 +1,6 @@
 """``redcorr grain``: extinction, albedo and g of a grain model at given wavelengths."""
 
-from redcorr.cli._common import UNIT_HELP, WAVE_UNITS, finite_float, print_json, print_table, wavelengths
+from redcorr.cli._common import UNIT_HELP, WAVE_UNITS, check_outputs, finite_float, print_json, print_table, wavelengths
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run", "grain_rows"]
@@ -79,9 +79,13 @@ def run(args):
     from redcorr.io.grains import default_cache, get_grain_model
 
     if args.list:
+        extra = [f"MODEL={args.model!r}"] * bool(args.model) + [o for o in ("--wave", "--plot") if getattr(args, o[2:])]
+        if extra:
+            raise InputError(f"--list takes no MODEL, --wave or --plot; drop {' and '.join(extra)}, or --list")
         return _list(args.json)
     if not args.model:
         raise InputError("MODEL is missing; give a grain-model name (see --list) or grain:PATH.toml")
+    check_outputs(args, "--plot")
     if not args.wave and not args.plot:
         raise InputError("--wave is missing; give one or more wavelengths (or --plot FILE.png)")
     model = get_grain_model(args.model)
@@ -109,9 +113,7 @@ def run(args):
 
 
 def _plot(model, path, *, cache):
-    from redcorr.io import check_output_path  # noqa: PLC0415
     from redcorr.io.figures import save_figure  # noqa: PLC0415
     from redcorr.plotting import grain_model_figure  # noqa: PLC0415 - matplotlib only when asked
 
-    check_output_path(path)
     save_figure(grain_model_figure(model.curve(cache=cache)), path)

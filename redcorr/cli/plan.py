@@ -3,7 +3,7 @@
 import sys
 
 from redcorr._constants import PLAN_CAUTION
-from redcorr.cli._common import finite_float, print_json, print_table
+from redcorr.cli._common import check_outputs, finite_float, positive_float, positive_seconds, print_json, print_table
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
@@ -43,9 +43,9 @@ def add_parser(sub):
     model.add_argument("--grain", metavar="MODEL", help="grain model instead of a law")
     p.add_argument("--rv", type=finite_float, metavar="R", help="R_V of the law (law default if omitted)")
     goal = p.add_mutually_exclusive_group(required=True)
-    goal.add_argument("--snr", type=finite_float, metavar="S", help="target signal-to-noise ratio")
-    goal.add_argument("--time", type=finite_float, metavar="T", help="exposure time, s")
-    p.add_argument("--limit-snr", type=finite_float, default=5.0, metavar="S",
+    goal.add_argument("--snr", type=positive_float, metavar="S", help="target signal-to-noise ratio")
+    goal.add_argument("--time", type=positive_seconds, metavar="T", help="exposure time, s")
+    p.add_argument("--limit-snr", type=positive_float, default=5.0, metavar="S",
                    help="S/N that defines limiting_mag (default 5)")
     p.add_argument("--av-grid", nargs="+", type=finite_float, metavar="A",
                    help="also tabulate the time needed (at --snr, else --limit-snr) at these A_V values")
@@ -65,7 +65,7 @@ def _curve(args):
         if args.rv is not None:
             raise InputError(f"--rv={args.rv:g} applies to a law; a grain model fixes its own R_V")
         return load_curve(args.grain)
-    return load_curve(args.law or "f99", r_v=args.rv)
+    return load_curve("f99" if args.law is None else args.law, r_v=args.rv)
 
 
 def _mag_band(args, instrument):
@@ -82,14 +82,11 @@ def run(args):
     import numpy as np
 
     from redcorr.exposure import CAUTION, plan_exposure, snr_vs_time, time_vs_av
-    from redcorr.io import check_output_path
     from redcorr.io.instrument import load_instrument
     from redcorr.io.spectra import load_sed
     from redcorr.photometry import synthetic_ab
 
-    for path in (args.plot, args.av_plot):
-        if path:
-            check_output_path(path)
+    check_outputs(args, "--plot", "--av-plot")
     instrument = load_instrument(args.instrument)
     curve = _curve(args)
     sed = load_sed(args.sed)

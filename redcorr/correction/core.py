@@ -42,6 +42,11 @@ class Correction:
         The columns :meth:`correct` adds, in order.
     summary : RunSummary
         Counts of the rows corrected so far.
+    first_line : int or None
+        Line of the input file holding the first row (1-based), set by the
+        caller that reads the file; messages about a row then give its line
+        (exact unless comment lines, blank lines or quoted line breaks come
+        between rows). None (the default): rows are counted from 1.
 
     Examples
     --------
@@ -84,11 +89,13 @@ class Correction:
         self.output_columns = self._out_names()
         clash = [c for c in self.output_columns if c in self.columns]
         if clash:
-            raise InputError(
-                f"output columns {clash} already exist in the input; choose another suffix "
-                "or rename those columns"
-            )
+            other = self._out_names(self.suffix + "_2")
+            fixed = [c for c in clash if c in other]  # the same whatever the suffix
+            advice = (f"the suffix ({self.suffix!r}) renames only the corrected magnitudes and colours, so rename "
+                      f"{fixed} in the input (is it already corrected?)" if fixed else "choose another suffix")
+            raise InputError(f"output columns {clash} already exist in the input; {advice}")
         self.summary = RunSummary(self.setup())
+        self.first_line = None
 
     # -- set-up -------------------------------------------------------------------------------
     def _has_errors(self, err_col):
@@ -96,15 +103,17 @@ class Correction:
         return (err_col is not None or self.plan.red_err_col is not None or self.options.reddening.reddening_error > 0
                 or dust.rv_error_column is not None or dust.rv_error > 0)
 
-    def _out_names(self):
+    def _out_names(self, suffix=None):
+        """The output column names, with ``suffix`` (default: :attr:`suffix`) on the corrected ones."""
+        suffix = self.suffix if suffix is None else suffix
         names = []
         for mag, label, err in zip(self.mag_cols, self.labels, self.err_cols, strict=True):
-            names.append(mag + self.suffix)
+            names.append(mag + suffix)
             if self._has_errors(err):
-                names.append(mag + self.suffix + "_err")
+                names.append(mag + suffix + "_err")
             names.append("A_" + band_label(label))
         for i, j in self.colours:
-            base = f"{self.mag_cols[i]}-{self.mag_cols[j]}{self.suffix}"
+            base = f"{self.mag_cols[i]}-{self.mag_cols[j]}{suffix}"
             names.append(base)
             if self._has_errors(self.err_cols[i]) or self._has_errors(self.err_cols[j]):
                 names.append(base + "_err")
@@ -230,7 +239,7 @@ class Correction:
             if self.options.output.strict:
                 first = int(np.flatnonzero(bad)[0])
                 raise InputError(
-                    f"column {col!r} has text {series.iloc[first]!r} in row {series.index[first]}, "
+                    f"column {col!r} has text {series.iloc[first]!r} in {self._where(first)}, "
                     "where a number is needed (strict mode)"
                 )
             flags[bad] |= CORRECTION_FLAGS["non_numeric"]
@@ -248,6 +257,12 @@ class Correction:
             lat = self._numeric(table, plan.lat_col, flags)
             red = np.full(n, np.nan)
             good = np.isfinite(lon) & np.isfinite(lat)
+            off_sky = good & (np.abs(lat) > 90.0)
+            if np.any(off_sky) and self.options.output.strict:
+                first = int(np.flatnonzero(off_sky)[0])
+                raise InputError(f"column {plan.lat_col!r} has latitude {float(lat[first])!r} in {self._where(first)}, "
+                                 "outside [-90, 90] (strict mode)")
+            good &= ~off_sky  # a position off the sphere is no position: the row is flagged missing
             map_flags = np.zeros(n, np.uint8)
             if np.any(good):
                 values, mflags = source.dust_map.lookup(lon[good], lat[good], frame=plan.frame)
@@ -259,6 +274,13 @@ class Correction:
         else:
             err = np.full(n, source.reddening_error)
         return red, err
+
+    def _where(self, i):
+        """Row ``i`` of the table being corrected, for messages: its number in the input, and its line."""
+        row = self.summary.rows + i
+        if self.first_line is None:
+            return f"row {row + 1}"
+        return f"row {row + 1} (line {self.first_line + row} of the file)"
 
     def correct(self, frame):
         """Correct one DataFrame; return the input columns followed by the output columns.
@@ -320,6 +342,7 @@ class Correction:
         nb = len(self.bands)
         flags = np.zeros(n, np.int64)
         mags = np.stack([self._numeric(table, c, flags) for c in self.mag_cols], axis=-1).reshape(n, nb)
+        mags[np.isinf(mags)] = np.nan  # an infinite magnitude is a missing one
         errs = np.stack(
             [self._numeric(table, c, flags) if c is not None else np.zeros(n) for c in self.err_cols], axis=-1
         ).reshape(n, nb)
@@ -370,6 +393,7 @@ class Correction:
         result = {}
         dered = mags - a_band
         mag_err = np.sqrt(variance)
+        mag_err[np.isnan(mags)] = np.nan  # no magnitude, no error
         for b, (mag, label, err_col) in enumerate(zip(self.mag_cols, self.labels, self.err_cols, strict=True)):
             result[mag + self.suffix] = dered[:, b]
             if self._has_errors(err_col):
@@ -383,6 +407,7 @@ class Correction:
                 for term in (red_term, rv_term):
                     if term is not None:
                         colour_var += (term[:, i] - term[:, j]) ** 2
+                colour_var[np.isnan(mags[:, i]) | np.isnan(mags[:, j])] = np.nan
                 result[base + "_err"] = np.sqrt(colour_var)
         valid = np.isfinite(red) & rv_ok
         result["ebv_used"] = np.where(valid, ebv, np.nan)

@@ -62,8 +62,8 @@ def _whole(name, value, lo):
 
 
 def _column_name(name, value):
-    if value is not None and not isinstance(value, str):
-        raise InputError(f"{name}={value!r} is not a column name (a string)")
+    if value is not None and (not isinstance(value, str) or not value.strip()):
+        raise InputError(f"{name}={value!r} is not a column name (a non-empty string)")
     return value
 
 

@@ -20,7 +20,7 @@ import warnings
 import numpy as np
 from astropy import units as u
 
-from redcorr._validate import check_finite, inverse_micron
+from redcorr._validate import check_finite, inverse_micron, shown
 from redcorr.exceptions import ExtrapolationWarning, InputError, OutOfRangeWarning
 
 __all__ = ["DustCurve"]
@@ -62,7 +62,7 @@ class DustCurve(abc.ABC):
         if self.r_v_limits is None:
             if r_v is not None and not np.isclose(check_finite("r_v", r_v), self.default_r_v):
                 raise InputError(
-                    f"r_v={r_v!r} is not allowed: {self.name} has a fixed R_V of "
+                    f"r_v={shown(r_v)} is not allowed: {self.name} has a fixed R_V of "
                     f"{self.default_r_v:g}"
                 )
             self._r_v = float(self.default_r_v)
@@ -72,7 +72,7 @@ class DustCurve(abc.ABC):
         lo, hi = self.r_v_limits
         if not lo <= value <= hi:
             raise InputError(
-                f"r_v={r_v!r} is outside the range {self.name} supports, [{lo:g}, {hi:g}]"
+                f"r_v={shown(r_v)} is outside the range {self.name} supports, [{lo:g}, {hi:g}]"
             )
         if self.r_v_observed is not None and not (
             self.r_v_observed[0] <= value <= self.r_v_observed[1]

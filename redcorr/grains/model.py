@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from redcorr._validate import check_positive, check_range, inverse_micron
+from redcorr._validate import check_positive, check_range, inverse_micron, shown
 from redcorr.curves.tabulated import B_WAVE_UM, V_WAVE_UM, TabulatedCurve
 from redcorr.exceptions import InputError, OutOfRangeWarning
 from redcorr.grains.materials import Material
@@ -396,7 +396,7 @@ class GrainModel:
 
         wave_um = 1.0 / inverse_micron(wave)
         if np.ndim(wave_um) != 0 or not np.isfinite(wave_um):
-            raise InputError(f"wave={wave!r} must be one finite wavelength")
+            raise InputError(f"wave={shown(wave)} must be one finite wavelength")
         num, den = 0.0, 0.0
         for comp in self.components:
             for m, a, w in comp.scattering_populations(float(wave_um)):

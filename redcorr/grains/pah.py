@@ -28,7 +28,7 @@ check is the comparison with those tables in the tests.
 
 import numpy as np
 
-from redcorr.exceptions import InputError
+from redcorr._validate import check_positive, check_range
 from redcorr.grains.sizes import M_C_G, RHO_GRAPHITE
 
 __all__ = [
@@ -182,9 +182,7 @@ def pah_cross_section(wave_um, a_um, ionized_fraction=0.5):
        Table 1. doi:10.1086/323147
     .. [2] Salama, F., et al. 1996, ApJ, 458, 621. doi:10.1086/176844
     """
-    f = float(ionized_fraction)
-    if not 0.0 <= f <= 1.0:
-        raise InputError(f"ionized_fraction={ionized_fraction!r} is outside the allowed range [0, 1]")
+    f = check_range("ionized_fraction", ionized_fraction, 0.0, 1.0)
     x = 1.0 / np.asarray(wave_um, dtype=float)
     n_c = n_carbon(a_um)
     x, n_c = np.broadcast_arrays(x, n_c)
@@ -199,9 +197,7 @@ def pah_fraction(a_um, q_gra=0.01, a_xi_um=0.005):
     ξ(a) = (1 − q_gra) min[1, (a_ξ/a)³] (Li & Draine 2001, §2.3, from memory),
     with q_gra = 0.01 and a_ξ = 50 Å by default.
     """
-    if not 0.0 <= float(q_gra) <= 1.0:
-        raise InputError(f"q_gra={q_gra!r} is outside the allowed range [0, 1]")
-    if not float(a_xi_um) > 0:
-        raise InputError(f"a_xi={a_xi_um!r} µm must be > 0")
+    check_range("q_gra", q_gra, 0.0, 1.0)
+    check_positive("a_xi_um", a_xi_um)
     a = np.asarray(a_um, dtype=float)
     return (1.0 - q_gra) * np.minimum(1.0, (a_xi_um / a) ** 3)

@@ -19,7 +19,7 @@ import numpy as np
 from astropy import units as u
 from scipy.special import erf
 
-from redcorr._validate import as_float_array, check_finite, check_positive
+from redcorr._validate import as_float_array, check_finite, check_positive, shown
 from redcorr.exceptions import InputError
 
 __all__ = [
@@ -64,7 +64,7 @@ class SizeDistribution(abc.ABC):
         lo = check_positive("a_min", a_min)
         hi = check_positive("a_max", a_max)
         if hi <= lo:
-            raise InputError(f"a_max={a_max!r} µm must exceed a_min={a_min!r} µm")
+            raise InputError(f"a_max={shown(a_max)} µm must exceed a_min={shown(a_min)} µm")
         self.a_min, self.a_max = lo, hi
 
     def __call__(self, a):
@@ -313,7 +313,7 @@ class WD01Carbonaceous(WD01Silicate):
         super().__init__(alpha, beta, a_t, a_c, c, scale=scale)
         self.b_c = check_finite("b_c", b_c)
         if self.b_c < 0:
-            raise InputError(f"b_c={b_c!r} must be >= 0")
+            raise InputError(f"b_c={shown(b_c)} must be >= 0")
         self.label = f"WD01 carbonaceous, b_C={self.b_c:g}"
 
     def vsg_amplitudes(self):

@@ -11,6 +11,7 @@ _LAZY = {
     "atomic_folder": "redcorr.io._atomic",
     "atomic_path": "redcorr.io._atomic",
     "check_output_path": "redcorr.io._atomic",
+    "output_group": "redcorr.io._atomic",
     "load_curve": "redcorr.io.curves",
     "read_curve_table": "redcorr.io.curves",
     "load_band": "redcorr.io.filters",

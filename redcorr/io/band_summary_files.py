@@ -41,6 +41,6 @@ def write_band_summary(rows, path, meta=None):
     for name, unit in _UNITS.items():
         if name in table.colnames:
             table[name].unit = unit
-    with atomic_path(path) as tmp:
+    with atomic_path(path, named=True) as tmp:  # astropy writes to a file name
         table.write(tmp, format=fmt, overwrite=True)
     return path

@@ -21,7 +21,7 @@ from pathlib import Path
 
 from redcorr.correction import warn_summary
 from redcorr.exceptions import InputError
-from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path
+from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path, output_group
 from redcorr.io.catalogs import (
     DEFAULT_CHUNK_ROWS,
     CatalogWriter,
@@ -93,19 +93,20 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
     if out_format is None and not output_path.suffix:
         out_format = fmt_in
     text_columns = set()
-    while True:
-        correction.summary = type(correction.summary)(correction.setup())
-        try:
-            _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
-                    overwrite, progress, keep)
-            break
-        except ColumnTypeError as exc:  # text in a CSV column read as numbers: read it as text
-            if exc.column in text_columns:
-                raise InputError(f"input column {exc.column!r} could not be read") from None
-            text_columns.add(exc.column)
-    summary = correction.summary.finish()
-    if summary_file:
-        write_summary(summary.to_dict(), output_path)
+    with output_group() as group:  # the output and its summary appear together or not at all
+        while True:
+            correction.summary = type(correction.summary)(correction.setup())
+            try:
+                _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
+                        overwrite, progress, keep, group)
+                break
+            except ColumnTypeError as exc:  # text in a CSV column read as numbers: read it as text
+                if exc.column in text_columns:
+                    raise InputError(f"input column {exc.column!r} could not be read") from None
+                text_columns.add(exc.column)
+        summary = correction.summary.finish()
+        if summary_file:
+            write_summary(summary.to_dict(), output_path, overwrite=overwrite, group=group)
     warn_summary(summary)
     return summary
 
@@ -121,17 +122,18 @@ def _keep(columns, keep_columns):
 
 
 def _stream(input_path, output_path, correction, options, text_columns, out_format, delimiter,
-            overwrite, progress, keep):
+            overwrite, progress, keep, group):
     numeric = [c for c in correction.numeric_columns() if c not in text_columns]
     # CSV to CSV: the input's fields are copied as text, never parsed and formatted again
     verbatim = (detect_format(input_path, options["fmt"]) == "csv"
                 and detect_format(output_path, out_format) == "csv")
     with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, verbatim=verbatim,
                       **options) as reader:
+        correction.first_line = reader.first_line  # messages about a row give its line in the file
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
                            delimiter=delimiter, meta=meta, computed=correction.output_columns,
-                           verbatim=reader.verbatim) as writer:
+                           verbatim=reader.verbatim, group=group) as writer:
             if reader.arrow:  # Arrow in, Arrow out: no DataFrame is built
                 carry = PandasLikeColumns(keep)
                 typed = reader.typed if reader.verbatim else (lambda table: table)
@@ -257,41 +259,44 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
             client = Client(scheduler, timeout="10s", set_as_default=False)
         except OSError as exc:
             raise InputError(f"scheduler={scheduler!r} could not be reached: {exc}") from None
-    try:
-        columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
-        correction = make_correction(columns)
-        keep = _keep(columns, keep_columns)
-        numeric, text = correction.numeric_columns(), ()
-        scheduler_kw = {"scheduler": client} if client is not None else {}
-        while True:
-            try:
-                ddf, _ = _dask_input(input_path, in_format, delimiter, comment, numeric, text)
-                result = correct_dask(ddf, correction)[keep + correction.output_columns]
-                summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw)
-                break
-            except ValueError as exc:  # Dask's float parser met text: read those columns as text
-                if "could not convert" not in str(exc) or text:
-                    raise
-                text = numeric
-    finally:
-        if client is not None:
-            client.close()
-    summary.finish()
-    if summary_file:
-        write_summary(summary.to_dict(), output_path)
+    with output_group() as group:  # the output and its summary appear together or not at all
+        try:
+            columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
+            correction = make_correction(columns)
+            keep = _keep(columns, keep_columns)
+            numeric, text = correction.numeric_columns(), ()
+            scheduler_kw = {"scheduler": client} if client is not None else {}
+            while True:
+                try:
+                    ddf, _ = _dask_input(input_path, in_format, delimiter, comment, numeric, text)
+                    result = correct_dask(ddf, correction)[keep + correction.output_columns]
+                    summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw,
+                                        group)
+                    break
+                except ValueError as exc:  # Dask's float parser met text: read those columns as text
+                    if "could not convert" not in str(exc) or text:
+                        raise
+                    text = numeric
+        finally:
+            if client is not None:
+                client.close()
+        summary.finish()
+        if summary_file:
+            write_summary(summary.to_dict(), output_path, overwrite=overwrite, group=group)
     warn_summary(summary)
     return summary
 
 
-def _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw):
-    """Write ``result`` atomically and summarise it in the same pass over the partitions."""
+def _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw, group):
+    """Write ``result`` atomically (placed with ``group``) and summarise it in the same pass."""
     if out_fmt == "parquet":
-        with atomic_folder(output_path, overwrite=overwrite) as tmp:
+        with atomic_folder(output_path, overwrite=overwrite, group=group) as tmp:
             write = result.to_parquet(str(tmp), write_index=False, compute=False)
             return summarise_dask(result, correction, also=[write], **scheduler_kw)
     floats = [c for c in correction.output_columns if result[c].dtype.kind == "f"]
     result = result.assign(**{c: result[c].map_partitions(round_for_text, meta=result[c]) for c in floats})
-    with atomic_path(output_path) as tmp:  # text: computed columns rounded as by the stream engine
+    # text: computed columns rounded as by the stream engine; a named temporary, as workers may be other processes
+    with atomic_path(output_path, overwrite=overwrite, group=group, named=True) as tmp:
         write = result.to_csv(str(tmp), single_file=True, index=False, compute=False)
         return summarise_dask(result, correction, also=write if isinstance(write, list) else [write],
                               **scheduler_kw)

@@ -1,6 +1,5 @@
 """Read tabulated extinction curves from user files (ECSV or CSV)."""
 
-from pathlib import Path
 
 import numpy as np
 from astropy import units as u
@@ -8,6 +7,7 @@ from astropy import units as u
 from redcorr._validate import check_choice
 from redcorr.curves import LAWS, TabulatedCurve, get_curve
 from redcorr.exceptions import InputError
+from redcorr.io._files import input_file
 
 __all__ = ["read_curve_table", "load_curve"]
 
@@ -33,9 +33,7 @@ def read_curve_table(path):
     """
     from astropy.table import Table  # heavy: loaded only to read a file
 
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"curve file {str(path)!r} does not exist")
+    path = input_file(path, "curve file")
     fmt = "ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv"
     try:
         table = Table.read(path, format=fmt)

@@ -24,6 +24,7 @@ An ECSV file may say ``convention: energy`` in its meta (default
 
 import functools
 import re
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -34,6 +35,7 @@ from redcorr._paths import project_dir
 from redcorr._validate import check_choice, check_finite
 from redcorr.bandpass import CONVENTIONS, Band, gaussian, product, tophat
 from redcorr.exceptions import InputError
+from redcorr.io._files import input_file
 
 __all__ = ["load_band", "list_bands", "project_bands", "read_band_file", "write_band_file"]
 
@@ -138,10 +140,8 @@ def read_band_file(path, wave_unit=None, name=None):
         A curve in frequency or wavenumber is reordered into increasing
         wavelength.
     """
-    path = Path(path)
+    path = input_file(path, "filter file")
     where = f"filter file {str(path)!r}"
-    if not path.is_file():
-        raise InputError(f"{where} does not exist")
     unit = _parse_unit(str(wave_unit), where) if wave_unit is not None else None
     suffix = path.suffix.lower()
     if suffix == ".ecsv":
@@ -154,7 +154,11 @@ def read_band_file(path, wave_unit=None, name=None):
         if fmt:
             table = Table.read(path, format=fmt)
         else:
-            data = np.loadtxt(path, comments="#", dtype=float, ndmin=2)
+            with warnings.catch_warnings():  # an empty file is refused below, not warned about
+                warnings.simplefilter("ignore", UserWarning)
+                data = np.loadtxt(path, comments="#", dtype=float, ndmin=2)
+            if data.size == 0:
+                raise InputError(f"{where} holds no numbers; a text file needs two columns, wavelength and response")
             if data.shape[1] != 2:
                 raise InputError(f"{where}: a text file needs exactly two columns; found {data.shape[1]}")
             table = Table(data, names=("wavelength", "response"))
@@ -187,7 +191,7 @@ def write_band_file(band, path):
 
     table = Table({"wavelength": band.wave_um * u.um, "response": band.response})
     table.meta.update({"name": band.name, "convention": band.convention, "source": band.provenance})
-    with atomic_path(path, suffix=".ecsv") as tmp:
+    with atomic_path(path, suffix=".ecsv", named=True) as tmp:  # astropy writes to a file name
         table.write(tmp, format="ascii.ecsv", overwrite=True)
 
 
@@ -209,7 +213,12 @@ def _synthetic(kind, rest, spec):
         raise InputError(f"band={spec!r}: write {kind}:CENTRE_UM:{what}, e.g. {kind}:0.55:0.09")
     centre = check_finite(f"band={spec!r} centre", parts[0])
     width = check_finite(f"band={spec!r} width", parts[1])
-    return (tophat if kind == "tophat" else gaussian)(centre, width, name=spec)
+    try:
+        return (tophat if kind == "tophat" else gaussian)(centre, width, name=spec)
+    except InputError as exc:  # name the spec as written; the message gives the allowed range
+        if spec in str(exc):
+            raise
+        raise InputError(f"band={spec!r}: {exc}") from None
 
 
 def _load_one(spec):
@@ -247,6 +256,8 @@ def load_band(spec):
     if not spec:
         raise InputError("band='' is empty; give a band name (redcorr bands --list), file:PATH, tophat: or gauss:")
     parts = [p.strip() for p in spec.split("*")]
+    if not all(parts):
+        raise InputError(f"band={spec!r}: a product A*B needs a band on each side of every '*'")
     if len(parts) == 1:
         return _load_one(spec)
     return product(*(_load_one(p) for p in parts), name=spec)

@@ -1,6 +1,5 @@
 """Coefficient grids to and from ECSV files (written atomically)."""
 
-from pathlib import Path
 
 from astropy.table import Table
 
@@ -8,6 +7,7 @@ from redcorr import __version__
 from redcorr.coefficients import CoefficientGrid
 from redcorr.exceptions import InputError
 from redcorr.io._atomic import atomic_path, check_output_path
+from redcorr.io._files import input_file
 
 __all__ = ["write_coefficient_grid", "read_coefficient_grid"]
 
@@ -22,16 +22,14 @@ def write_coefficient_grid(grid, path, polynomial=None):
     out = check_output_path(path)
     table = grid.to_table(polynomial)
     table.meta["written_by"] = f"redcorr {__version__}"
-    with atomic_path(out, suffix=".ecsv") as tmp:
+    with atomic_path(out, suffix=".ecsv", named=True) as tmp:  # astropy writes to a file name
         table.write(tmp, format="ascii.ecsv", overwrite=True)
     return out
 
 
 def read_coefficient_grid(path):
     """Read a grid written by :func:`write_coefficient_grid`."""
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"grid file {str(path)!r} does not exist")
+    path = input_file(path, "grid file")
     try:
         table = Table.read(path, format="ascii.ecsv")
     except Exception as exc:  # astropy raises many types for malformed text

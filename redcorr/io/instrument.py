@@ -301,6 +301,8 @@ def load_instrument(spec):
     """
     if str(spec).strip().lower() == DEMO_INSTRUMENT:
         path = project_dir("demo") / "instrument.toml"
+    elif not str(spec).strip():
+        raise InputError(f"instrument description '' is empty; give a TOML file or {DEMO_INSTRUMENT!r}")
     else:
         path = Path(spec).expanduser()
     data = load_toml(path, what="instrument description")

@@ -43,6 +43,7 @@ import numpy as np
 
 from redcorr._validate import check_choice
 from redcorr.exceptions import InputError
+from redcorr.io._files import input_file
 from redcorr.io._toml import load_toml
 from redcorr.maps import HEALPIX_UNSEEN, HealpixReddeningMap, ImageReddeningMap, ImageTile
 
@@ -74,9 +75,7 @@ def _fits():
 
 
 def _open_fits(path):
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"map file {str(path)!r} does not exist")
+    path = input_file(path, "map file")
     try:
         hdul = _fits().open(path, memmap=True, mode="readonly")
         len(hdul)  # reads every header, so a broken file fails here

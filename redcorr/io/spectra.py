@@ -10,7 +10,6 @@ A source specification is one of ``blackbody:T`` (T in K), ``powerlaw:ALPHA``
   (F_ν, any scale).
 """
 
-from pathlib import Path
 
 import numpy as np
 from astropy import units as u
@@ -18,6 +17,7 @@ from astropy.table import Table
 
 from redcorr._validate import check_finite
 from redcorr.exceptions import InputError
+from redcorr.io._files import input_file
 from redcorr.sed import SED, TabulatedSED, blackbody, flat_fnu, power_law
 
 __all__ = ["load_sed", "read_sed_file"]
@@ -27,10 +27,8 @@ _FLAM = u.erg / u.s / u.cm**2 / u.AA
 
 def read_sed_file(path):
     """Read a tabulated spectrum (see the module docstring) as a `TabulatedSED` in F_λ."""
-    path = Path(path)
+    path = input_file(path, "spectrum file")
     where = f"spectrum file {str(path)!r}"
-    if not path.is_file():
-        raise InputError(f"{where} does not exist")
     suffix = path.suffix.lower()
     fmt = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv", ".fits": "fits", ".fit": "fits"}.get(suffix)
     if fmt is None:
@@ -82,10 +80,13 @@ def load_sed(spec):
     text = str(spec).strip()
     kind, _, arg = text.partition(":")
     kind = kind.lower()
-    if kind == "blackbody":
-        return blackbody(check_finite(f"sed={text!r} temperature", arg))
-    if kind == "powerlaw":
-        return power_law(check_finite(f"sed={text!r} alpha", arg))
+    try:  # name the spec as written; the message gives the allowed range
+        if kind == "blackbody":
+            return blackbody(check_finite("temperature", arg))
+        if kind == "powerlaw":
+            return power_law(check_finite("alpha", arg))
+    except InputError as exc:
+        raise InputError(f"sed={text!r}: {exc}") from None
     if kind == "flat" and not arg:
         return flat_fnu()
     if kind == "file":

@@ -24,7 +24,7 @@ def parse_frame(frame, name="frame"):
         return frame()
     cls = frame_transform_graph.lookup_name(str(frame).strip().lower())
     if cls is None:
-        check_choice(name, frame, sorted(frame_transform_graph.get_names()))
+        check_choice(name, frame, sorted(frame_transform_graph.get_names()), listed_by=None)
     return cls()
 
 

@@ -12,6 +12,10 @@ Formats
     Delimited text, optionally gzip-compressed (``.gz``). Read with the
     streaming reader of pyarrow. Lines starting with the comment character
     (``#`` by default) are skipped, before the header and between rows.
+    The text must be UTF-8 (a leading byte-order mark is skipped; CRLF line
+    ends are read). A row longer than the reader's block makes it read
+    again from the start with a larger block, so memory follows the
+    longest row, not the file.
 ``ecsv``
     Astropy's Enhanced CSV. The YAML header is read by astropy (names,
     types, units, meta); the body, a plain delimited table, is streamed by

@@ -58,6 +58,8 @@ class CatalogReader(abc.ABC):
         Column names, known before the first chunk is read.
     n_rows : int or None
         Number of rows if the format tells it up front (FITS, Parquet).
+    first_line : int or None
+        Line of the file holding the first row (1-based), for text formats.
     """
 
     def __init__(self, path, fmt, chunk_rows):
@@ -66,6 +68,7 @@ class CatalogReader(abc.ABC):
         self.chunk_rows = int(chunk_rows)
         self.columns = []
         self.n_rows = None
+        self.first_line = None
 
     def fraction_done(self):
         """Fraction of the input consumed so far, in [0, 1], or None if unknown."""

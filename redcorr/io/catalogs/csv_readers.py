@@ -1,8 +1,10 @@
 """Readers of delimited text: CSV (optionally gzip-compressed) and ECSV, streamed by pyarrow."""
 
+import codecs
 import gzip
 import io
 import re
+import zlib
 
 from redcorr.exceptions import InputError
 from redcorr.io.catalogs._base import CatalogReader, _check_unique, _rebatch
@@ -17,9 +19,43 @@ are inferred from the first block; a later cell that does not fit is handled by
 :class:`ColumnTypeError`."""
 
 
+_TEXT_CHECK_BYTES = 1 << 16
+"""Bytes at the start of a CSV file (after decompression) checked to be UTF-8 text."""
+
+_STRADDLING = "straddles two block boundaries"
+"""pyarrow's message for a row longer than a block; the reader then doubles its block size."""
+
+_DECOMPRESS_ERRORS = (OSError, EOFError, zlib.error)
+"""What reading a damaged gzip stream raises (``gzip.BadGzipFile`` is an OSError)."""
+
+
 def _is_gzip(path):
     with open(path, "rb") as fh:
         return fh.read(2) == b"\x1f\x8b"
+
+
+def _check_text(path, compressed):
+    """Raise InputError unless the start of ``path`` is UTF-8 text without NUL bytes.
+
+    pyarrow would otherwise report binary data as rows of the wrong length
+    (echoing the raw bytes), or fail inside its row callback. A leading
+    UTF-8 byte-order mark is text (common practice, no source).
+    """
+    opener = gzip.open if compressed else open
+    try:
+        with opener(path, "rb") as fh:
+            data = fh.read(_TEXT_CHECK_BYTES)
+    except _DECOMPRESS_ERRORS as exc:
+        raise InputError(f"input {str(path)!r} is not a valid gzip file: {exc}") from None
+    nul = data.find(b"\x00")
+    if nul >= 0:
+        raise InputError(f"input {str(path)!r} is not a text file (a NUL byte at offset {nul}); "
+                         "a text catalog (CSV, ECSV) must be UTF-8")
+    try:
+        codecs.getincrementaldecoder("utf-8")().decode(data, final=False)
+    except UnicodeDecodeError as exc:
+        raise InputError(f"input {str(path)!r} is not UTF-8 text (byte 0x{data[exc.start]:02x} at offset "
+                         f"{exc.start}); a text catalog (CSV, ECSV) must be UTF-8") from None
 
 
 class ColumnTypeError(Exception):
@@ -44,12 +80,14 @@ class _CsvReader(CatalogReader):
         pa = _pyarrow()
         self._delimiter = delimiter
         self._comment = comment
-        self._column_names = column_names
+        self._column_names = self._given_names = column_names
         self._size = self.path.stat().st_size
         compressed = _is_gzip(self.path)
+        _check_text(self.path, compressed)
         if skip_lines == 0 and comment:
             skip_lines = self._leading_comment_lines(compressed)
         self._skip_lines = skip_lines
+        self.first_line = skip_lines + (1 if column_names else 2)  # after the skipped lines (and header)
         numeric_columns, text_columns = set(numeric_columns), set(text_columns)
         self._numeric = [c for c in numeric_columns if c not in text_columns]
         names = (column_names or self._header_names()) if verbatim else None
@@ -63,32 +101,79 @@ class _CsvReader(CatalogReader):
             types.update(dict.fromkeys(self._numeric, pa.float64()))
             convert = pa.csv.ConvertOptions(column_types=types, strings_can_be_null=True)
         self._missing_words = pa.array(pa.csv.ConvertOptions().null_values, pa.string())
-        self._raw = pa.OSFile(str(self.path), "rb")
-        stream = pa.CompressedInputStream(self._raw, "gzip") if compressed else self._raw
-        read = pa.csv.ReadOptions(
-            block_size=_CSV_BLOCK_BYTES, skip_rows=skip_lines, column_names=column_names
-        )
-        parse = pa.csv.ParseOptions(delimiter=delimiter, invalid_row_handler=self._invalid_row)
-        try:
-            self._reader = pa.csv.open_csv(stream, read_options=read, parse_options=parse,
-                                           convert_options=convert)
-        except (pa.ArrowInvalid, OSError, EOFError) as exc:
-            self._raw.close()
-            raise self._read_error(exc) from None
+        self._compressed, self._block = compressed, _CSV_BLOCK_BYTES
+        self._convert = convert
+        self._raw, self._reader = self._open()
         self.columns = self._column_names = list(self._reader.schema.names)
-        _check_unique(self.columns, self.path)
+        try:
+            _check_unique(self.columns, self.path)
+            self._check_delimiter()
+        except InputError:
+            self._raw.close()
+            raise
+
+    def _check_delimiter(self):
+        """Raise InputError when a single column's name holds another common delimiter."""
+        if len(self.columns) != 1:
+            return
+        found = [d for d in ",;\t|" if d != self._delimiter and d in self.columns[0]]
+        if found:
+            raise InputError(
+                f"input {str(self.path)!r} has one column {self.columns[0]!r} with delimiter {self._delimiter!r}; "
+                f"is the delimiter {found[0]!r}? (the delimiter option, --delimiter on the command line)"
+            )
+
+    def _open(self):
+        """Open pyarrow's reader, doubling the block size until the first block holds a whole row.
+
+        Returns ``(raw file, reader)``. Memory is thus bounded by the longest
+        row, not the file.
+        """
+        pa = _pyarrow()
+        parse = pa.csv.ParseOptions(delimiter=self._delimiter, invalid_row_handler=self._invalid_row)
+        while True:
+            raw = pa.OSFile(str(self.path), "rb")
+            stream = pa.CompressedInputStream(raw, "gzip") if self._compressed else raw
+            read = pa.csv.ReadOptions(block_size=self._block, skip_rows=self._skip_lines,
+                                      column_names=self._given_names)
+            try:
+                return raw, pa.csv.open_csv(stream, read_options=read, parse_options=parse,
+                                            convert_options=self._convert)
+            except (pa.ArrowInvalid, OSError, EOFError) as exc:
+                raw.close()
+                if _STRADDLING not in str(exc):
+                    raise self._read_error(exc) from None
+                self._block *= 2
+
+    def _reopen(self):
+        """Read again from the start with a larger block and the same column types.
+
+        After a row longer than the block, the caller drops the rows it has
+        already yielded (counting them is exact, whereas pyarrow's
+        ``skip_rows_after_names`` also counts skipped comment lines).
+        """
+        pa = _pyarrow()
+        schema = self._reader.schema
+        self._raw.close()
+        self._convert = pa.csv.ConvertOptions(
+            column_types=dict(zip(schema.names, schema.types, strict=True)),
+            strings_can_be_null=self._convert.strings_can_be_null,
+            quoted_strings_can_be_null=self._convert.quoted_strings_can_be_null)
+        self._block *= 2
+        self._raw, self._reader = self._open()
 
     def _leading_comment_lines(self, compressed):
         opener = gzip.open if compressed else open
         count = 0
         try:
-            with opener(self.path, "rt", encoding="utf-8", errors="replace") as fh:
+            # utf-8-sig: a byte-order mark before the first "#" does not hide the comment
+            with opener(self.path, "rt", encoding="utf-8-sig", errors="replace") as fh:
                 for line in fh:
                     if line.startswith(self._comment) or not line.strip():
                         count += 1
                     else:
                         break
-        except (OSError, EOFError) as exc:
+        except _DECOMPRESS_ERRORS as exc:
             raise InputError(f"input {str(self.path)!r} could not be read: {exc}") from None
         return count
 
@@ -140,6 +225,12 @@ class _CsvReader(CatalogReader):
 
     def _read_error(self, exc):
         text = str(exc)
+        match = re.search(r"In CSV column #(\d+): .*invalid UTF8", text)
+        if match:
+            names = self._column_names or self._header_names()
+            index = int(match.group(1))
+            return InputError(f"input {str(self.path)!r}: column {names[index] if index < len(names) else index!r} "
+                              "has bytes that are not UTF-8 text; a text catalog (CSV, ECSV) must be UTF-8")
         match = re.search(r"In CSV column #(\d+): .*conversion error", text)
         if match:
             names = self._column_names or self._header_names()
@@ -163,13 +254,22 @@ class _CsvReader(CatalogReader):
 
     def _batches(self):
         pa = _pyarrow()
+        done, skip = 0, 0  # rows yielded; rows of a reopened reader already yielded
         while True:
             try:
                 batch = self._reader.read_next_batch()
             except StopIteration:
                 return
             except (pa.ArrowInvalid, OSError, EOFError) as exc:
-                raise self._read_error(exc) from None
+                if _STRADDLING not in str(exc):
+                    raise self._read_error(exc) from None
+                self._reopen()
+                skip = done
+                continue
+            if skip:
+                dropped = min(skip, batch.num_rows)
+                batch, skip = batch.slice(dropped), skip - dropped
+            done += batch.num_rows
             yield batch
 
     def _tables(self):
@@ -188,13 +288,19 @@ def _ecsv_header(path, compressed):
     from astropy.io.misc import yaml  # noqa: PLC0415
     from astropy.table import Table  # noqa: PLC0415
 
+    _check_text(path, compressed)
     opener = gzip.open if compressed else open
     lines = []
-    with opener(path, "rt", encoding="utf-8") as fh:
-        for line in fh:
-            lines.append(line)
-            if not line.startswith("#") and line.strip():
-                break  # the column-name line ends the header
+    try:
+        with opener(path, "rt", encoding="utf-8-sig") as fh:
+            for line in fh:
+                lines.append(line)
+                if not line.startswith("#") and line.strip():
+                    break  # the column-name line ends the header
+    except UnicodeDecodeError as exc:
+        raise InputError(f"input {str(path)!r}: its header is not UTF-8 text ({exc.reason})") from None
+    except _DECOMPRESS_ERRORS as exc:
+        raise InputError(f"input {str(path)!r} could not be read: {exc}") from None
     if not lines or not lines[0].startswith("# %ECSV"):
         raise InputError(f"input {str(path)!r} is not ECSV: it does not start with '# %ECSV'")
     try:

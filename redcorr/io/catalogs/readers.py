@@ -1,5 +1,6 @@
 """Opening a catalog: :func:`open_catalog` picks the reader of the format; FITS and Parquet readers."""
 
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -19,31 +20,48 @@ class _FitsReader(CatalogReader):
         from astropy.io import fits  # noqa: PLC0415
 
         super().__init__(path, fmt, chunk_rows)
-        try:
-            self._hdul = fits.open(self.path, memmap=True)
-        except (OSError, ValueError) as exc:
-            raise InputError(f"input {str(path)!r} could not be opened as FITS: {exc}") from None
-        tables = [h for h in self._hdul if isinstance(h, fits.BinTableHDU)]
-        if hdu is not None:
+        # astropy warns of cut-off or damaged files while they are opened and inspected: record
+        # every warning ("always", so one already shown elsewhere in this process is recorded too);
+        # a refused file then gives one line, and a whole file hands its warnings to the caller
+        with warnings.catch_warnings(record=True) as damaged:
+            warnings.simplefilter("always")
             try:
-                self._hdu = self._hdul[hdu]
-            except (KeyError, IndexError):
+                self._hdul = fits.open(self.path, memmap=True)
+                tables = [h for h in self._hdul if isinstance(h, fits.BinTableHDU)]
+            except (OSError, ValueError) as exc:
+                raise InputError(f"input {str(path)!r} could not be opened as FITS: {exc}") from None
+            if damaged and not tables:
                 self._hdul.close()
-                raise InputError(f"hdu={hdu!r} is not in {str(path)!r}") from None
-        elif tables:
-            self._hdu = tables[0]
-        else:
-            self._hdul.close()
-            raise InputError(f"input {str(path)!r} has no FITS binary table")
-        self.columns = list(self._hdu.columns.names)
-        _check_unique([c.lower() for c in self.columns], self.path)
-        multi = [c.name for c in self._hdu.columns if c.dim or (c.format.repeat > 1 and "A" not in c.format)]
-        if multi:
-            raise InputError(
-                f"input {str(path)!r} has vector columns {multi}; only scalar columns are supported"
-            )
-        self.n_rows = int(self._hdu.header.get("NAXIS2", 0))
-        self._done = 0
+                raise InputError(f"input {str(path)!r} is a damaged or truncated FITS file: "
+                                 f"{str(damaged[0].message).splitlines()[0]}")
+            if hdu is not None:
+                try:
+                    self._hdu = self._hdul[hdu]
+                except (KeyError, IndexError):
+                    self._hdul.close()
+                    raise InputError(f"hdu={hdu!r} is not in {str(path)!r}") from None
+            elif tables:
+                self._hdu = tables[0]
+            else:
+                self._hdul.close()
+                raise InputError(f"input {str(path)!r} has no FITS binary table")
+            self.columns = list(self._hdu.columns.names)
+            _check_unique([c.lower() for c in self.columns], self.path)
+            multi = [c.name for c in self._hdu.columns if c.dim or (c.format.repeat > 1 and "A" not in c.format)]
+            if multi:
+                raise InputError(
+                    f"input {str(path)!r} has vector columns {multi}; only scalar columns are supported"
+                )
+            self.n_rows = int(self._hdu.header.get("NAXIS2", 0))
+            self._done = 0
+            header = self._hdu.header
+            needed = self._hdu.fileinfo()["datLoc"] + header.get("NAXIS1", 0) * self.n_rows + header.get("PCOUNT", 0)
+            if needed > self.path.stat().st_size:
+                self._hdul.close()
+                raise InputError(f"input {str(path)!r} is a truncated FITS file: its table needs {needed} bytes, "
+                                 f"the file has {self.path.stat().st_size}")
+        for caught in damaged:  # a whole file: its warnings are the caller's
+            warnings.warn(caught.message, stacklevel=3)
 
     def fraction_done(self):
         return self._done / self.n_rows if self.n_rows else 1.0

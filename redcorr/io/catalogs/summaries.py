@@ -16,10 +16,21 @@ def summary_path(output):
     return output.with_name(output.name + ".summary.json")
 
 
-def write_summary(summary, output):
-    """Write a run summary (a JSON-ready dict) beside ``output``, atomically; return its path."""
+def write_summary(summary, output, *, overwrite=True, group=None):
+    """Write a run summary (a JSON-ready dict) beside ``output``, atomically; return its path.
+
+    Parameters
+    ----------
+    summary : dict
+    output : path-like
+        The output the summary describes.
+    overwrite : bool
+        Replace an existing summary.
+    group : object from :func:`redcorr.io.output_group`, optional
+        Place the summary together with the output.
+    """
     target = summary_path(output)
-    with atomic_path(target) as tmp:
+    with atomic_path(target, overwrite=overwrite, group=group) as tmp:
         Path(tmp).write_text(json.dumps(_json_clean(summary), indent=2, allow_nan=False) + "\n")
     return target
 

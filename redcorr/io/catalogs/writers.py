@@ -5,14 +5,13 @@ import concurrent.futures
 import io
 import json
 import shutil
-import tempfile
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from redcorr.exceptions import InputError
-from redcorr.io._atomic import atomic_path, check_output_path
+from redcorr.io._atomic import _temp_name, atomic_path, check_output_path
 from redcorr.io.catalogs.formats import (
     _arrow_schema,
     _int_as_nullable,
@@ -43,7 +42,8 @@ class _FitsSpool:
 
     def __init__(self, target, schema):
         pa = _pyarrow()
-        self.dir = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".spool", dir=target.parent))
+        self.dir = _temp_name(target, "spool")  # names its owner, removed by a later run if this one is killed
+        self.dir.mkdir()
         self.schema = schema
         self.files = []
         self.rows = 0
@@ -168,6 +168,9 @@ class CatalogWriter:
         Input files; the output may never be one of them.
     delimiter : str
         CSV delimiter.
+    group : object from :func:`redcorr.io.output_group`, optional
+        Place the output with the others of the group (a catalog and its
+        summary appear together or not at all).
     meta : dict, optional
         Stored in the ECSV header, the FITS header (as COMMENT cards) or the
         Parquet schema metadata, as JSON.
@@ -186,10 +189,11 @@ class CatalogWriter:
     """
 
     def __init__(self, path, *, fmt=None, overwrite=False, inputs=(), delimiter=",", meta=None, computed=(),
-                 verbatim=False):
+                 verbatim=False, group=None):
         self.path = Path(path)
         self.format = detect_format(self.path, fmt) if fmt or self.path.suffix else "parquet"
         self._overwrite = overwrite
+        self._group = group
         self._inputs = list(inputs)
         self._delimiter = delimiter
         self._meta = dict(meta or {})
@@ -213,7 +217,9 @@ class CatalogWriter:
         check_output_path(self.path, overwrite=self._overwrite, inputs=self._inputs)
         if self.path.is_dir():
             raise InputError(f"output={str(self.path)!r} is a folder; give a file name")
-        self._atomic = atomic_path(self.path)
+        # FITS is written by astropy, which needs a real file name
+        self._atomic = atomic_path(self.path, overwrite=self._overwrite, group=self._group,
+                                   named=self.format == "fits")
         self._tmp = self._atomic.__enter__()
         return self
 

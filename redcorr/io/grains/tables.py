@@ -18,14 +18,13 @@ from astropy.table import Table
 
 from redcorr.exceptions import InputError
 from redcorr.grains import OpticalConstants, TabulatedSizes
+from redcorr.io._files import input_file
 
 __all__ = ["packaged_optical_constants", "wd01_table", "read_optical_constants", "read_size_table"]
 
 
 def _read_table(path, what):
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"{what} {str(path)!r} does not exist")
+    path = input_file(path, what)
     fmt = "ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv"
     try:
         return Table.read(path, format=fmt)
