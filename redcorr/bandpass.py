@@ -31,10 +31,15 @@ from astropy import units as u
 from redcorr._validate import check_positive, shown
 from redcorr.exceptions import InputError, TruncatedBandWarning
 
-__all__ = ["Band", "CONVENTIONS", "tophat", "gaussian", "product"]
+__all__ = ["Band", "CONVENTIONS", "WAVE_LIMITS_UM", "tophat", "gaussian", "product"]
 
 CONVENTIONS = ("photon", "energy")
 """Allowed detector conventions of a band."""
+
+WAVE_LIMITS_UM = (1.0e-4, 1.0e5)
+"""Wavelengths (µm) a band's samples may lie at: 1 Å to 10 cm, beyond every ultraviolet to
+far-infrared filter, so that a typo (a width in Å taken as µm, say) is refused before its
+integrals overflow (common practice, no source)."""
 
 _MIN_SAMPLES = 3
 _EDGE_FRACTION = 0.01  # response above this fraction of the peak at an end means "cut off"
@@ -115,8 +120,13 @@ class Band:
             raise InputError(f"band {name!r}: needs at least {_MIN_SAMPLES} samples; got {w.size}")
         if not np.all(np.isfinite(w)):
             raise InputError(f"band {name!r}: wavelength {w[~np.isfinite(w)][0]} is not finite")
-        if np.any(w <= 0):
-            raise InputError(f"band {name!r}: wavelength {w[w <= 0][0]:g} µm is not positive")
+        lo, hi = WAVE_LIMITS_UM
+        outside = (w < lo) | (w > hi)
+        if np.any(outside):
+            raise InputError(
+                f"band {name!r}: wavelength {w[outside][0]:g} µm is outside [{lo:g}, {hi:g}] µm, "
+                "the span a filter curve may cover here"
+            )
         if not np.all(np.isfinite(t)):
             i = int(np.flatnonzero(~np.isfinite(t))[0])
             raise InputError(f"band {name!r}: response {t[i]} at {w[i]:.6g} µm is not finite")

@@ -124,7 +124,9 @@ def test_product_refuses_mixed_conventions_and_disjoint_bands():
         ([0.5, 0.6, 0.7], [0, np.inf, 0], "not finite"),
         ([0.5, 0.6], [0, 1], "at least 3"),
         ([0.5, 0.6, 0.7], [0, 0, 0], "zero everywhere"),
-        ([-0.5, 0.6, 0.7], [0, 1, 0], "not positive"),
+        ([-0.5, 0.6, 0.7], [0, 1, 0], "outside"),
+        ([1e-300, 2e-300, 3e-300], [0, 1, 0], "outside"),
+        ([0.5, 0.6, 1e300], [0, 1, 0], "outside"),
     ],
 )
 def test_band_validation(wave, resp, match):

@@ -27,6 +27,7 @@ from redcorr.io.catalogs import (
     CatalogWriter,
     ColumnTypeError,
     PandasLikeColumns,
+    check_csv_marks,
     detect_format,
     open_catalog,
     round_for_text,
@@ -209,6 +210,7 @@ def _dask_input(input_path, in_format, delimiter, comment, numeric, text=()):
         raise InputError(f"input {location!r} matches no file")
     if detect_format(files[0], in_format) != "csv":
         raise InputError(f"input {location!r}: the dask engine reads Parquet datasets or CSV files/globs")
+    check_csv_marks(delimiter, comment)
     dtype = {c: "float64" for c in numeric if c not in text} | {c: "str" for c in text}
     ddf = dd.read_csv(files, sep=delimiter, comment=comment or None, dtype=dtype, blocksize="64MB")
     return ddf, files

@@ -60,7 +60,7 @@ from redcorr._constants import DEFAULT_CHUNK_ROWS
 from redcorr.io.catalogs._base import CatalogReader
 from redcorr.io.catalogs.csv_readers import ColumnTypeError
 from redcorr.io.catalogs.formats import FORMATS, TEXT_DECIMALS, PandasLikeColumns, detect_format, round_for_text
-from redcorr.io.catalogs.readers import open_catalog, read_catalog
+from redcorr.io.catalogs.readers import check_csv_marks, open_catalog, read_catalog
 from redcorr.io.catalogs.summaries import summary_path, write_summary
 from redcorr.io.catalogs.writers import CatalogWriter, write_catalog
 
@@ -71,6 +71,7 @@ __all__ = [
     "CatalogReader",
     "CatalogWriter",
     "ColumnTypeError",
+    "check_csv_marks",
     "detect_format",
     "open_catalog",
     "PandasLikeColumns",

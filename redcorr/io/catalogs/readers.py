@@ -12,7 +12,7 @@ from redcorr.io.catalogs._base import CatalogReader, _check_unique, _rebatch
 from redcorr.io.catalogs.csv_readers import _CsvReader, _EcsvReader
 from redcorr.io.catalogs.formats import _int_as_nullable, _pyarrow, detect_format
 
-__all__ = ["open_catalog", "read_catalog"]
+__all__ = ["check_csv_marks", "open_catalog", "read_catalog"]
 
 
 class _FitsReader(CatalogReader):
@@ -141,6 +141,14 @@ class _ParquetReader(CatalogReader):
             yield table.to_pandas(types_mapper=_int_as_nullable)
 
 
+def check_csv_marks(delimiter, comment):
+    """Refuse a CSV delimiter or comment mark that is not one character (``comment`` may be empty: none)."""
+    if len(delimiter) != 1:
+        raise InputError(f"delimiter={delimiter!r} must be one character")
+    if comment and len(comment) != 1:
+        raise InputError(f"comment={comment!r} must be one character, or empty for no comment lines")
+
+
 def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=",", comment="#",
                  numeric_columns=(), text_columns=(), hdu=None, verbatim=False):
     """Open a catalog for reading in chunks.
@@ -184,8 +192,10 @@ def open_catalog(path, *, fmt=None, chunk_rows=DEFAULT_CHUNK_ROWS, delimiter=","
         raise InputError(f"input {str(path)!r} is a folder; only Parquet datasets can be folders")
     if fmt == "csv" and path.stat().st_size == 0:
         raise InputError(f"input {str(path)!r} is empty: no header line with column names")
-    if fmt == "csv" and len(delimiter) != 1:
-        raise InputError(f"delimiter={delimiter!r} must be one character")
+    if fmt == "csv":
+        check_csv_marks(delimiter, comment)
+    if hdu is not None and fmt != "fits":
+        raise InputError(f"hdu={hdu!r} is for FITS input; {str(path)!r} is read as {fmt}")
     if verbatim and fmt != "csv":
         raise ValueError(f"verbatim reading is for CSV input, not {fmt}")
     kinds = {"csv": _CsvReader, "ecsv": _EcsvReader, "fits": _FitsReader, "parquet": _ParquetReader}
