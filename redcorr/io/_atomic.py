@@ -6,7 +6,7 @@ is opened with ``O_TMPFILE``: it has no name, so it vanishes with the
 process however that ends (even SIGKILL), and it is linked into place at
 the end (``linkat`` through ``/proc/self/fd``; open(2), common practice,
 no source). Where ``O_TMPFILE`` is unsupported, or a library needs a real
-file name, the temporary is named ``.NAME.redcorr-PID-XXXXXX.part…``; a
+file name, the temporary is named ``.NAME.redcorr-PID-xxxxxx.part…``; a
 later run in the same folder removes such names whose process is gone.
 
 Without overwriting, the final placement is a hard link, which fails if
@@ -71,7 +71,7 @@ def _alive(pid):
 def remove_stale(folder):
     """Remove temporaries left in ``folder`` by redcorr processes that no longer run.
 
-    Only names of the form ``.NAME.redcorr-PID-XXXXXX.part…`` (also
+    Only names of the form ``.NAME.redcorr-PID-xxxxxx.part…`` (also
     ``.spool`` and ``.old``) whose PID is not a live process are touched.
 
     Parameters
@@ -252,21 +252,6 @@ class _Group:
 
     def __init__(self):
         self.pending = []
-
-    def _link(self, source, dest):
-        """Hard-link ``source`` to ``dest``; an unnamed file through ``linkat(AT_SYMLINK_FOLLOW)``.
-
-        ``os.link`` calls plain ``link`` (which does not follow the
-        ``/proc/self/fd`` link) unless a directory descriptor is given.
-        """
-        if self.fd is None:
-            os.link(source, dest)
-            return
-        proc = os.open("/proc", os.O_RDONLY | os.O_DIRECTORY)
-        try:
-            os.link(f"self/fd/{self.fd}", dest, src_dir_fd=proc, follow_symlinks=True)
-        finally:
-            os.close(proc)
 
     def place(self):
         placed = []
