@@ -3,9 +3,9 @@
 import sys
 
 try:
-    from redcorr.cli import main
+    from redcorr.cli import console
 except KeyboardInterrupt:
     print("redcorr: interrupted", file=sys.stderr)
     sys.exit(130)
 
-sys.exit(main())
+console()

@@ -258,3 +258,21 @@ def test_permission_denied_while_reading_is_the_environment(tmp_path, monkeypatc
     assert main(["correct", str(src), str(tmp_path / "out.csv"), *ARGS]) == 3
     assert capsys.readouterr().err == f"redcorr correct: error: {str(src)!r}: Permission denied\n"
     assert os.listdir(tmp_path) == ["in.csv"]
+
+
+def test_a_second_signal_cannot_cut_the_clean_up_short():
+    # After the first SIGINT/SIGTERM/SIGHUP the others are ignored until main() restores the
+    # handlers, so the clean-up that removes temporaries runs to its end (POSIX signal
+    # semantics; common practice, no source).
+    from redcorr import cli
+
+    previous = cli._catch_signals()
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            os.kill(os.getpid(), signal.SIGTERM)
+            time.sleep(1.0)  # the handler runs at the next bytecode boundary
+        assert all(signal.getsignal(sig) is signal.SIG_IGN for sig in previous)
+        os.kill(os.getpid(), signal.SIGHUP)  # ignored: nothing is raised
+    finally:
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)

@@ -44,7 +44,7 @@ import warnings
 
 from redcorr.exceptions import InputError, RedcorrWarning
 
-__all__ = ["main", "build_parser", "COMMANDS"]
+__all__ = ["main", "console", "build_parser", "COMMANDS"]
 
 COMMANDS = tuple(
     sorted(m.name for m in pkgutil.iter_modules(__path__) if not m.name.startswith("_"))
@@ -68,8 +68,18 @@ def _show_warning(message, category, filename, lineno, file=None, line=None):
     print(f"redcorr: warning: {message}", file=sys.stderr)
 
 
+_SIGNALS = tuple(sig for sig in (getattr(signal, n, None) for n in ("SIGINT", "SIGTERM", "SIGHUP")) if sig)
+"""Signals that stop a run the way Ctrl-C does."""
+
+
 def _interrupt(signum, frame):
-    """Signal handler: stop the main thread as Ctrl-C does, so that clean-up code runs."""
+    """Signal handler: stop the main thread as Ctrl-C does, so that clean-up code runs.
+
+    Once: later signals are ignored, so that a second one cannot cut the
+    clean-up (removing temporaries) short; ``main`` restores the handlers.
+    """
+    for sig in _SIGNALS:
+        signal.signal(sig, signal.SIG_IGN)
     raise KeyboardInterrupt
 
 
@@ -77,8 +87,7 @@ def _catch_signals():
     """Treat SIGTERM and SIGHUP as SIGINT; return the previous handlers, to restore."""
     if threading.current_thread() is not threading.main_thread():
         return {}
-    names = ("SIGINT", "SIGTERM", "SIGHUP")
-    return {sig: signal.signal(sig, _interrupt) for sig in (getattr(signal, n, None) for n in names) if sig}
+    return {sig: signal.signal(sig, _interrupt) for sig in _SIGNALS}
 
 
 def _environment_problem(exc):
@@ -91,6 +100,22 @@ def _environment_problem(exc):
     if exc.filename is None:  # pyarrow's message names the path
         return str(exc)
     return f"{str(exc.filename)!r}: {os.strerror(code)}"
+
+
+def console():
+    """Entry point of the ``redcorr`` program and ``python -m redcorr``: exit with :func:`main`'s status.
+
+    After an interrupt, the run has already removed its temporaries on the
+    way out; the process then ends at once (``os._exit``), without waiting
+    for worker threads of the libraries that an interrupt may have left
+    blocked, which could otherwise keep it alive.
+    """
+    status = main()
+    if status == 130:
+        sys.stdout.flush()
+        sys.stderr.flush()
+        os._exit(130)
+    sys.exit(status)
 
 
 def main(argv=None):
