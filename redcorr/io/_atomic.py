@@ -302,6 +302,26 @@ def output_group():
 
 
 @contextlib.contextmanager
+def _placed(pending, target, group):
+    """Run the block; then place ``pending`` (or hand it to ``group``); discard it on any failure.
+
+    A failure of the environment (disk full, permissions) is re-raised naming ``target``.
+    """
+    try:
+        yield
+        if group is None:
+            pending.place()
+        else:
+            group.pending.append(pending)
+    except BaseException as exc:
+        pending.discard()
+        problem = environment_error(exc, target)
+        if problem is not None:
+            raise problem from exc
+        raise
+
+
+@contextlib.contextmanager
 def atomic_path(path, suffix=None, *, overwrite=True, group=None, named=False):
     """Yield a temporary path for ``path``; place it under ``path`` on success.
 
@@ -341,18 +361,8 @@ def atomic_path(path, suffix=None, *, overwrite=True, group=None, named=False):
         if problem is not None:
             raise problem from exc
         raise
-    try:
+    with _placed(pending, target, group):
         yield pending.path
-        if group is None:
-            pending.place()
-        else:
-            group.pending.append(pending)
-    except BaseException as exc:
-        pending.discard()
-        problem = environment_error(exc, target)
-        if problem is not None:
-            raise problem from exc
-        raise
 
 
 @contextlib.contextmanager
@@ -380,15 +390,5 @@ def atomic_folder(path, *, overwrite=False, group=None):
         raise InputError(f"output={str(path)!r}: folder {str(target.parent)!r} does not exist")
     remove_stale(target.parent)
     pending = _PendingFolder(target, overwrite)
-    try:
+    with _placed(pending, target, group):
         yield pending.tmp
-        if group is None:
-            pending.place()
-        else:
-            group.pending.append(pending)
-    except BaseException as exc:
-        pending.discard()
-        problem = environment_error(exc, target)
-        if problem is not None:
-            raise problem from exc
-        raise

@@ -4,7 +4,7 @@ import contextlib
 import hashlib
 import json
 import os
-import tempfile
+import secrets
 import zipfile
 from pathlib import Path
 
@@ -53,7 +53,8 @@ class GridCache:
         target = self.path(key)
         try:
             self.directory.mkdir(parents=True, exist_ok=True)
-            fd, tmp = tempfile.mkstemp(prefix=f".{target.stem[:16]}.", suffix=".part", dir=self.directory)
+            tmp = self.directory / f".{target.stem[:16]}.{os.getpid()}.{secrets.token_hex(4)}.part"
+            fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)  # mode from the umask
         except OSError:
             return  # a read-only or missing cache folder only costs speed
         try:
