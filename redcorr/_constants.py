@@ -16,6 +16,8 @@ CORRECTION_FLAGS = {
     "outside_curve": 16,
     "map_coverage": 32,
     "not_converged": 64,
+    "beyond_map": 128,
+    "no_distance": 256,
 }
 """dict: name → value of each bit of a correction's ``dered_flags`` column (``redcorr.correction.flags``)."""
 
@@ -27,7 +29,7 @@ DEFAULT_CHUNK_ROWS = 65_536
 flight (read ahead, being corrected, being written) stay small beside the program itself
 (``redcorr.io.catalogs``)."""
 
-MAP_FLAGS = {"outside": 1, "blank": 2, "partial": 4, "no-position": 8}
+MAP_FLAGS = {"outside": 1, "blank": 2, "partial": 4, "no-position": 8, "beyond": 16, "no-distance": 32}
 """dict: name → value of each bit of a dust map's lookup flags (``redcorr.maps``); not the bits of
 ``CORRECTION_FLAGS``."""
 

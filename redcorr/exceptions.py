@@ -16,6 +16,7 @@ __all__ = [
     "OutOfRangeWarning",
     "TruncatedBandWarning",
     "ThroughputWarning",
+    "DistanceIgnoredWarning",
 ]
 
 
@@ -52,3 +53,7 @@ class TruncatedBandWarning(RedcorrWarning):
 
 class ThroughputWarning(RedcorrWarning):
     """An instrument's system throughput looks normalised rather than absolute (exposure planning)."""
+
+
+class DistanceIgnoredWarning(RedcorrWarning):
+    """A distance was given for a map without distances: it gives the whole sight line's reddening."""

@@ -330,6 +330,27 @@ def test_threaded_chunks_give_the_single_thread_result(monkeypatch, with_nan):
         assert {0, FLAG_BLANK} <= set(np.unique(f1))
 
 
+def test_a_position_gets_the_same_bits_alone_as_in_a_batch():
+    # A catalog's rows are looked up in chunks (stream engine) or partitions (Dask) of any size;
+    # a row's value must not depend on which rows come with it. The batch here mixes positions
+    # whose four neighbours all have data with positions beside blank pixels (whose weights are
+    # renormalised), which once made the others' sums take a different path. Bitwise identity is
+    # what is tested.
+    values = healpix_values(16, "ring")
+    values[::7] = np.nan
+    hp_map = HealpixReddeningMap(values, 16, "ring", frame="galactic")
+    wcs, shape = car_wcs(2.0)
+    image = image_values(wcs, shape)
+    image[::5, ::3] = np.nan
+    im_map = ImageReddeningMap([ImageTile(image, wcs)])
+    lon, lat = _random_sky(300, seed=4)
+    for dust_map in (hp_map, im_map):
+        batch, flags = dust_map.lookup(lon, lat, "icrs")
+        assert {0, FLAG_PARTIAL} <= set(np.unique(flags))
+        alone = np.array([dust_map.lookup(lon[i], lat[i], "icrs")[0] for i in range(lon.size)])
+        np.testing.assert_array_equal(batch, alone)
+
+
 def test_scalar_in_scalar_out_and_broadcasting():
     hp_map = HealpixReddeningMap(np.full(12, 0.25), 1, "ring", scale=2.0)
     value, flag = hp_map.lookup(10.0, 20.0)

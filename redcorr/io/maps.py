@@ -1,4 +1,4 @@
-"""Read dust maps from disk: HEALPix FITS tables, FITS images with a WCS, map descriptions.
+"""Read dust maps from disk: HEALPix FITS tables, FITS images with a WCS (or cubes over distance), map descriptions.
 
 Files are opened memory-mapped: a large map costs address space, not RAM,
 and only the pixels looked up are read.
@@ -20,6 +20,30 @@ FITS image
     Images whose projection is zenithal and centred on a pole answer only
     for that pole's hemisphere when they are one of several (the usual
     hemisphere pair); a description file can say otherwise.
+Distance-resolved (3D) maps
+    Hold, per pixel, the **cumulative** E(B-V) (or A_V) from the Sun out to
+    each of n distances d_1 < ... < d_n (pc).
+
+    * HEALPix: the table above (same header keys, full or partial sky) whose
+      value column is a vector column of n values per row (TFORM ``nE`` or
+      ``nD``), one row per pixel (per ``PIXEL`` entry for a partial map),
+      plus a second binary table HDU with ``EXTNAME = 'DISTANCES'`` holding
+      one column ``DISTANCE`` (n rows, ``TUNIT = 'pc'``). A file with a
+      ``DISTANCES`` HDU is distance-resolved; without it, vector cells of a
+      full-sky map still mean consecutive pixels.
+    * Image: a 3-axis FITS cube ``data[k, y, x]`` (NAXIS3 = n) whose first
+      two WCS axes are celestial and whose third is distance, linear:
+      d_k = CRVAL3 + CDELT3·(k + 1 − CRPIX3) with ``CUNIT3 = 'pc'`` (CD3_3
+      or PC3_3 as the FITS WCS rules say; no cross terms with the celestial
+      axes). When the spacing is not linear, the same ``DISTANCES`` table in
+      the file gives the planes' distances (and wins over the third axis). A
+      cube with NAXIS3 > 1 and neither is refused; NAXIS3 = 1 without a
+      length unit is a plain 2-d image.
+    * Distances must be numeric, finite, > 0 and strictly increasing; the
+      unit must be a length (pc, or kpc etc., converted to pc on reading; a
+      DISTANCE column without TUNIT is refused). Between distances, and
+      from 0 at distance 0 to d_1, lookups interpolate linearly (see
+      :mod:`redcorr.maps`). All images of one map share the same distances.
 Map description (TOML, ``.toml``)
     Names a map once. Keys (all optional except ``files``)::
 
@@ -35,6 +59,10 @@ Map description (TOML, ``.toml``)
         # path = "north.fits"
         # hemisphere = "north"       # "north", "south" or "all" (images)
         # hdu = 1                    # which HDU (default: the first that is a map)
+
+    The same keys describe 2D and distance-resolved maps (the files say
+    which); the images of one description must all be 2D or all cubes over
+    the same distances.
 """
 
 from pathlib import Path
@@ -45,7 +73,7 @@ from redcorr._validate import check_choice
 from redcorr.exceptions import InputError
 from redcorr.io._files import input_file
 from redcorr.io._toml import load_toml
-from redcorr.maps import HEALPIX_UNSEEN, HealpixReddeningMap, ImageReddeningMap, ImageTile
+from redcorr.maps import HEALPIX_UNSEEN, HealpixReddeningMap, ImageReddeningMap, ImageTile, check_distances
 
 __all__ = ["open_map", "read_healpix_table", "read_image_map", "read_map_description", "DESCRIPTION_KEYS"]
 
@@ -66,6 +94,8 @@ _COORDSYS = {
 }
 _PIXEL_COLUMNS = ("PIXEL", "PIXEL_INDEX", "IPIX", "HPX_INDEX")
 _ZENITHAL = ("AZP", "SZP", "TAN", "STG", "SIN", "ARC", "ZPN", "ZEA", "AIR")
+_DISTANCES_HDU = "DISTANCES"
+_DISTANCE_COLUMN = "DISTANCE"
 
 
 def _fits():
@@ -93,7 +123,7 @@ def _header_value(key, *headers):
 
 def _is_healpix(hdu, primary):
     fits = _fits()
-    if not isinstance(hdu, (fits.BinTableHDU, fits.TableHDU)):
+    if not isinstance(hdu, (fits.BinTableHDU, fits.TableHDU)) or hdu.name.upper() == _DISTANCES_HDU:
         return False
     pixtype = str(_header_value("PIXTYPE", hdu.header, primary) or "").strip().upper()
     return pixtype == "HEALPIX" or _header_value("NSIDE", hdu.header, primary) is not None
@@ -162,6 +192,89 @@ def _column_index(table, column, path):
     return upper.index(key)
 
 
+def _length_to_pc(unit_text, what, path):
+    """Factor from the length unit ``unit_text`` (FITS spelling) to pc, or InputError naming ``what``."""
+    from astropy import units as u  # noqa: PLC0415
+
+    try:
+        unit = u.Unit(str(unit_text).strip(), format="fits")
+        return float(unit.to(u.pc))
+    except (ValueError, TypeError, u.UnitsError):
+        raise InputError(
+            f"map file {str(path)!r}: {what}={str(unit_text).strip()!r} is not a length; distances in 'pc' "
+            "(or another length unit such as 'kpc') are needed"
+        ) from None
+
+
+def _distances_table(hdul, path):
+    """Distances (pc) from the file's DISTANCES table, or None when it has none."""
+    fits = _fits()
+    if _DISTANCES_HDU not in hdul:
+        return None
+    hdu = hdul[_DISTANCES_HDU]
+    where = f"map file {str(path)!r}: the {_DISTANCES_HDU} HDU"
+    if not isinstance(hdu, (fits.BinTableHDU, fits.TableHDU)):
+        raise InputError(f"{where} is not a table; a binary table with one column {_DISTANCE_COLUMN!r} is needed")
+    names = [n.upper() for n in hdu.columns.names]
+    if _DISTANCE_COLUMN not in names:
+        raise InputError(f"{where} has columns {hdu.columns.names}; a column {_DISTANCE_COLUMN!r} is needed")
+    i = names.index(_DISTANCE_COLUMN)
+    values = np.asarray(hdu.data.field(i)) if hdu.data is not None else np.zeros(0)
+    if not np.issubdtype(values.dtype, np.number) or values.dtype.kind == "c":
+        raise InputError(
+            f"{where}: column {_DISTANCE_COLUMN!r} is not numeric ({values.dtype}); distances in pc are needed"
+        )
+    if values.ndim != 1:
+        raise InputError(f"{where}: column {_DISTANCE_COLUMN!r} holds {values.shape[1:]} values per row; one is needed")
+    unit = hdu.columns[i].unit
+    if not unit:
+        raise InputError(f"{where}: column {_DISTANCE_COLUMN!r} has no unit (TUNIT{i + 1}); 'pc' is needed")
+    factor = _length_to_pc(unit, f"TUNIT{i + 1}", path)
+    try:
+        return check_distances(values.astype(float) * factor, name=_DISTANCE_COLUMN)
+    except InputError as exc:
+        raise InputError(f"{where}: {exc}") from None
+
+
+def _distance_axis(header, wcs, n_planes, path):
+    """Distances (pc) of a cube's planes from its third WCS axis, or None for a 2-d image.
+
+    Pixel k (from 0) of axis 3 is at the world coordinate astropy.wcs gives
+    (CRVAL3 + CDELT3·(k + 1 − CRPIX3) for the usual linear keys; CD3_3 or
+    PC3_3 as the FITS WCS rules say, Greisen & Calabretta 2002, A&A 395, 1061).
+
+    A single plane without a length unit on axis 3 is a 2-d image (e.g. a
+    degenerate frequency axis); a cube of several planes needs a distance axis.
+    """
+    unit_text = str(header.get("CUNIT3", "")).strip()
+    if not unit_text:
+        if n_planes == 1:
+            return None
+        raise InputError(
+            f"map file {str(path)!r}: the image is a cube of {n_planes} planes without a distance axis "
+            f"(CUNIT3 is missing and there is no {_DISTANCES_HDU} table); CUNIT3 = 'pc' with CRVAL3/CDELT3/CRPIX3, "
+            f"or a {_DISTANCES_HDU} table, is needed"
+        )
+    try:  # the unit of the numbers astropy.wcs computes (as the header spells it, or as wcslib fixed it)
+        factor = _length_to_pc(str(wcs.wcs.cunit[2]) or unit_text, "CUNIT3", path)
+    except InputError:
+        if n_planes == 1:
+            return None
+        raise
+    cel = wcs.wcs
+    matrix = cel.get_pc()
+    if np.any(matrix[2, :2] != 0) or np.any(matrix[:2, 2] != 0):
+        raise InputError(
+            f"map file {str(path)!r}: the distance axis (axis 3) mixes with the celestial axes (PC/CD cross "
+            "terms); a separate linear third axis is needed"
+        )
+    planes = wcs.sub([3]).wcs_pix2world(np.arange(n_planes, dtype=float), 0)[0]
+    try:
+        return check_distances(planes * factor, name="the distance axis (CRVAL3 + CDELT3·(k + 1 − CRPIX3))")
+    except InputError as exc:
+        raise InputError(f"map file {str(path)!r}: {exc}") from None
+
+
 def read_healpix_table(path, column=None, hdu=None, **kwargs):
     """Read a HEALPix map from a FITS binary table (memory-mapped).
 
@@ -222,20 +335,37 @@ def _healpix_from_hdul(hdul, path, column, hdu, kwargs):
     values = np.asarray(data.field(col))
     if not np.issubdtype(values.dtype, np.number):
         raise InputError(f"map file {str(path)!r}: column {names[col]!r} is not numeric")
-    values = values.reshape(-1)
+    distances = _distances_table(hdul, path)
+    if distances is None:
+        values = values.reshape(-1)
+    else:
+        per_row = int(np.prod(values.shape[1:]))
+        if per_row != distances.size:
+            raise InputError(
+                f"map file {str(path)!r}: the {_DISTANCES_HDU} table has {distances.size} distances but column "
+                f"{names[col]!r} holds {per_row} values per row; one value per distance is needed"
+            )
+        values = values.reshape(len(values), per_row)
     pixels = None
     if pixel_col is not None and col != pixel_col:
         pixels = np.asarray(data.field(pixel_col)).reshape(-1)
-    elif values.size != 12 * int(nside) ** 2 and "FIRSTPIX" in header and "LASTPIX" in header:
+    elif len(values) != 12 * int(nside) ** 2 and "FIRSTPIX" in header and "LASTPIX" in header:
         first, last = int(header["FIRSTPIX"]), int(header["LASTPIX"])
-        if last - first + 1 == values.size:
+        if last - first + 1 == len(values):
             pixels = np.arange(first, last + 1, dtype=np.int64)
     kwargs.setdefault("name", Path(path).name)
     kwargs.setdefault("sources", (str(path),))
     blank = header.get(f"TNULL{col + 1}") if np.issubdtype(values.dtype, np.integer) else HEALPIX_UNSEEN
     try:
         return HealpixReddeningMap(
-            values, nside, order=ordering, frame=frame, pixels=pixels, blank_value=blank, **kwargs
+            values,
+            nside,
+            order=ordering,
+            frame=frame,
+            pixels=pixels,
+            blank_value=blank,
+            distances_pc=distances,
+            **kwargs,
         )
     except InputError as exc:
         raise InputError(f"map file {str(path)!r}: {exc}") from None
@@ -284,13 +414,29 @@ def read_image_map(paths, hemispheres=None, hdus=None, **kwargs):
             image = hdul[index]
             wcs = _wcs(image.header)
             data = image.data
+            while data.ndim > 3 and data.shape[0] == 1:
+                data = data[0]
+            distances = _distances_table(hdul, path)
+            if distances is None and data.ndim == 3:
+                distances = _distance_axis(image.header, wcs, data.shape[0], path)
+        if distances is not None:
+            data = data.reshape((-1, *data.shape[-2:]))
+            if sorted((wcs.wcs.lng, wcs.wcs.lat)) != [0, 1]:
+                raise InputError(
+                    f"map file {str(path)!r}: the celestial axes are WCS axes {wcs.wcs.lng + 1} and "
+                    f"{wcs.wcs.lat + 1}; a cube over distance needs them first (axes 1 and 2), distance third"
+                )
         if hemisphere is None:
             lat_range = _pole_hemisphere(wcs) if len(paths) > 1 else None
         else:
             lat_range = _HEMISPHERES[check_choice("hemisphere", hemisphere, tuple(_HEMISPHERES))]
         blank = image.header.get("BLANK") if np.issubdtype(data.dtype, np.integer) else None
         try:
-            tiles.append(ImageTile(data, wcs, lat_range=lat_range, blank_value=blank, name=Path(path).name))
+            tiles.append(
+                ImageTile(
+                    data, wcs, lat_range=lat_range, blank_value=blank, name=Path(path).name, distances_pc=distances
+                )
+            )
         except InputError as exc:
             raise InputError(f"map file {str(path)!r}: {exc}") from None
     kwargs.setdefault("name", " + ".join(Path(p).name for p in paths))

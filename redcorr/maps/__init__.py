@@ -1,4 +1,4 @@
-"""Reddening looked up in dust maps held as arrays: HEALPix pixels or WCS images.
+"""Reddening looked up in dust maps held as arrays: HEALPix pixels or WCS images, with or without distance.
 
 This package does no file I/O: :mod:`redcorr.io.maps` reads FITS files and
 map descriptions into the classes below, which take plain (possibly
@@ -13,9 +13,22 @@ Conventions
   from :mod:`astropy_healpix`; image pixel coordinates from :mod:`astropy.wcs`.
 * A map holds E(B-V) or A_V (``ReddeningMap.unit``), in magnitudes; every value
   read is multiplied by ``ReddeningMap.scale``.
-* ``lookup`` returns ``(values, flags)``. ``values`` is NaN exactly where
-  ``flags`` has one of the bits `FLAG_OUTSIDE`, `FLAG_BLANK` or
-  `FLAG_NO_POSITION` set:
+* A distance-resolved (3D) map (``ReddeningMap.has_distance``) holds, per
+  pixel, the cumulative value from the Sun out to each of its distances
+  ``ReddeningMap.distances_pc`` (pc, strictly increasing). ``lookup(...,
+  distance=...)`` interpolates it linearly in distance, from 0 at distance 0
+  to the first distance and between the others; beyond the last distance it
+  gives the last value (flag `FLAG_BEYOND`). A distance may be exact
+  (numbers in pc or a length Quantity) or a distribution
+  (:class:`DistanceSamples`): then the value is the weighted mean over its
+  nodes and ``return_error=True`` adds the weighted standard deviation. A
+  3D map asked without a distance gives its last distance's value with
+  `FLAG_BEYOND`; a 2D map given a distance ignores it with a
+  :class:`~redcorr.exceptions.DistanceIgnoredWarning`.
+* ``lookup`` returns ``(values, flags)`` (``(values, errors, flags)`` with
+  ``return_error=True``). ``values`` is NaN exactly where ``flags`` has one
+  of the bits `FLAG_OUTSIDE`, `FLAG_BLANK`, `FLAG_NO_POSITION` or
+  `FLAG_NO_DISTANCE` set:
 
   ====  ==================  ====================================================
   bit   name                meaning
@@ -28,10 +41,22 @@ Conventions
                             neighbours are missing or blank; the value uses the
                             others, with their weights renormalised
   8     FLAG_NO_POSITION    the input position is NaN or infinite
+  16    FLAG_BEYOND         3D maps: the distance lies beyond the map's last
+                            distance, or none was given; the value is the
+                            map's last value (all the dust the map knows of,
+                            possibly less than lies in front of the object).
+                            For a distance distribution: more than
+                            `BEYOND_WEIGHT` (5 %) of its weight lies beyond
+  32    FLAG_NO_DISTANCE    3D maps: the object's distance is NaN, infinite
+                            or negative (a distribution: NaN nodes); the
+                            position is not looked up
   ====  ==================  ====================================================
 
-  :data:`MAP_FLAGS` names the bits (``outside``, ``blank``, ``partial``,
-  ``no-position``, as :func:`describe_flags` prints them); a catalog
+  The distance bits describe the distance whatever the sky bits say; a
+  position without a usable distance is not looked up, so it carries no
+  sky bit besides `FLAG_NO_POSITION`. :data:`MAP_FLAGS` names the bits
+  (``outside``, ``blank``, ``partial``, ``no-position``, ``beyond``,
+  ``no-distance``, as :func:`describe_flags` prints them); a catalog
   correction has flag bits of its own (``redcorr.correction.CORRECTION_FLAGS``).
 
 * "The position's pixel" is, for nearest-pixel lookup, the pixel containing
@@ -43,13 +68,19 @@ Conventions
   within ~10° of the poles the four-neighbour scheme is first order only.
   Images are interpolated in pixel coordinates; an unrotated cylindrical
   image spanning 360° of longitude (plate carrée all-sky) wraps across its
-  seam, other images flag their last half pixel `FLAG_PARTIAL`.
+  seam, other images flag their last half pixel `FLAG_PARTIAL`. In
+  distance the interpolation is linear: its error is at most
+  Δd²/8·max|E''| between map distances Δd apart.
 
 Modules
 -------
 ``_base``
     :class:`ReddeningMap` (validation, chunked and threaded lookup), the
-    flag bits, and how interpolation neighbours combine.
+    flag bits, how interpolation neighbours combine and how a
+    distance-resolved map is interpolated in distance.
+``distance``
+    :class:`DistanceSamples`: the distances to look up at, exact or as
+    distributions (e.g. from parallaxes).
 ``frames``
     Frame names and the transformation of positions between frames.
 ``healpix``, ``image``
@@ -58,14 +89,19 @@ Modules
 
 from redcorr._constants import INTERPOLATIONS, MAP_UNITS
 from redcorr.maps._base import (
+    BEYOND_WEIGHT,
+    FLAG_BEYOND,
     FLAG_BLANK,
+    FLAG_NO_DISTANCE,
     FLAG_NO_POSITION,
     FLAG_OUTSIDE,
     FLAG_PARTIAL,
     MAP_FLAGS,
     ReddeningMap,
+    check_distances,
     describe_flags,
 )
+from redcorr.maps.distance import DistanceSamples, edsd_mode
 from redcorr.maps.frames import parse_frame, transform_lonlat
 from redcorr.maps.healpix import HEALPIX_UNSEEN, HealpixReddeningMap
 from redcorr.maps.image import ImageReddeningMap, ImageTile
@@ -79,7 +115,13 @@ __all__ = [
     "FLAG_BLANK",
     "FLAG_PARTIAL",
     "FLAG_NO_POSITION",
+    "FLAG_BEYOND",
+    "FLAG_NO_DISTANCE",
+    "BEYOND_WEIGHT",
     "MAP_FLAGS",
+    "DistanceSamples",
+    "edsd_mode",
+    "check_distances",
     "HEALPIX_UNSEEN",
     "INTERPOLATIONS",
     "MAP_UNITS",

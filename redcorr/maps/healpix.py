@@ -5,7 +5,7 @@ from astropy import units as u
 
 from redcorr._validate import check_choice
 from redcorr.exceptions import InputError
-from redcorr.maps._base import FLAG_BLANK, FLAG_OUTSIDE, ReddeningMap, _blank_mask, _finish_bilinear
+from redcorr.maps._base import ReddeningMap, _evaluate, _flat_view
 from redcorr.maps.frames import parse_frame, transform_lonlat
 
 __all__ = ["HEALPIX_UNSEEN", "HealpixReddeningMap"]
@@ -20,8 +20,10 @@ class HealpixReddeningMap(ReddeningMap):
 
     Parameters
     ----------
-    values : array_like, 1-d
-        Map values; may be a memory-mapped array (read only where looked up).
+    values : array_like, shape (n,) or (n, n_dist)
+        Map values, one per pixel; may be a memory-mapped array (read only
+        where looked up). With ``distances_pc``: one row per pixel holding
+        the cumulative value from the Sun out to each distance.
     nside : int
         HEALPix NSIDE, a power of two.
     order : {"ring", "nested"}
@@ -34,6 +36,9 @@ class HealpixReddeningMap(ReddeningMap):
     blank_value : float, optional
         A value marking pixels without data (NaN always does); HEALPix
         software writes `HEALPIX_UNSEEN`.
+    distances_pc : array_like, optional
+        The distances (pc, strictly increasing) of a distance-resolved map,
+        n_dist of them.
     **kwargs
         ``unit``, ``scale``, ``interpolation``, ``r_v``, ``name``, ``sources``
         as in `ReddeningMap`.
@@ -46,15 +51,30 @@ class HealpixReddeningMap(ReddeningMap):
     >>> value, flag = sky.lookup(101.25, -27.4)  # RA, Dec in ICRS
     >>> round(float(value), 6), int(flag)
     (0.1, 0)
+
+    A distance-resolved map: E(B-V) 0.1 out to 100 pc and 0.3 out to 200 pc everywhere.
+
+    >>> cube = HealpixReddeningMap(np.tile([0.1, 0.3], (12, 1)), nside=1, distances_pc=[100, 200])
+    >>> ebv, flag = cube.lookup(101.25, -27.4, distance=150.0)
+    >>> round(float(ebv), 6), int(flag)
+    (0.2, 0)
     """
 
     kind = "healpix"
     _threaded = True  # astropy-healpix and numpy release the GIL; astropy.wcs is not shared safely
 
     def __init__(
-        self, values, nside, order="ring", frame="galactic", pixels=None, blank_value=HEALPIX_UNSEEN, **kwargs
+        self,
+        values,
+        nside,
+        order="ring",
+        frame="galactic",
+        pixels=None,
+        blank_value=HEALPIX_UNSEEN,
+        distances_pc=None,
+        **kwargs,
     ):
-        super().__init__(**kwargs)
+        super().__init__(distances_pc=distances_pc, **kwargs)
         import astropy_healpix  # noqa: PLC0415 - keep import time of redcorr low
 
         self._hp = astropy_healpix
@@ -70,19 +90,27 @@ class HealpixReddeningMap(ReddeningMap):
         self.frame = parse_frame(frame)
         self.blank_value = blank_value
         values = np.asarray(values)
-        if values.ndim != 1:
+        if self.distances_pc is None:
             values = values.reshape(-1)
-        if pixels is None:
-            if values.size != self.npix:
+        else:
+            n_dist = self.distances_pc.size
+            if values.ndim == 1 and n_dist == 1:
+                values = values[:, None]
+            if values.ndim != 2 or values.shape[1] != n_dist:
                 raise InputError(
-                    f"HEALPix map has {values.size} values but NSIDE={self.nside} needs "
+                    f"values has shape {values.shape}; a map of {n_dist} distances needs shape (pixels, {n_dist})"
+                )
+        if pixels is None:
+            if len(values) != self.npix:
+                raise InputError(
+                    f"HEALPix map has {len(values)} values but NSIDE={self.nside} needs "
                     f"12·NSIDE² = {self.npix}; give pixel indices for a partial map"
                 )
             self.pixels = None
         else:
             pixels = np.asarray(pixels).reshape(-1)
-            if pixels.size != values.size:
-                raise InputError(f"pixels has {pixels.size} entries but values has {values.size}; they must match")
+            if pixels.size != len(values):
+                raise InputError(f"pixels has {pixels.size} entries but values has {len(values)}; they must match")
             if not np.issubdtype(pixels.dtype, np.integer):
                 raise InputError(f"pixels has type {pixels.dtype}; pixel indices must be integers")
             pixels = pixels.astype(np.int64)
@@ -99,6 +127,7 @@ class HealpixReddeningMap(ReddeningMap):
                     )
             self.pixels = pixels
         self.values = values
+        self._flat, self._steps = (None, None) if self.distances_pc is None else _flat_view(values)
 
     @property
     def covered_fraction(self):
@@ -121,34 +150,54 @@ class HealpixReddeningMap(ReddeningMap):
 
         Returns
         -------
-        values : ndarray of float64
+        values : ndarray of float64, shape ``index.shape`` (+ (n_dist,) for a distance-resolved map)
             NaN where not covered (blank pixels are returned as stored).
-        covered : ndarray of bool
+        covered : ndarray of bool, shape ``index.shape``
         """
-        index = np.asarray(index, dtype=np.int64)
-        if self.pixels is None:
-            return np.asarray(self.values[index], dtype=float), np.ones(index.shape, dtype=bool)
-        pos = np.searchsorted(self.pixels, index)
-        np.minimum(pos, self.pixels.size - 1, out=pos)
-        covered = self.pixels[pos] == index if self.pixels.size else np.zeros(index.shape, dtype=bool)
-        values = np.asarray(self.values[pos], dtype=float) if self.pixels.size else np.zeros(index.shape)
-        values[~covered] = np.nan
-        return values, covered
+        rows, covered = self._rows(np.asarray(index, dtype=np.int64))
+        return self._gather(rows, covered), covered
 
-    def _sample(self, lon_deg, lat_deg, frame, method):
+    def _rows(self, index):
+        """Rows of ``values`` holding HEALPix pixels ``index``, and whether the map has them."""
+        if self.pixels is None:
+            return index, np.ones(index.shape, dtype=bool)
+        if self.pixels.size == 0:
+            return np.zeros(index.shape, dtype=np.intp), np.zeros(index.shape, dtype=bool)
+        rows = np.searchsorted(self.pixels, index)
+        np.minimum(rows, self.pixels.size - 1, out=rows)
+        return rows, self.pixels[rows] == index
+
+    def _gather(self, rows, covered, k=None, start=None):
+        """Float64 values at ``rows`` (and distance slice ``k``, broadcasting), NaN where not covered.
+
+        ``start`` (``rows`` times the row step of the flat view) is computed
+        once per chunk by the caller when it gathers several slices.
+        """
+        if len(self.values) == 0:  # a partial map without pixels
+            return np.full(rows.shape + (self.values.shape[1:] if k is None else ()), np.nan)
+        if k is None:
+            values = self.values[rows]
+        elif self._flat is not None:
+            start = rows * self._steps[0] if start is None else start
+            values = self._flat[start + (k if self._steps[1] == 1 else k * self._steps[1])]
+        else:
+            values = self.values[rows, k]
+        values = np.asarray(values, dtype=float)
+        if self.pixels is not None:
+            values[~covered] = np.nan
+        return values
+
+    def _sample(self, lon_deg, lat_deg, frame, method, dist):
         lon_deg, lat_deg = transform_lonlat(lon_deg, lat_deg, frame, self.frame)
         lon = u.Quantity(lon_deg, u.deg, copy=False)
         lat = u.Quantity(lat_deg, u.deg, copy=False)
-        flags = np.zeros(lon.shape, dtype=np.uint8)
         if method == "nearest":
-            index = self._hp.lonlat_to_healpix(lon, lat, self.nside, order=self.order)
-            values, covered = self.pixel_values(index)
-            blank = _blank_mask(values, self.blank_value) & covered
-            flags[~covered] = FLAG_OUTSIDE
-            flags[blank] = FLAG_BLANK
-            values[blank] = np.nan
-            return values, flags
-        index, weights = self._hp.bilinear_interpolation_weights(lon, lat, self.nside, order=self.order)
-        values, covered = self.pixel_values(index)
-        good = covered & ~_blank_mask(values, self.blank_value)
-        return _finish_bilinear(values, good, covered, weights, flags)
+            index = self._hp.lonlat_to_healpix(lon, lat, self.nside, order=self.order)[None, :]
+            weights = None
+        else:
+            index, weights = self._hp.bilinear_interpolation_weights(lon, lat, self.nside, order=self.order)
+        rows, covered = self._rows(index)
+        start = rows * self._steps[0] if self._flat is not None and dist is not None else None
+        return _evaluate(
+            lambda k: self._gather(rows, covered, k, start), covered, weights, self.blank_value, dist, self.distances_pc
+        )
