@@ -25,6 +25,10 @@ Conventions
   dimmed again.
 * Times are in seconds, rates in electrons per second. One exposure, one
   read-out.
+* Limits on what is planned (:data:`MAX_EXPOSURE_S`, :data:`MAX_SNR`,
+  :data:`BRIGHTEST_MAG`) keep the answers within what one exposure of a
+  point source can mean; beyond them the numbers would be meaningless (and,
+  far beyond, overflow floating point).
 
 References
 ----------
@@ -61,7 +65,10 @@ from redcorr.extinction import band_extinction
 from redcorr.photometry import ab_photon_rate, synthetic_colour
 
 __all__ = [
+    "BRIGHTEST_MAG",
     "CAUTION",
+    "MAX_EXPOSURE_S",
+    "MAX_SNR",
     "Channel",
     "Instrument",
     "BandPlan",
@@ -72,6 +79,47 @@ __all__ = [
 
 CAUTION = PLAN_CAUTION
 """The caution every shell shows next to a plan: the numbers are estimates, not commitments."""
+
+MAX_EXPOSURE_S = 1.0e6
+"""Longest exposure time planned, s (about 11.6 days). The plan is one exposure with one read-out,
+and no single CCD exposure lasts days: dark current and cosmic-ray hits fill the pixels within hours
+(common practice, no source)."""
+
+MAX_SNR = 1.0e6
+"""Highest signal-to-noise ratio planned. S/N 10⁶ needs at least 10¹² detected electrons (S/N ≤ √N
+for N source electrons, Howell 2006 §4.4), some thousand times the full wells (~10⁵ e⁻ per pixel,
+from memory) of the tens of pixels of an aperture: no single exposure reaches it."""
+
+BRIGHTEST_MAG = -30.0
+"""Brightest dust-free AB magnitude planned: brighter than the Sun (V ≈ −26.7, from memory), which is
+no point source for an imager."""
+
+
+def _check_snr(name, snr):
+    """A target S/N as a float: finite, > 0 and at most :data:`MAX_SNR`."""
+    value = float(check_snr(name, snr))
+    if value > MAX_SNR:
+        raise InputError(f"{name}={value:g} is not allowed; a signal-to-noise ratio of one exposure "
+                         f"must be at most {MAX_SNR:g}")
+    return value
+
+
+def _check_time(name, time):
+    """An exposure time as a float, s: finite, > 0 and at most :data:`MAX_EXPOSURE_S`."""
+    value = float(as_seconds(name, time, positive=True))
+    if value > MAX_EXPOSURE_S:
+        raise InputError(f"{name}={value:g} s is not allowed; one exposure must be at most {MAX_EXPOSURE_S:g} s "
+                         "(about 11.6 days)")
+    return value
+
+
+def _check_mag(name, mag):
+    """A dust-free AB magnitude as a float: finite and not brighter than :data:`BRIGHTEST_MAG`."""
+    value = check_finite(name, mag)
+    if value < BRIGHTEST_MAG:
+        raise InputError(f"{name}={value:g} is not allowed; a point source to plan must be no brighter than "
+                         f"AB {BRIGHTEST_MAG:g} (the Sun is about -26.7)")
+    return value
 
 @dataclasses.dataclass(frozen=True)
 class Channel:
@@ -294,11 +342,12 @@ def _band_mags(instrument, bands, mag, sed, mag_band):
         missing = [b for b in bands if b not in mag]
         if missing:
             raise InputError(f"mag has no value for band {missing[0]!r}; it gives {', '.join(map(repr, mag))}")
-        return [check_finite(f"mag[{b!r}]", mag[b]) for b in bands]
-    m0 = check_finite("mag", mag)
+        return [_check_mag(f"mag[{b!r}]", mag[b]) for b in bands]
+    m0 = _check_mag("mag", mag)
     if mag_band is None:
         return [m0] * len(bands)
-    return [m0 + synthetic_colour(sed, instrument.channel(b).band, mag_band) for b in bands]
+    return [_check_mag(f"mag in band {b!r} (mag {m0:g} in mag_band, with the SED's colour)",
+                       m0 + synthetic_colour(sed, instrument.channel(b).band, mag_band)) for b in bands]
 
 
 def plan_exposure(
@@ -327,6 +376,7 @@ def plan_exposure(
         None, else in ``mag_band`` and carried to each band with the SED's AB
         colour; or a dict band name → magnitude (e.g. from
         :func:`redcorr.photometry.synthetic_ab` for a flux-calibrated spectrum).
+        Each no brighter than :data:`BRIGHTEST_MAG`.
     curve : DustCurve
         Law or grain model (from :func:`redcorr.io.load_curve`).
     sed : SED
@@ -334,16 +384,16 @@ def plan_exposure(
     a_v : float
         Dust column, A_V in mag (≥ 0).
     snr : float, optional
-        Target S/N (> 0): ``t_clear_s`` and ``t_dust_s`` are the times the source
+        Target S/N (> 0, at most :data:`MAX_SNR`): ``t_clear_s`` and ``t_dust_s`` are the times the source
         needs without and with the dust.
     time : float, optional
-        Exposure time (≥ 0, s): ``t_dust_s`` is this time, ``snr`` what the
+        Exposure time (> 0 s, at most :data:`MAX_EXPOSURE_S`): ``t_dust_s`` is this time, ``snr`` what the
         reddened source reaches in it, and ``t_clear_s`` the time the dust-free
         source would need for that same S/N. Give exactly one of ``snr``, ``time``.
     mag_band : Band, optional
         The band ``mag`` is measured in (any Band; an instrument band included).
     limit_snr : float
-        S/N defining ``limiting_mag`` (5 by common practice).
+        S/N defining ``limiting_mag`` (5 by common practice; at most :data:`MAX_SNR`).
     extrapolate : bool
         Passed to the band extinction.
 
@@ -364,11 +414,11 @@ def plan_exposure(
     if (snr is None) == (time is None):
         raise InputError("give exactly one of snr (a target S/N) or time (an exposure time in s)")
     a_v = check_range("a_v", a_v, 0.0, math.inf)
-    limit_snr = float(check_snr("limit_snr", limit_snr))
+    limit_snr = _check_snr("limit_snr", limit_snr)
     if snr is not None:
-        snr = float(check_snr("snr", snr))
+        snr = _check_snr("snr", snr)
     else:
-        time = float(as_seconds("time", time, positive=True))
+        time = _check_time("time", time)
     names = [instrument.channel(b).name for b in bands]
     if not names:
         raise InputError("bands is empty; give at least one band of the instrument")
@@ -429,7 +479,7 @@ def time_vs_av(instrument, bands, mag, *, curve, sed, a_v, snr, mag_band=None, e
     a_band : dict
         Band name → ndarray of A_band, mag.
     """
-    s = float(check_snr("snr", snr))
+    s = _check_snr("snr", snr)
     grid = np.atleast_1d(np.asarray(a_v, dtype=float))
     bad = ~(np.isfinite(grid) & (grid >= 0))
     if grid.ndim != 1 or np.any(bad):

@@ -8,6 +8,7 @@ as ``.NAME.redcorr-PID-….part…``; once it holds bytes the run is writing.
 (proc(5) and open(2), common practice, no source.)
 """
 
+import errno
 import os
 import signal
 import subprocess
@@ -19,6 +20,7 @@ import numpy as np
 import pytest
 
 from redcorr.exceptions import InputError
+from redcorr.io import _atomic
 from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path, output_group
 
 matplotlib.use("Agg")
@@ -170,6 +172,52 @@ def test_dataset_folder_and_summary_appear_together_or_not_at_all(tmp_path):
     assert os.listdir(tmp_path) == ["out.summary.json"]
 
 
+@pytest.mark.parametrize("named", [False, True], ids=["unnamed", "named"])
+def test_overwriting_keeps_the_old_outputs_until_every_new_one_is_placed(tmp_path, monkeypatch, named):
+    """The summary cannot be placed after the catalog was: the old catalog and summary come back as they were."""
+    out, side = tmp_path / "out.csv", tmp_path / "out.csv.summary.json"
+    old_out, old_side = b"id,kw_v\n1,15.0\n", b'{"rows": 1}\n'
+    out.write_bytes(old_out)
+    side.write_bytes(old_side)
+    real, placing = _atomic._Pending.place, []
+
+    def place(self):
+        placing.append(self.target)
+        if len(placing) == 2:
+            raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+        real(self)
+
+    monkeypatch.setattr(_atomic._Pending, "place", place)
+    with pytest.raises(OSError, match="summary.json"), output_group() as group:
+        for path, text in ((out, "id,kw_v\n2,16.0\n"), (side, "{}\n")):
+            with atomic_path(path, overwrite=True, group=group, named=named) as tmp:
+                tmp.write_text(text)
+    assert placing == [out, side]  # the catalog was placed, then taken back
+    assert out.read_bytes() == old_out and side.read_bytes() == old_side
+    assert sorted(os.listdir(tmp_path)) == ["out.csv", "out.csv.summary.json"]  # no temporary left
+    monkeypatch.setattr(_atomic._Pending, "place", real)
+    with output_group() as group:  # and without a failure, both are replaced
+        for path in (out, side):
+            with atomic_path(path, overwrite=True, group=group, named=named) as tmp:
+                tmp.write_text("new\n")
+    assert out.read_text() == side.read_text() == "new\n"
+    assert sorted(os.listdir(tmp_path)) == ["out.csv", "out.csv.summary.json"]
+
+
+def test_an_output_moved_aside_by_a_killed_run_is_moved_back(tmp_path):
+    dead = subprocess.Popen([sys.executable, "-c", "pass"])
+    dead.wait()
+    aside = tmp_path / f".out.csv.redcorr-{dead.pid}-0a1b2c.old"
+    aside.write_text("the old catalog\n")
+    replaced = tmp_path / f".kept.csv.redcorr-{dead.pid}-3d4e5f.old"
+    replaced.write_text("older\n")
+    (tmp_path / "kept.csv").write_text("placed\n")  # its new file was placed: the old one goes
+    check_output_path(tmp_path / "other.csv", overwrite=False)
+    assert (tmp_path / "out.csv").read_text() == "the old catalog\n"
+    assert (tmp_path / "kept.csv").read_text() == "placed\n"
+    assert sorted(os.listdir(tmp_path)) == ["kept.csv", "out.csv"]
+
+
 def test_stale_temporaries_of_dead_processes_are_removed(tmp_path):
     dead = subprocess.Popen([sys.executable, "-c", "pass"])
     dead.wait()  # reaped: its PID names no process (until reused, which a test run will not see)
@@ -180,8 +228,10 @@ def test_stale_temporaries_of_dead_processes_are_removed(tmp_path):
     (stale[1] / "000000.parquet").write_text("x")
     alive = tmp_path / f".out.csv.redcorr-{os.getppid()}-0a1b2c.part.csv"  # a live process's: kept
     alive.write_text("busy")
+    legacy = tmp_path / ".out.csv.k3j_9xqz.part.csv"  # an older version's (tempfile): its owner is unknown, kept
+    legacy.write_text("maybe busy")
     check_output_path(tmp_path / "out.csv", overwrite=False)
-    assert sorted(os.listdir(tmp_path)) == [alive.name]
+    assert sorted(os.listdir(tmp_path)) == sorted([alive.name, legacy.name])
 
 
 def test_disk_full_exits_3_naming_the_path_and_leaves_nothing(big, tmp_path):

@@ -45,7 +45,16 @@ CASES = [
     (f"{PLAN} --snr 10 --time 5", ["--time", "--snr"]),
     (PLAN, ["--snr", "--time", "required"]),
     (f"{PLAN} --snr 10 --limit-snr 0", ["--limit-snr", "'0'", "> 0"]),
-    (f"{PLAN} --snr 1e300", ["snr=1e+300", "not reached in any finite time", "'kw-b'"]),
+    # plan: inputs beyond one exposure of a point source (bounds in redcorr.exposure; they would overflow)
+    (f"{PLAN} --snr 1e300", ["snr=1e+300", "at most 1e+06"]),
+    (f"{PLAN} --snr 2e6", ["snr=2e+06", "at most 1e+06"]),
+    (f"{PLAN} --snr 10 --limit-snr 1e300", ["limit_snr=1e+300", "at most 1e+06"]),
+    (f"{PLAN} --time 10 --limit-snr 1e200", ["limit_snr=1e+200", "at most 1e+06"]),
+    (f"{PLAN} --time 1e300", ["time=1e+300 s", "at most 1e+06 s"]),
+    (f"{PLAN} --time 1.1e6", ["time=1.1e+06 s", "at most 1e+06 s"]),
+    ("plan --instrument demo --mag=-1e300 --av 2 --time 10", ["mag=-1e+300", "no brighter than AB -30"]),
+    ("plan --instrument demo --mag=-31 --av 2 --snr 10", ["mag=-31", "no brighter than AB -30"]),
+    ("plan --instrument demo --mag=-1e300 --mag-band kw-v --av 2 --snr 10", ["mag=-1e+300", "AB -30"]),
     ("plan --instrument demo --mag 1e300 --av 2 --snr 10", ["snr=10", "source AB 1e+300"]),
     ("plan --instrument demo --mag 19 --av 1e300 --snr 10", ["snr=10", "A_band 9.35e+299 mag"]),
     (f"{PLAN} --snr 10 --limit-snr -3", ["--limit-snr", "'-3'"]),
@@ -407,3 +416,49 @@ def test_refused_cleanly(workspace, capsys, argv, needles):
         assert leak not in err, err
     assert out == ""
     assert _snapshot(workspace) == before  # nothing left behind, inputs byte-identical
+
+
+# ======================================================================= ebv: distances and parallaxes
+# (issue 15) The command line checks these before it opens the map, so the template's 2D map serves;
+# a 2D map given a good distance only warns (tests/test_cli_ebv.py).
+EBV_AT = f"{EBV} --ra 10 --dec 10"
+
+EBV_DISTANCE_CASES = [
+    (f"{EBV_AT} --distance -5", ["--distance=-5.0", "> 0"]),
+    (f"{EBV_AT} --distance 0", ["--distance=0.0", "> 0"]),
+    (f"{EBV_AT} --distance x", ["--distance='x'", "not a number"]),
+    (f"{EBV_AT} --distance nan", ["--distance='nan'", "finite"]),
+    (f"{EBV_AT} --distance inf", ["--distance='inf'", "finite"]),
+    (f"{EBV_AT} --distance ,,", ["--distance", "no values"]),
+    (f"{EBV_AT} --distance 100 --parallax 2", ["--parallax", "--distance"]),
+    (f"{EBV_AT} --distance-err 10", ["--distance-err", "give --distance"]),
+    (f"{EBV_AT} --distance 100 --distance-err 0", ["--distance-err=0.0", "> 0"]),
+    (f"{EBV_AT} --distance 100 --distance-err -10", ["--distance-err=-10.0", "> 0"]),
+    (f"{EBV_AT} --distance 100 --distance-err nan", ["--distance-err='nan'", "finite"]),
+    (f"{EBV_AT} --distance 100,200 --distance-err 1,2,3", ["--distance-err has 3 values", "--distance 2"]),
+    ("ebv --map m.fits --ra 1,2 --dec 10 --distance 100 --distance-err 1,2,3",
+     ["--distance-err has 3 values for 2 positions"]),
+    ("ebv --map m.fits --ra 1,2,3 --dec 10 --distance 100,200", ["--distance has 2 values for 3 positions"]),
+    (f"{EBV_AT} --parallax-err 0.1", ["--parallax-err", "give --parallax"]),
+    (f"{EBV_AT} --parallax -0.5", ["--parallax=-0.5", "without an error", "--parallax-err"]),
+    (f"{EBV_AT} --parallax 0", ["--parallax=0.0", "> 0", "--parallax-err"]),
+    (f"{EBV_AT} --parallax x", ["--parallax='x'", "not a number"]),
+    (f"{EBV_AT} --parallax inf --parallax-err 0.1", ["--parallax='inf'", "finite"]),
+    (f"{EBV_AT} --parallax 1 --parallax-err 0", ["--parallax-err=0.0", "> 0"]),
+    (f"{EBV_AT} --parallax 1 --parallax-err -0.2", ["--parallax-err=-0.2", "> 0"]),
+    (f"{EBV_AT} --parallax 1,2 --parallax-err 1,2,3", ["--parallax-err has 3 values", "--parallax 2"]),
+    (f"{EBV_AT} --parallax 1 --prior-length 500", ["--prior-length=500", "--parallax-err"]),
+    (f"{EBV_AT} --parallax 1 --parallax-err 0.1 --prior-length 0", ["--prior-length", "'0'", "> 0"]),
+    (f"{EBV_AT} --parallax 1 --parallax-err 0.1 --prior-length=-1e3", ["--prior-length", "'-1e3'", "> 0"]),
+    (f"{EBV_AT} --parallax 1 --parallax-err 0.1 --prior-length nan", ["--prior-length", "'nan'", "finite"]),
+]
+
+
+def test_ebv_distance_cases_are_new():
+    assert len({argv for argv, _ in EBV_DISTANCE_CASES}) == len(EBV_DISTANCE_CASES)
+    assert not {argv for argv, _ in EBV_DISTANCE_CASES} & {argv for argv, _ in CASES}
+
+
+@pytest.mark.parametrize(("argv", "needles"), EBV_DISTANCE_CASES, ids=[argv for argv, _ in EBV_DISTANCE_CASES])
+def test_ebv_distance_refused_cleanly(workspace, capsys, argv, needles):
+    test_refused_cleanly(workspace, capsys, argv, needles)  # the same checks as every case above

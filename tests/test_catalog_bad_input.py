@@ -68,6 +68,9 @@ def _corrupt_gzip():
 
 
 _RANDOM = np.random.default_rng(1).integers(0, 256, 20_000, dtype=np.uint8).tobytes()
+_LATE_SHORT = b"id,kw_v,ebv\n" + b"".join(b"%d,15,0.1\n" % i for i in range(20_000)) + b"\xff\xfe,1\n"
+"""Bytes that are not UTF-8 beyond the 64 kB checked up front, in a row of the wrong length: pyarrow
+fails to decode the row for its row callback."""
 _BAD_INPUTS = {
     "empty csv": ("empty.csv", b"", ["empty"]),
     "comment lines only": ("comments.csv", b"# nothing\n# here\n", ["empty"]),
@@ -76,6 +79,8 @@ _BAD_INPUTS = {
     "non-UTF-8 bytes after the first 64 kB": (
         "late.csv", b"id,kw_v,ebv\n" + b"".join(b"%d,15,0.1\n" % i for i in range(20_000)) + b"\xff\xfe,1,2\n",
         ["column 'id'", "not UTF-8"]),
+    "non-UTF-8 bytes after the first 64 kB, in a short row": (
+        "lateshort.csv", _LATE_SHORT, ["a row has bytes that are not UTF-8"]),
     "wrong delimiter": ("semi.csv", b"id;kw_v;ebv\n1;15;0.1\n", ["delimiter", "';'"]),
     "short row": ("short.csv", b"id,kw_v,ebv\n1,15,0.1\n2,15\n", ["2 fields", "has 3"]),
     "corrupt gzip": ("bad.csv.gz", _corrupt_gzip(), ["gzip", "Error -3"]),
@@ -107,14 +112,16 @@ def test_truncated_parquet_is_refused(tmp_path, capsys):
     _refused(tmp_path, capsys, "cut.parquet", data[: len(data) // 2], ["Parquet"])
 
 
-def test_random_bytes_exit_quietly_in_a_subprocess(tmp_path):
-    """pyarrow's row callback would print "Exception ignored" at exit; no such text, one line."""
-    src = tmp_path / "random.csv"
-    src.write_bytes(_RANDOM)
+@pytest.mark.parametrize("name, data", [("random.csv", _RANDOM), ("lateshort.csv", _LATE_SHORT)],
+                         ids=["random bytes", "late non-UTF-8 in a short row"])
+def test_undecodable_bytes_exit_quietly_in_a_subprocess(tmp_path, name, data):
+    """pyarrow's row callback would print "Exception ignored" (and a traceback); no such text, one line."""
+    src = tmp_path / name
+    src.write_bytes(data)
     run = subprocess.run([sys.executable, "-m", "redcorr", "correct", str(src), str(tmp_path / "o.csv"),
                           "--band", "kw-v"], capture_output=True, text=True, errors="replace", check=False)
     assert run.returncode == 2
-    assert len(run.stderr.strip().splitlines()) == 1 and "random.csv" in run.stderr
+    assert len(run.stderr.strip().splitlines()) == 1 and name in run.stderr and "UTF-8" in run.stderr
     assert "Exception ignored" not in run.stderr and "Traceback" not in run.stderr
     assert "\ufffd" not in run.stderr  # no raw bytes echoed
 
@@ -208,6 +215,57 @@ def test_strict_line_counts_rows_of_earlier_chunks(tmp_path, capsys):
     assert "'abc'" in line
 
 
+_ECSV_TEXT = b"""# %ECSV 1.0
+# ---
+# datatype:
+# - {name: id, datatype: int64}
+# - {name: kw_v, datatype: string}
+# - {name: ebv, datatype: float64}
+# schema: astropy-2.0
+id kw_v ebv
+1 15 0.1
+2 abc 0.1
+"""
+_LAYOUTS = {  # (file name, bytes, the row and the line of the text 'abc'), lines counted by hand
+    "comment lines between rows": (
+        "c.csv", b"# one\nid,kw_v,ebv\n1,15,0.1\n# two, three\n# four\n2,16,0.1\n3,abc,0.1\n", 3, 7),
+    "blank lines between rows": ("b.csv", b"id,kw_v,ebv\n\n1,15,0.1\n\n\n2,abc,0.1\n", 2, 6),
+    "quoted line breaks": ("q.csv", b'id,kw_v,note,ebv\n1,15,"two\nlines",0.1\n2,16,"a\n\nb",0.1\n3,abc,x,0.1\n', 3, 7),
+    "CRLF, a BOM and a quoted line break": (
+        "r.csv", b'\xef\xbb\xbf# one\r\nid,kw_v,note,ebv\r\n1,15,"a\r\nb",0.1\r\n2,abc,x,0.1\r\n', 2, 5),
+    "gzip with comments and blank lines": (
+        "g.csv.gz", gzip.compress(b"# one\nid,kw_v,ebv\n1,15,0.1\n\n# two\n2,abc,0.1\n"), 2, 6),
+    "a field longer than the csv module's default limit": (
+        "long.csv", b"id,kw_v,note,ebv\n1,15," + b"x" * 200_000 + b",0.1\n# c\n2,abc,y,0.1\n", 2, 4),
+    "ECSV": ("t.ecsv", _ECSV_TEXT, 2, 10),
+}
+
+
+@pytest.mark.parametrize("out_name", ["o.csv", "o.parquet"], ids=["text copied", "typed"])
+@pytest.mark.parametrize("layout", list(_LAYOUTS), ids=list(_LAYOUTS))
+def test_strict_messages_give_the_exact_file_line(tmp_path, capsys, layout, out_name):
+    """Comment lines, blank lines and quoted line breaks between rows: the line is still the row's own."""
+    name, data, row, line = _LAYOUTS[layout]
+    src = tmp_path / name
+    src.write_bytes(data)
+    out = tmp_path / out_name
+    rc, err = _run([src, out, "--band", "kw-v", "--ebv-col", "ebv", "--strict"], capsys)
+    assert rc == 2 and "'abc'" in err, err
+    assert f"row {row} (line {line} of the file)" in err, err
+    assert not out.exists() and src.read_bytes() == data
+
+
+def test_strict_messages_of_the_dask_engine_name_the_partition(tmp_path, capsys):
+    """Dask corrects each partition on its own (here one per file): the row is counted in its partition."""
+    (tmp_path / "part-1.csv").write_bytes(GOOD_CSV)
+    (tmp_path / "part-2.csv").write_bytes(b"id,kw_v,ebv\n3,15.0,0.1\n4,abc,0.2\n")
+    out = tmp_path / "o.csv"
+    rc, err = _run([tmp_path / "part-*.csv", out, "--band", "kw-v", "--engine", "dask", "--strict"], capsys)
+    assert rc == 2 and len(err.strip().splitlines()) == 1, err
+    assert "'abc'" in err and "row 2 of Dask partition 2 (counted from its start)" in err, err
+    assert not out.exists()
+
+
 def test_infinite_or_missing_magnitude_gives_missing_outputs(tmp_path, capsys):
     src = tmp_path / "inf.csv"
     src.write_bytes(b"id,kw_v,e_kw_v,kw_b,e_kw_b,ebv\n1,inf,0.01,15,0.01,0.1\n2,,0.02,15,0.01,0.1\n"
@@ -228,9 +286,35 @@ def test_correcting_a_corrected_catalog_names_the_clashing_columns(tmp_path, cap
     first = tmp_path / "first.csv"
     assert _run([src, first, "--band", "kw-v"], capsys)[0] == 0
     data = first.read_bytes()
-    line = _refused(tmp_path, capsys, "first.csv", data, ["'A_kw_v'", "'dered_flags'", "already corrected"],
-                    extra=["--suffix", "_again"], named=False)
+    line = _refused(tmp_path, capsys, "first.csv", data, ["'A_kw_v'", "'dered_flags'", "already corrected",
+                                                          "--keep"], extra=["--suffix", "_again"], named=False)
     assert "kw_v_again" not in line  # the suffixed column does not clash
+    line = _refused(tmp_path, capsys, "first.csv", data, ["'kw_v_dered'", "--suffix", "--keep"], named=False)
+
+
+@pytest.mark.parametrize("engine", ["stream", "dask"])
+@pytest.mark.parametrize("out_name", ["again.csv", "again.parquet"])
+def test_a_corrected_catalog_is_corrected_again_without_its_old_outputs(tmp_path, capsys, engine, out_name):
+    """--keep leaves the old output columns out; --suffix renames the corrected magnitude that is kept."""
+    src = tmp_path / "in.csv"
+    src.write_bytes(GOOD_CSV)
+    first = tmp_path / "first.csv"
+    assert _run([src, first, "--band", "kw-v"], capsys)[0] == 0
+    data = first.read_bytes()
+    if engine == "dask" and out_name.endswith(".parquet"):
+        out_name = "again_ds"  # the dask engine writes a Parquet folder
+    out = tmp_path / out_name
+    rc, err = _run([first, out, "--band", "kw-v", "--engine", engine, "--keep", "id,kw_v,ebv,kw_v_dered",
+                    "--suffix", "_again"], capsys)
+    assert rc == 0, err
+    again = pd.read_csv(out) if out_name.endswith(".csv") else pd.read_parquet(out)
+    assert list(again.columns) == ["id", "kw_v", "ebv", "kw_v_dered", "kw_v_again", "A_kw_v", "ebv_used",
+                                   "av_used", "dered_flags"]
+    before = pd.read_csv(first)
+    # the same inputs give the same numbers; the CSV text holds 6 decimals (TEXT_DECIMALS), hence 1e-6 mag
+    np.testing.assert_allclose(again["kw_v_again"], before["kw_v_dered"], rtol=0, atol=1e-6)
+    np.testing.assert_allclose(again["A_kw_v"], before["A_kw_v"], rtol=0, atol=1e-6)
+    assert first.read_bytes() == data
 
 
 def test_header_only_csv_gives_an_output_without_rows(tmp_path, capsys):

@@ -124,3 +124,54 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
     assert tui_out.read_bytes() == cli_out.read_bytes()
     assert main(["correct", str(DEMO), str(grain_cli), "--law", "mrn77", *common]) == 0
     assert grain_tui.read_bytes() == grain_cli.read_bytes()
+
+
+def test_a_distance_resolved_map_takes_a_parallax_column_and_writes_what_the_cli_writes(tmp_path):
+    """The distance row appears for a map with distances only; the run equals `redcorr correct --parallax-col`."""
+    from test_correct_distance import stars, write_cube, write_flat
+
+    cube, flat = str(write_cube(tmp_path / "cube.fits")), str(write_flat(tmp_path / "flat.fits"))
+    catalog = tmp_path / "stars.csv"
+    stars(30, seed=3, plx=np.linspace(0.5, 3.0, 30), e_plx=0.1).to_csv(catalog, index=False)
+    tui_out, cli_out = tmp_path / "tui.csv", tmp_path / "cli.csv"
+
+    async def script(app, pilot):
+        await pilot.press("f4")
+        await pilot.pause()
+        screen = app.screen
+        status = screen.query_one(StatusLine)
+        row = screen.query_one("#cat-distance")
+        assert not row.display  # no catalog, no map yet
+        await set_value(pilot, "#cat-input", str(catalog))
+        await set_value(pilot, "#cat-bands", "kw-v")
+        await set_value(pilot, "#cat-colour", "")
+        await pilot.click("#cat-open")
+        await pilot.pause()
+        await set_value(pilot, "#cat-output", str(tui_out))
+        screen.query_one("#cat-red-kind").value = "map"
+        await pilot.pause()
+        await set_value(pilot, "#cat-red-value", flat)
+        assert not row.display  # a map of whole sight lines: no distance to give
+        await set_value(pilot, "#cat-red-value", cube)
+        assert row.display
+        # no column named yet: the core's warning says what the map then gives
+        assert "no distance or parallax column" in status.message and status.has_class("-warning")
+        screen.query_one("#cat-dist-kind").value = "parallax"
+        await pilot.pause()
+        await type_into(pilot, "#cat-dist-col", "nope")
+        assert "parallax_column='nope' is not a column" in status.message
+        assert screen.query_one("#cat-dist-col").has_class("-refused")
+        await set_value(pilot, "#cat-dist-col", "plx")
+        await set_value(pilot, "#cat-dist-err", "e_plx")
+        assert not status.has_class("-error") and not screen.query_one("#cat-dist-col").has_class("-refused")
+        await pilot.press("ctrl+r")
+        await wait_for_run(pilot)
+        # the smallest parallax, 0.5 ± 0.1 mas, has over 5 % of its posterior beyond the map's 3 kpc
+        assert "warning: 1 row(s) lie beyond the reach" in status.message and tui_out.exists()
+        assert screen.summary.flagged["beyond_map"] == 1 and screen.summary.rows == 30
+        assert app.session.cat_dist_kind == "parallax" and app.session.cat_dist_col == "plx"
+
+    run_app(script, size=(150, 60))
+    assert main(["correct", str(catalog), str(cli_out), "--band", "kw-v", "--map", cube, "--parallax-col", "plx",
+                 "--parallax-err-col", "e_plx", "--quiet"]) == 0
+    assert tui_out.read_bytes() == cli_out.read_bytes()  # byte for byte: the same options, the same core

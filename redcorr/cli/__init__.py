@@ -109,6 +109,15 @@ def console():
     way out; the process then ends at once (``os._exit``), without waiting
     for worker threads of the libraries that an interrupt may have left
     blocked, which could otherwise keep it alive.
+
+    Signals are handled from the start of :func:`main`, before numpy and
+    the other large libraries load. Before that (Python's start-up and the
+    import of this module, standard library only: some tens of ms) a
+    Ctrl-C ends with Python's own traceback: the installed ``redcorr``
+    script imports this module before any redcorr code runs, and setting a
+    handler when the module is imported would change Ctrl-C for every
+    program that imports it. ``python -m redcorr`` catches that window too
+    (:mod:`redcorr.__main__`).
     """
     status = main()
     if status == 130:

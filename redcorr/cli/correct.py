@@ -79,6 +79,18 @@ def add_parser(sub):
     r.add_argument("--lon-col", metavar="COL", help="RA or l column for --map (guessed)")
     r.add_argument("--lat-col", metavar="COL", help="Dec or b column for --map (guessed)")
     r.add_argument("--frame", metavar="FRAME", help="frame of the position columns: icrs (default) or galactic")
+    r.add_argument("--distance-col", metavar="COL",
+                   help="column of distances (pc): a distance-resolved --map gives the reddening to each star")
+    r.add_argument("--distance-err-col", metavar="COL", help="column of the distances' uncertainty (pc)")
+    r.add_argument("--parallax-col", metavar="COL",
+                   help="column of parallaxes (mas), instead of --distance-col; without --parallax-err-col "
+                        "the distance is 1000/parallax and a parallax <= 0 is flagged")
+    r.add_argument("--parallax-err-col", metavar="COL",
+                   help="column of the parallaxes' uncertainty (mas): distance from the posterior with an "
+                        "exponentially decreasing space density prior")
+    r.add_argument("--prior-length", type=finite_float, metavar="PC",
+                   help="length scale of that prior in pc (with --parallax-err-col; the run summary "
+                        "records the value used)")
     d = p.add_argument_group("dust")
     d.add_argument("--law", default="f99", metavar="NAME",
                    help="extinction law or grain model (see redcorr curve --list), or file:PATH (default f99)")
@@ -129,10 +141,15 @@ def _options(args):
         raise InputError("give --teff-col or --solve-colour, not both")
     if args.map is None:
         given = {"--map-scale": args.map_scale != 1.0, "--lon-col": args.lon_col, "--lat-col": args.lat_col,
-                 "--frame": args.frame}
+                 "--frame": args.frame, "--distance-col": args.distance_col,
+                 "--distance-err-col": args.distance_err_col, "--parallax-col": args.parallax_col,
+                 "--parallax-err-col": args.parallax_err_col, "--prior-length": args.prior_length is not None}
         stray = [option for option, value in given.items() if value]
         if stray:
             raise InputError(f"{', '.join(stray)}: used only with --map; give --map or drop {', '.join(stray)}")
+    if args.distance_col and args.parallax_col:
+        raise InputError(f"--distance-col {args.distance_col} and --parallax-col {args.parallax_col}: "
+                         "give a distance or a parallax column, not both")
     spectrum = "column" if args.teff_col else "colour" if args.solve_colour else "fixed"
     return correction_options(
         args.band, law=args.law, r_v=args.rv,
@@ -140,6 +157,9 @@ def _options(args):
         ebv_column=args.ebv_col, av_column=args.av_col, ebv=args.ebv, av=args.av, dust_map=args.map,
         reddening_error_column=args.red_err_col, reddening_error=args.red_err, map_scale=args.map_scale,
         lon_column=args.lon_col, lat_column=args.lat_col, frame=args.frame,
+        distance_column=args.distance_col, distance_error_column=args.distance_err_col,
+        parallax_column=args.parallax_col, parallax_error_column=args.parallax_err_col,
+        prior_length=args.prior_length,
         rv_column=args.rv_col, rv_error=args.rv_err, rv_error_column=args.rv_err_col,
         nonlinear=not args.linear, extrapolate=args.extrapolate,
         spectrum=spectrum, temperature=args.teff, temperature_column=args.teff_col,

@@ -75,6 +75,15 @@ is the input; the derivative of the A_V spline, A_b/E(B-V) in linear mode,
 a central difference of ±0.001 mag on a coefficient grid or with R_V per
 row) and ∂A_b/∂R_V a central difference (±0.05) at fixed E(B-V) or A_V.
 
+Distance-resolved maps: with a distance (or parallax) column the map is
+looked up at each row's distance; with its uncertainty, at a distribution of
+distances (:class:`redcorr.maps.distance.DistanceSamples`: a Gaussian
+distance, or the posterior of a parallax under an exponentially decreasing
+space density prior, Bailer-Jones 2015), giving the mean E over it and its
+standard deviation σ_d, which joins the reddening's own σ in quadrature:
+σ_E² = σ_given² + σ_d² (independent). A parallax without an error is taken
+as exact, d = 1000/ϖ pc.
+
 Source temperature: fixed (``temperature``), a column, or solved from an
 observed colour: starting from ``temperature``, deredden the colour,
 convert it to T with the blackbody colour of the two bands (AB magnitudes
@@ -87,6 +96,8 @@ References
    the source spectrum and on the amount of extinction, Sect. 3).
 .. [2] Cardelli, J. A., Clayton, G. C., & Mathis, J. S. 1989, ApJ 345, 245,
    Eq. 1 (A(λ)/A(V) = a(x) + b(x)/R_V).
+.. [3] Bailer-Jones, C. A. L. 2015, PASP 127, 994, Sect. 5 (distance from a
+   parallax with an exponentially decreasing space density prior).
 """
 
 from redcorr.correction.columns import band_label

@@ -14,6 +14,9 @@ common names, case-insensitively (the first match in the order below wins):
   ``rv``; temperature: ``teff``, ``t_eff``, ``temperature``;
 * positions for a dust map: RA/Dec (:data:`RA_NAMES`, :data:`DEC_NAMES`),
   else l/b (:data:`GLON_NAMES`, :data:`GLAT_NAMES`).
+
+A distance or parallax column for a distance-resolved map is never
+guessed: it is used only when named.
 """
 
 import re
@@ -121,6 +124,11 @@ class ColumnPlan:
         Column of the reddening and of its σ.
     lon_col, lat_col, frame : str or None
         Positions looked up in the dust map, and their frame.
+    dist_kind : {"distance", "parallax"} or None
+        What ``dist_col`` holds (pc or mas), for a distance-resolved map;
+        None without one, or for a map without distances.
+    dist_col, dist_err_col : str or None
+        Column of the distance (or parallax) and of its σ.
     rv_col, rv_err_col, t_col : str or None
         Columns of R_V, σ(R_V) and temperature.
     """
@@ -134,6 +142,9 @@ class ColumnPlan:
     lon_col: str = None
     lat_col: str = None
     frame: str = None
+    dist_kind: str = None
+    dist_col: str = None
+    dist_err_col: str = None
     rv_col: str = None
     rv_err_col: str = None
     t_col: str = None
@@ -146,6 +157,7 @@ class ColumnPlan:
                 cols.append(c)
         if self.red_kind == "map":
             cols += [self.lon_col, self.lat_col]
+            cols += [c for c in (self.dist_col, self.dist_err_col) if c]
         return cols
 
 
@@ -222,6 +234,7 @@ def _reddening_columns(columns, source):
     elif source.kind == "map":
         out["red_quantity"] = "ebv" if str(source.dust_map.unit).upper().replace(" ", "") == "E(B-V)" else "av"
         out.update(_position_columns(columns, source))
+        out.update(_distance_columns(columns, source))
     elif source.ebv_column is not None or source.av_column is not None:
         out["red_quantity"] = "ebv" if source.ebv_column is not None else "av"
         out["red_col"] = _require(columns, source.ebv_column or source.av_column,
@@ -260,6 +273,21 @@ def _position_columns(columns, source):
         "a dust map needs positions: no RA/Dec or l/b columns found; name them "
         f"(lon_column, lat_column); the columns are {columns}"
     )
+
+
+def _distance_columns(columns, source):
+    """The distance fields of :class:`ColumnPlan`; none for a map without distances (named columns still checked)."""
+    if source.parallax_column is not None:
+        kind, col, err = "parallax", source.parallax_column, source.parallax_error_column
+    elif source.distance_column is not None:
+        kind, col, err = "distance", source.distance_column, source.distance_error_column
+    else:
+        return {}
+    col = _require(columns, col, f"{kind}_column")
+    err = _require(columns, err, f"{kind}_error_column")
+    if getattr(source.dust_map, "distances_pc", None) is None:
+        return {}  # a map of whole sight lines: the distances are not used (Correction warns)
+    return {"dist_kind": kind, "dist_col": col, "dist_err_col": err}
 
 
 def column_names(table):

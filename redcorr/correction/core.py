@@ -1,19 +1,26 @@
 """The row-by-row correction: :class:`Correction`, set up once and applied to any number of tables."""
 
+import warnings
+
 import numpy as np
 import pandas as pd
 
+from redcorr._constants import MAP_FLAGS
 from redcorr.correction.columns import band_label, column_names, float_column, plan_columns, text_column
 from redcorr.correction.flags import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
 from redcorr.correction.options import CorrectionOptions, bands_beyond_curve
 from redcorr.correction.providers import DIFF_STEP, make_provider
 from redcorr.correction.temperature import ColourTable
-from redcorr.exceptions import InputError
+from redcorr.exceptions import DistanceIgnoredWarning, InputError, OutOfRangeWarning
+from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples
 
 __all__ = ["Correction"]
 
 _RV_HALF_STEP = 0.05
 """Half step of the central difference dA_b/dR_V at a constant R_V."""
+
+_MAP_DISTANCE_BITS = np.uint8(MAP_FLAGS["beyond"] | MAP_FLAGS["no-distance"])
+"""Map flags about the distance, which have correction flags of their own (not ``map_coverage``)."""
 
 
 class Correction:
@@ -42,11 +49,13 @@ class Correction:
         The columns :meth:`correct` adds, in order.
     summary : RunSummary
         Counts of the rows corrected so far.
-    first_line : int or None
-        Line of the input file holding the first row (1-based), set by the
-        caller that reads the file; messages about a row then give its line
-        (exact unless comment lines, blank lines or quoted line breaks come
-        between rows). None (the default): rows are counted from 1.
+    describe_row : callable or None
+        How messages name a row of the input: ``describe_row(n)`` for row
+        ``n`` (from 0, over every table corrected so far) returns a text
+        such as ``"row 12 (line 15 of the file)"``. Set by the caller that
+        reads the file, which alone knows where a row is (see
+        :meth:`redcorr.io.catalogs.CatalogReader.describe_row`). None (the
+        default): ``"row N"``, counted from 1.
 
     Examples
     --------
@@ -87,21 +96,15 @@ class Correction:
         self._outside_curve_all = bool(bands_beyond_curve(self.curve, self.bands))
         self._providers = {}
         self.output_columns = self._out_names()
-        clash = [c for c in self.output_columns if c in self.columns]
-        if clash:
-            other = self._out_names(self.suffix + "_2")
-            fixed = [c for c in clash if c in other]  # the same whatever the suffix
-            advice = (f"the suffix ({self.suffix!r}) renames only the corrected magnitudes and colours, so rename "
-                      f"{fixed} in the input (is it already corrected?)" if fixed else "choose another suffix")
-            raise InputError(f"output columns {clash} already exist in the input; {advice}")
         self.summary = RunSummary(self.setup())
-        self.first_line = None
+        self.describe_row = None
+        self._warn_distance()
 
     # -- set-up -------------------------------------------------------------------------------
     def _has_errors(self, err_col):
         dust = self.options.dust
         return (err_col is not None or self.plan.red_err_col is not None or self.options.reddening.reddening_error > 0
-                or dust.rv_error_column is not None or dust.rv_error > 0)
+                or self.plan.dist_err_col is not None or dust.rv_error_column is not None or dust.rv_error > 0)
 
     def _out_names(self, suffix=None):
         """The output column names, with ``suffix`` (default: :attr:`suffix`) on the corrected ones."""
@@ -127,10 +130,40 @@ class Correction:
         names.append(FLAG_COLUMN)
         return names
 
+    def _warn_distance(self):
+        """Warn once, at set-up, when a map and the distance columns do not go together."""
+        source = self.options.reddening
+        if self.plan.red_kind != "map":
+            return
+        named = source.distance_column or source.parallax_column
+        distances = getattr(source.dust_map, "distances_pc", None)
+        if named is not None and distances is None:
+            warnings.warn(
+                f"map {source.dust_map.name!r} has no distances: the column {named!r} is not used and each row "
+                "gets the reddening of its whole sight line",
+                DistanceIgnoredWarning,
+                stacklevel=3,
+            )
+        elif named is None and distances is not None:
+            warnings.warn(
+                f"map {source.dust_map.name!r} is distance-resolved but no distance or parallax column was "
+                f"named: every row gets the map's value at its last distance, {float(distances[-1]):g} pc "
+                f"(flag bit {CORRECTION_FLAGS['beyond_map']}), which over-corrects nearer stars; name a distance "
+                "column (pc) or a parallax column (mas)",
+                OutOfRangeWarning,
+                stacklevel=3,
+            )
+
     def setup(self):
         """A JSON-ready description of this correction (for summaries and file metadata)."""
         source = self.options.reddening
         spectrum = self.options.spectrum.spectrum
+        distance = None
+        if self.plan.dist_kind is not None:
+            distance = {"kind": self.plan.dist_kind, "column": self.plan.dist_col,
+                        "error_column": self.plan.dist_err_col}
+            if self.plan.dist_kind == "parallax" and self.plan.dist_err_col is not None:
+                distance["prior_length_pc"] = self._prior_length()
         return {
             "law": self.options.dust.law,
             "curve": self.curve.name,
@@ -146,6 +179,7 @@ class Correction:
                 "column": self.red_col,
                 "constant": source.ebv if source.ebv is not None else source.av,
                 "error_column": self.plan.red_err_col,
+                "distance": distance,
             },
             "mode": "nonlinear" if self.options.dust.nonlinear else "linear",
             "spectrum": spectrum,
@@ -248,6 +282,7 @@ class Correction:
     def _reddening(self, table, flags):
         n = len(table)
         source, plan = self.options.reddening, self.plan
+        spread = np.zeros(n) if plan.dist_err_col is not None else None  # σ over each row's distances
         if plan.red_kind == "constant":
             red = np.full(n, source.ebv if source.ebv is not None else source.av)
         elif plan.red_kind == "column":
@@ -263,27 +298,108 @@ class Correction:
                 raise InputError(f"column {plan.lat_col!r} has latitude {float(lat[first])!r} in {self._where(first)}, "
                                  "outside [-90, 90] (strict mode)")
             good &= ~off_sky  # a position off the sphere is no position: the row is flagged missing
+            distance = self._distances(table, flags)
             map_flags = np.zeros(n, np.uint8)
             if np.any(good):
-                values, mflags = source.dust_map.lookup(lon[good], lat[good], frame=plan.frame)
-                red[good] = np.asarray(values, float) * source.map_scale
-                map_flags[good] = np.asarray(mflags, np.uint8)
-            flags[good & ((map_flags != 0) | ~np.isfinite(red))] |= CORRECTION_FLAGS["map_coverage"]
+                extra = {}
+                if distance is not None:
+                    extra["distance"] = DistanceSamples(distance.nodes_pc[good], distance.weights[good],
+                                                        distance.method)
+                    extra["return_error"] = spread is not None
+                found = source.dust_map.lookup(lon[good], lat[good], frame=plan.frame, **extra)
+                red[good] = np.asarray(found[0], float) * source.map_scale
+                if spread is not None:
+                    spread[good] = np.asarray(found[1], float) * source.map_scale
+                map_flags[good] = np.asarray(found[-1], np.uint8)
+            no_distance = (map_flags & MAP_FLAGS["no-distance"]) != 0
+            no_value = ((map_flags & ~_MAP_DISTANCE_BITS) != 0) | (~np.isfinite(red) & ~no_distance)
+            flags[good & no_value] |= CORRECTION_FLAGS["map_coverage"]
+            flags[(map_flags & MAP_FLAGS["beyond"]) != 0] |= CORRECTION_FLAGS["beyond_map"]
+            flags[no_distance] |= CORRECTION_FLAGS["no_distance"]
         if plan.red_err_col is not None:
             err = self._numeric(table, plan.red_err_col, flags)
         else:
             err = np.full(n, source.reddening_error)
+        if spread is not None:  # the map's σ over the distance, independent of the reddening's own
+            err = np.hypot(err, spread)
         return red, err
 
-    def _where(self, i):
-        """Row ``i`` of the table being corrected, for messages: its number in the input, and its line."""
-        row = self.summary.rows + i
-        if self.first_line is None:
-            return f"row {row + 1}"
-        return f"row {row + 1} (line {self.first_line + row} of the file)"
+    def _distances(self, table, flags):
+        """Each row's distance for a distance-resolved map, as `DistanceSamples` (None: none named).
 
-    def correct(self, frame):
-        """Correct one DataFrame; return the input columns followed by the output columns.
+        A value that gives no distance (a negative distance or error, a
+        parallax <= 0 without an error, a parallax error <= 0) makes the row
+        unusable, so the map flags it; in strict mode it raises instead.
+        """
+        plan = self.plan
+        if plan.dist_kind is None:
+            return None
+        value = self._numeric(table, plan.dist_col, flags)
+        error = self._numeric(table, plan.dist_err_col, flags) if plan.dist_err_col else None
+        if plan.dist_kind == "distance":
+            self._refuse(value < 0, plan.dist_col, value, "a distance >= 0 pc is needed")
+            if error is None:
+                return DistanceSamples.point(value)
+            self._refuse(error < 0, plan.dist_err_col, error, "a distance error >= 0 pc is needed")
+            return DistanceSamples.gaussian(value, error)
+        if error is None:
+            self._refuse(value <= 0, plan.dist_col, value,
+                         "a parallax > 0 mas is needed (or a parallax error column, for the prior)")
+            with np.errstate(divide="ignore"):
+                return DistanceSamples.point(1000.0 / value)  # pc from mas; a parallax <= 0 gives no distance
+        self._refuse(error <= 0, plan.dist_err_col, error, "a parallax error > 0 mas is needed")
+        return DistanceSamples.from_parallax(value, error, length_scale_pc=self._prior_length())
+
+    def _prior_length(self):
+        """pc: the length scale of the distance prior for parallaxes (the option, else the default)."""
+        length = self.options.reddening.prior_length
+        return EDSD_LENGTH_SCALE_PC if length is None else length
+
+    def _refuse(self, bad, col, values, allowed):
+        """In strict mode, raise for the first row of ``bad`` (rows whose ``values`` give no distance)."""
+        if self.options.output.strict and np.any(bad):
+            first = int(np.flatnonzero(bad)[0])
+            raise InputError(f"column {col!r} has {float(values[first])!r} in {self._where(first)}, where "
+                             f"{allowed} (strict mode)")
+
+    def _where(self, i):
+        """Row ``i`` of the table being corrected, for messages (see :attr:`describe_row`)."""
+        row = self.summary.rows + i
+        return f"row {row + 1}" if self.describe_row is None else self.describe_row(row)
+
+    def written_columns(self, keep):
+        """The columns of a result: the input columns ``keep`` followed by :attr:`output_columns`.
+
+        Parameters
+        ----------
+        keep : list of str
+            Input columns copied to the result.
+
+        Raises
+        ------
+        InputError
+            If a copied column has the name of an output column (the input
+            was corrected before, say): the message says which to leave out
+            of ``keep`` and which another suffix would rename.
+        """
+        keep = [str(c) for c in keep]
+        clash = [c for c in self.output_columns if c in keep]
+        if clash:
+            other = self._out_names(self.suffix + "_2")
+            fixed = [c for c in clash if c in other]  # the same whatever the suffix
+            renamed = [c for c in clash if c not in other]
+            advice = []
+            if fixed:
+                advice.append(f"leave {fixed} out of the copied columns (keep_columns; --keep on the command line)")
+            if renamed:
+                advice.append(f"choose another suffix than {self.suffix!r} (suffix; --suffix) for {renamed}, "
+                              "or leave them out too")
+            raise InputError(f"output columns {clash} already exist in the input (is it already corrected?); "
+                             + "; ".join(advice))
+        return keep + self.output_columns
+
+    def correct(self, frame, keep=None):
+        """Correct one DataFrame; return the kept input columns followed by the output columns.
 
         The counts of the rows processed are added to :attr:`summary`.
 
@@ -291,24 +407,28 @@ class Correction:
         ----------
         frame : pandas.DataFrame
             With the columns given at set-up.
+        keep : list of str, optional
+            Input columns to copy to the result (default all); see
+            :meth:`written_columns` for a name shared with an output column.
 
         Returns
         -------
         pandas.DataFrame
             Same index as ``frame``.
         """
-        out = self.apply(frame)
+        out = self.apply(frame, keep)
         self.summary.add(out)
         return out
 
-    def apply(self, frame):
+    def apply(self, frame, keep=None):
         """The same table as :meth:`correct`, without counting it in :attr:`summary`.
 
         For tables corrected elsewhere (the partitions of a Dask DataFrame,
         :mod:`redcorr.io.dask_engine`), whose counts are gathered afterwards.
         """
+        self.written_columns(frame.columns if keep is None else keep)
         added = pd.DataFrame(self._arrays(frame), index=frame.index)
-        return pd.concat([frame, added], axis=1)
+        return pd.concat([frame if keep is None else frame[list(keep)], added], axis=1)
 
     def correct_arrays(self, table):
         """Correct one table; return only the output columns, as a dict of numpy arrays.

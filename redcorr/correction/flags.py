@@ -15,13 +15,21 @@ bit  value  name                  meaning
 5    32     map_coverage          the dust map has no value here (outputs NaN)
 6    64     not_converged         the colour–temperature iteration did not
                                   converge within ``max_iterations``
+7    128    beyond_map            a distance-resolved map: the row lies beyond
+                                  the map's last distance, or no distance column
+                                  was named; E(B-V) is the map's value at its
+                                  last distance (a lower limit for a star beyond)
+8    256    no_distance           a distance-resolved map: the row's distance or
+                                  parallax is missing or gives no distance (a
+                                  parallax <= 0 without an error; outputs NaN)
 ===  =====  ====================  =============================================
 
 The values are :data:`CORRECTION_FLAGS` (kept in :mod:`redcorr._constants`
 so that ``redcorr correct --help`` lists them without importing numpy).
 They are not the bits of a dust map's lookup flags
 (:data:`redcorr._constants.MAP_FLAGS`): a row whose map value is missing
-gets ``map_coverage`` whatever the map's own reason.
+gets ``map_coverage`` whatever the map's own reason, except the two about
+the distance, which are ``beyond_map`` and ``no_distance``.
 """
 
 import time
@@ -127,7 +135,16 @@ class RunSummary:
 
 
 def warn_summary(summary):
-    """Warn (`OutOfRangeWarning`) about rows corrected with clamped or extrapolated coefficients."""
+    """Warn (`OutOfRangeWarning`) about rows corrected with clamped coefficients or beyond a map's reach."""
+    beyond = summary.flagged["beyond_map"]
+    if beyond:
+        warnings.warn(
+            f"{beyond} row(s) lie beyond the reach of the distance-resolved map or have no distance named: "
+            "their E(B-V) is the map's value at its last distance, a lower limit for a star beyond it and too "
+            f"much for one in front of it (flag bit {CORRECTION_FLAGS['beyond_map']})",
+            OutOfRangeWarning,
+            stacklevel=3,
+        )
     outside = summary.flagged["outside_grid"]
     if outside:
         warnings.warn(

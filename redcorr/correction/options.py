@@ -38,6 +38,10 @@ SPECTRA = ("fixed", "column", "colour")
 """Ways of setting the source temperature: one value, a column, or solved from a colour."""
 
 
+_DISTANCE_FIELDS = ("distance_column", "distance_error_column", "parallax_column", "parallax_error_column")
+"""The columns giving each row's distance to a distance-resolved map."""
+
+
 def _set(obj, name, value):
     """Store a normalised field value on a frozen dataclass (from its ``__post_init__``)."""
     object.__setattr__(obj, name, value)
@@ -234,6 +238,23 @@ class ReddeningSource:
         Position columns for the map (both or neither).
     frame : str, optional
         Frame of the position columns: ``"icrs"`` (default) or ``"galactic"``.
+    distance_column : str, optional
+        Column of each row's distance in pc, for a distance-resolved map:
+        the reddening is then the map's to that distance.
+    distance_error_column : str, optional
+        Column of σ of the distance in pc (a Gaussian distance, truncated
+        at 0); the reddening's σ over it joins the reddening's error.
+    parallax_column : str, optional
+        Column of parallaxes in mas, instead of ``distance_column``. Without
+        ``parallax_error_column`` the distance is 1000/parallax, and a
+        parallax <= 0 gives no usable distance (the row is flagged).
+    parallax_error_column : str, optional
+        Column of σ of the parallax in mas: the distance is then the
+        posterior with an exponentially decreasing space density prior
+        (:meth:`redcorr.maps.distance.DistanceSamples.from_parallax`).
+    prior_length : float, optional
+        pc; the prior's length scale, with ``parallax_error_column`` only
+        (default :data:`redcorr.maps.distance.EDSD_LENGTH_SCALE_PC`).
     """
 
     ebv: float = None
@@ -247,6 +268,11 @@ class ReddeningSource:
     lon_column: str = None
     lat_column: str = None
     frame: str = None
+    distance_column: str = None
+    distance_error_column: str = None
+    parallax_column: str = None
+    parallax_error_column: str = None
+    prior_length: float = None
 
     def __post_init__(self):
         chosen = [n for n in ("ebv", "av", "ebv_column", "av_column", "dust_map") if getattr(self, n) is not None]
@@ -255,8 +281,10 @@ class ReddeningSource:
         for name in ("ebv", "av"):
             if getattr(self, name) is not None:
                 _set(self, name, check_finite(name, getattr(self, name)))
-        for name in ("ebv_column", "av_column", "reddening_error_column", "lon_column", "lat_column"):
+        for name in ("ebv_column", "av_column", "reddening_error_column", "lon_column", "lat_column",
+                     *_DISTANCE_FIELDS):
             _column_name(name, getattr(self, name))
+        self._check_distance()
         if self.dust_map is not None:
             if not (hasattr(self.dust_map, "lookup") and hasattr(self.dust_map, "unit")):
                 raise InputError(f"dust_map={self.dust_map!r} is not a reddening map; open it with redcorr.io.open_map")
@@ -264,6 +292,24 @@ class ReddeningSource:
             if (self.lon_column is None) != (self.lat_column is None):
                 raise InputError("give both position columns (lon_column and lat_column) or neither")
         _set(self, "reddening_error", _non_negative("reddening_error", self.reddening_error))
+
+    def _check_distance(self):
+        """Distance options only with a map, a distance or a parallax (not both), errors with their value."""
+        given = [n for n in (*_DISTANCE_FIELDS, "prior_length") if getattr(self, n) is not None]
+        if given and self.dust_map is None:
+            raise InputError(f"{given[0]}={getattr(self, given[0])!r} is used only with a dust map; give dust_map")
+        if self.distance_column is not None and self.parallax_column is not None:
+            raise InputError(f"distance_column={self.distance_column!r} and parallax_column="
+                             f"{self.parallax_column!r}: give a distance or a parallax column, not both")
+        for error, value in (("distance_error_column", "distance_column"),
+                             ("parallax_error_column", "parallax_column")):
+            if getattr(self, error) is not None and getattr(self, value) is None:
+                raise InputError(f"{error}={getattr(self, error)!r} needs {value}")
+        if self.prior_length is not None:
+            if self.parallax_error_column is None:
+                raise InputError(f"prior_length={self.prior_length!r} is the prior of a parallax with an error; "
+                                 "it needs parallax_error_column")
+            _set(self, "prior_length", check_positive("prior_length", self.prior_length))
 
     @property
     def kind(self):

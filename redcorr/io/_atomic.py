@@ -20,6 +20,18 @@ opens (0644 under the usual umask 022).
 Outputs that belong together (a catalog and its summary) are placed
 together through an :func:`output_group`: both are written first, then
 placed in order; if placing the second fails, the first is removed again.
+When overwriting, the files being replaced are first moved aside to
+``.NAME.redcorr-PID-xxxxxx.old`` in their folder and removed only once
+every new file is placed; on a failure they are moved back, so the old
+outputs are never lost. (If the process is killed in between, a later run
+moves such a file back when its name is free, else removes it.) While the
+group is placed the targets are briefly absent.
+
+Temporaries of redcorr versions before the PID was recorded in their names
+(``.NAME.XXXXXXXX.part…``, from ``tempfile``) are not removed: such a name
+tells nothing of the process that made it, which may be an older redcorr
+still writing, so removing it could break that run. A SIGKILLed run of such
+a version leaves them for the user to delete by hand.
 """
 
 import contextlib
@@ -43,7 +55,7 @@ ENVIRONMENT_ERRNOS = frozenset(
 )
 """errno values that describe the environment (disk, permissions), not the user's input."""
 
-_STALE = re.compile(r"^\..+\.redcorr-(\d+)-[0-9a-f]+\.(?:part|spool|old)")
+_STALE = re.compile(r"^\.(?P<name>.+)\.redcorr-(?P<pid>\d+)-[0-9a-f]+\.(?P<kind>part|spool|old)")
 _NO_LINK = frozenset({errno.EPERM, errno.EOPNOTSUPP, errno.ENOTSUP, errno.EXDEV, errno.EMLINK})
 
 
@@ -73,6 +85,9 @@ def remove_stale(folder):
 
     Only names of the form ``.NAME.redcorr-PID-xxxxxx.part…`` (also
     ``.spool`` and ``.old``) whose PID is not a live process are touched.
+    An ``.old`` file is an output moved aside while an :func:`output_group`
+    was placed: it is moved back to ``NAME`` if that name is free (the run
+    died before placing the new output), else removed.
 
     Parameters
     ----------
@@ -81,13 +96,31 @@ def remove_stale(folder):
     with contextlib.suppress(OSError), os.scandir(folder or ".") as entries:
         for entry in entries:
             match = _STALE.match(entry.name)
-            if match is None or int(match.group(1)) == os.getpid() or _alive(int(match.group(1))):
+            if match is None or int(match.group("pid")) == os.getpid() or _alive(int(match.group("pid"))):
                 continue
-            if entry.is_dir(follow_symlinks=False):
-                shutil.rmtree(entry.path, ignore_errors=True)
-            else:
-                with contextlib.suppress(FileNotFoundError):
-                    os.unlink(entry.path)
+            if match.group("kind") == "old" and _restore(entry.path, os.path.join(folder or ".", match.group("name"))):
+                continue
+            _remove(entry.path)
+
+
+def _remove(path):
+    """Remove a file or folder; a missing one is no error."""
+    if os.path.isdir(path) and not os.path.islink(path):
+        shutil.rmtree(path, ignore_errors=True)
+    else:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(path)
+
+
+def _restore(old, target):
+    """Move ``old`` back to ``target`` unless something is there; True if moved."""
+    if os.path.lexists(target):
+        return False
+    try:
+        os.rename(old, target)
+    except OSError:
+        return False
+    return True
 
 
 def _exists_error(target, name="output"):
@@ -254,27 +287,38 @@ class _Group:
         self.pending = []
 
     def place(self):
-        placed = []
+        """Place every pending output, or none: on a failure the folder is put back as it was.
+
+        Outputs being overwritten are moved aside first and removed only
+        once every new one is placed; on a failure the new ones are removed
+        and the old ones moved back.
+        """
+        aside, placed, current = [], [], None
         try:
             for item in self.pending:
-                try:
-                    item.place()
-                except OSError as exc:
-                    problem = environment_error(exc, item.target)
-                    if problem is not None:
-                        raise problem from exc
-                    raise
-                placed.append(item.target)
-        except BaseException:
+                current = item.target
+                if item.overwrite and os.path.lexists(current):
+                    old = _temp_name(current, "old")
+                    os.replace(current, old)
+                    aside.append((current, old))
+            for item in self.pending:
+                current = item.target
+                item.place()
+                placed.append(current)
+        except BaseException as exc:
             for target in placed:
-                if target.is_dir():
-                    shutil.rmtree(target, ignore_errors=True)
-                else:
-                    with contextlib.suppress(FileNotFoundError):
-                        os.unlink(target)
+                _remove(target)
+            for target, old in reversed(aside):
+                with contextlib.suppress(OSError):  # else a later run moves it back (remove_stale)
+                    os.replace(old, target)
+            problem = environment_error(exc, current)
+            if problem is not None:
+                raise problem from exc
             raise
         finally:
             self.discard()
+        for _, old in aside:
+            _remove(old)
 
     def discard(self):
         for item in self.pending:

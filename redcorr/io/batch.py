@@ -78,7 +78,9 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
         Write ``OUTPUT.summary.json``.
     keep_columns : list of str, optional
         Input columns to copy to the output before the new ones (default
-        all; ``[]`` writes the new columns only).
+        all; ``[]`` writes the new columns only). None may share a name
+        with an output column (an input corrected before: leave its old
+        output columns out, see :meth:`~redcorr.correction.Correction.written_columns`).
 
     Returns
     -------
@@ -91,6 +93,7 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
         columns, fmt_in = probe.columns, probe.format
     correction = make_correction(columns)
     keep = _keep(columns, keep_columns)
+    correction.written_columns(keep)  # a kept column named like an output is refused before any output exists
     if out_format is None and not output_path.suffix:
         out_format = fmt_in
     text_columns = set()
@@ -130,7 +133,7 @@ def _stream(input_path, output_path, correction, options, text_columns, out_form
                 and detect_format(output_path, out_format) == "csv")
     with open_catalog(input_path, numeric_columns=numeric, text_columns=text_columns, verbatim=verbatim,
                       **options) as reader:
-        correction.first_line = reader.first_line  # messages about a row give its line in the file
+        correction.describe_row = reader.describe_row  # messages about a row give its line in the file
         meta = {"redcorr_correction": correction.setup()}
         with CatalogWriter(output_path, fmt=out_format, overwrite=overwrite, inputs=[input_path],
                            delimiter=delimiter, meta=meta, computed=correction.output_columns,
@@ -143,9 +146,8 @@ def _stream(input_path, output_path, correction, options, text_columns, out_form
                     if progress is not None:
                         progress(correction.summary.rows, reader.fraction_done())
                 return
-            selection = keep + correction.output_columns
             for chunk in _prefetch(reader):
-                writer.write(correction.correct(chunk)[selection])
+                writer.write(correction.correct(chunk, keep))
                 if progress is not None:
                     progress(correction.summary.rows, reader.fraction_done())
 
@@ -266,12 +268,13 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
             columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
             correction = make_correction(columns)
             keep = _keep(columns, keep_columns)
+            correction.written_columns(keep)
             numeric, text = correction.numeric_columns(), ()
             scheduler_kw = {"scheduler": client} if client is not None else {}
             while True:
                 try:
                     ddf, _ = _dask_input(input_path, in_format, delimiter, comment, numeric, text)
-                    result = correct_dask(ddf, correction)[keep + correction.output_columns]
+                    result = correct_dask(ddf, correction, keep)
                     summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw,
                                         group)
                     break

@@ -61,7 +61,9 @@ def correction_options(bands, *, law="f99", r_v=None, **options):
         ``ebv_column``, ``av_column``, ``dust_map`` — a path or map
         description, or a map object —, ``reddening_error``,
         ``reddening_error_column``, ``map_scale``, ``lon_column``,
-        ``lat_column``, ``frame``),
+        ``lat_column``, ``frame``, ``distance_column``,
+        ``distance_error_column``, ``parallax_column``,
+        ``parallax_error_column``, ``prior_length``),
         :class:`~redcorr.correction.SpectrumOptions` (``spectrum``,
         ``temperature``, ``temperature_column``, ``solve_colour``,
         ``colour_offset``, ``max_iterations``, ``tolerance``) or

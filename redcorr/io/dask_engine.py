@@ -6,6 +6,7 @@ counts a :class:`~redcorr.correction.RunSummary` holds. Dask is optional
 and imported only when a summary is computed.
 """
 
+import copy
 import warnings
 
 from redcorr.correction import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
@@ -13,7 +14,7 @@ from redcorr.correction import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
 __all__ = ["correct_dask", "summarise_dask"]
 
 
-def correct_dask(ddf, correction):
+def correct_dask(ddf, correction, keep=None):
     """Correct a Dask DataFrame partition by partition; returns a lazy Dask DataFrame.
 
     Parameters
@@ -24,14 +25,31 @@ def correct_dask(ddf, correction):
         :attr:`~redcorr.correction.Correction.summary` is not updated (the
         partitions run elsewhere); summarise the result with
         :func:`summarise_dask`.
+    keep : list of str, optional
+        Input columns to copy to the result (default all).
 
     Returns
     -------
     dask.dataframe.DataFrame
         The same rows and columns as :meth:`~redcorr.correction.Correction.correct` gives.
+
+    Notes
+    -----
+    A worker knows its partition, not the rows before it: a message about
+    a row (strict mode) names the partition and the row counted from the
+    partition's start.
     """
-    meta = correction.apply(ddf._meta)
-    return ddf.map_partitions(correction.apply, meta=meta)
+    meta = correction.apply(ddf._meta, keep)
+    return ddf.map_partitions(_correct_partition, correction, keep, meta=meta)
+
+
+def _correct_partition(frame, correction, keep, partition_info=None):
+    """``correction.apply`` on one partition, its messages naming the partition (``partition_info``: from Dask)."""
+    if partition_info is not None:
+        number = partition_info["number"] + 1
+        correction = copy.copy(correction)  # shared by the threads of other partitions: a copy for this one
+        correction.describe_row = lambda row: f"row {row + 1} of Dask partition {number} (counted from its start)"
+    return correction.apply(frame, keep)
 
 
 def summarise_dask(result, correction, also=(), **compute_options):

@@ -16,6 +16,7 @@ from redcorr.io.correction import correction_options
 from redcorr.tui import _cache
 
 __all__ = [
+    "DISTANCE_KINDS",
     "GOALS",
     "RED_KINDS",
     "SPECTRA",
@@ -28,6 +29,7 @@ __all__ = [
     "fixed_r_v",
     "guess_mapping",
     "guess_reddening",
+    "is_3d_map",
     "is_grain",
     "law_r_v",
     "mapping_options",
@@ -129,6 +131,9 @@ RED_KINDS = {
 }
 """Sources of reddening on the Catalog screen: `Correction` keyword → label."""
 
+DISTANCE_KINDS = {"distance": "distance [pc]", "parallax": "parallax [mas]"}
+"""What the distance column of a distance-resolved map holds, as ``--distance-col`` or ``--parallax-col``."""
+
 SPECTRA = {"fixed": "fixed T [K]", "colour": "T from the colour"}
 """Source temperature: a constant, or solved from the dereddened colour (as ``--solve-colour``)."""
 
@@ -210,13 +215,23 @@ def mapping_options(mapping):
     return {"mag_columns": mags, "err_columns": errs}
 
 
-def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, teff_text, colour):
+def is_3d_map(red_kind, red_value):
+    """True when the reddening is a dust map with distances (the screen then offers a distance column)."""
+    if red_kind != "map" or not str(red_value).strip():
+        return False
+    return getattr(_cache.dust_map(str(red_value).strip()), "distances_pc", None) is not None
+
+
+def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, teff_text, colour, distance=None):
     """The correction's options from the Catalog screen's choices.
 
     Built by `redcorr.io.correction.correction_options`, the function
     ``redcorr correct`` builds them with from the equivalent options
     (``--band``, ``--mag``/``--err``, ``--ebv-col``/``--av-col``/``--ebv``/``--av``/``--map``,
-    ``--law``, ``--rv``, ``--teff``, ``--solve-colour``, ``--colour``).
+    ``--distance-col``/``--distance-err-col``/``--parallax-col``/``--parallax-err-col``,
+    ``--law``, ``--rv``, ``--teff``, ``--solve-colour``, ``--colour``). ``distance`` is
+    ``(kind, column, error column)`` with a kind of `DISTANCE_KINDS`, used for a
+    distance-resolved map only; an empty column means none.
     """
     if red_kind not in RED_KINDS:
         raise InputError(f"reddening={red_kind!r} is not one of {list(RED_KINDS)}")
@@ -232,6 +247,8 @@ def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, tef
         reddening[red_kind] = check_finite(red_kind, value)
     else:
         reddening["dust_map"] = _cache.dust_map(value)
+        if distance is not None and is_3d_map(red_kind, value):
+            reddening.update(_distance_options(*distance))
     pair = colour_pair(colour)
     if spectrum == "colour" and pair is None:
         raise InputError("spectrum='colour' needs the colour B1,B2 to solve the temperature from")
@@ -246,6 +263,18 @@ def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, tef
         temperature=check_finite("temperature", teff_text),
         solve_colour=pair if spectrum == "colour" else None,
     )
+
+
+def _distance_options(kind, column, error_column):
+    """``{kind}_column`` and ``{kind}_error_column`` of `correction_options`, for the names given."""
+    if kind not in DISTANCE_KINDS:
+        raise InputError(f"distance kind={kind!r} is not one of {list(DISTANCE_KINDS)}")
+    out = {}
+    if str(column).strip():
+        out[f"{kind}_column"] = str(column).strip()
+    if str(error_column).strip():
+        out[f"{kind}_error_column"] = str(error_column).strip()
+    return out
 
 
 def preview_correction(frame, options):

@@ -41,6 +41,9 @@ class Session:
     cat_output, cat_overwrite
         The Catalog screen's inputs: file, folder of the file tree, bands (comma-separated),
         colour B1,B2, reddening source and value, source temperature, output and overwrite.
+    cat_dist_kind, cat_dist_col, cat_dist_err : str
+        For a distance-resolved map: ``"distance"`` (pc) or ``"parallax"`` (mas), its column
+        and its error column (empty: none).
     screen : str
         The screen shown last.
     """
@@ -71,6 +74,9 @@ class Session:
     cat_teff: str = "7000"
     cat_output: str = ""
     cat_overwrite: bool = False
+    cat_dist_kind: str = "distance"
+    cat_dist_col: str = ""
+    cat_dist_err: str = ""
     screen: str = "dust"
 
     @classmethod

@@ -58,8 +58,6 @@ class CatalogReader(abc.ABC):
         Column names, known before the first chunk is read.
     n_rows : int or None
         Number of rows if the format tells it up front (FITS, Parquet).
-    first_line : int or None
-        Line of the file holding the first row (1-based), for text formats.
     """
 
     def __init__(self, path, fmt, chunk_rows):
@@ -68,11 +66,17 @@ class CatalogReader(abc.ABC):
         self.chunk_rows = int(chunk_rows)
         self.columns = []
         self.n_rows = None
-        self.first_line = None
 
     def fraction_done(self):
         """Fraction of the input consumed so far, in [0, 1], or None if unknown."""
         return None
+
+    def describe_row(self, row):
+        """How a message names row ``row`` (from 0, in reading order): ``"row N"``, counted from 1.
+
+        Text formats add the line of the file where the row begins.
+        """
+        return f"row {row + 1}"
 
     arrow = False
     """True when the format is read as Arrow tables (:meth:`tables`); DataFrames are then made from them."""

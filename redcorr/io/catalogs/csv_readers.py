@@ -1,9 +1,11 @@
 """Readers of delimited text: CSV (optionally gzip-compressed) and ECSV, streamed by pyarrow."""
 
 import codecs
+import csv
 import gzip
 import io
 import re
+import sys
 import zlib
 
 from redcorr.exceptions import InputError
@@ -24,6 +26,9 @@ _TEXT_CHECK_BYTES = 1 << 16
 
 _STRADDLING = "straddles two block boundaries"
 """pyarrow's message for a row longer than a block; the reader then doubles its block size."""
+
+_CSV_FIELD_LIMIT = 2**31 - 1
+"""Longest field the standard ``csv`` module reads when a row's line is looked for (its default is 128 kB)."""
 
 _DECOMPRESS_ERRORS = (OSError, EOFError, zlib.error)
 """What reading a damaged gzip stream raises (``gzip.BadGzipFile`` is an OSError)."""
@@ -87,7 +92,6 @@ class _CsvReader(CatalogReader):
         if skip_lines == 0 and comment:
             skip_lines = self._leading_comment_lines(compressed)
         self._skip_lines = skip_lines
-        self.first_line = skip_lines + (1 if column_names else 2)  # after the skipped lines (and header)
         numeric_columns, text_columns = set(numeric_columns), set(text_columns)
         self._numeric = [c for c in numeric_columns if c not in text_columns]
         names = (column_names or self._header_names()) if verbatim else None
@@ -103,14 +107,50 @@ class _CsvReader(CatalogReader):
         self._missing_words = pa.array(pa.csv.ConvertOptions().null_values, pa.string())
         self._compressed, self._block = compressed, _CSV_BLOCK_BYTES
         self._convert = convert
-        self._raw, self._reader = self._open()
+        self._undecodable = False
+        self._hook = None
+        self._quiet_row_callback()
+        try:
+            self._raw, self._reader = self._open()
+        except BaseException:
+            self._loud_row_callback()
+            raise
         self.columns = self._column_names = list(self._reader.schema.names)
         try:
             _check_unique(self.columns, self.path)
             self._check_delimiter()
         except InputError:
-            self._raw.close()
+            self.close()
             raise
+
+    def _quiet_row_callback(self):
+        """Catch what pyarrow cannot report from :meth:`_invalid_row` (until :meth:`close`).
+
+        pyarrow decodes a row as UTF-8 before it calls the row callback; when
+        that fails (bytes that are not UTF-8, beyond the part of the file
+        :func:`_check_text` saw) it prints "Exception ignored ..." through
+        ``sys.unraisablehook`` and stops with an error naming the row. This
+        hook records that instead, so that the error says what is wrong;
+        whatever else reaches the hook goes to the previous one.
+        """
+        previous = sys.unraisablehook
+
+        def hook(unraisable):
+            if (getattr(unraisable.object, "__self__", None) is self
+                    and isinstance(unraisable.exc_value, UnicodeDecodeError)):
+                self._undecodable = True
+                return
+            previous(unraisable)
+
+        hook.previous = previous
+        self._hook = hook
+        sys.unraisablehook = hook
+
+    def _loud_row_callback(self):
+        """Undo :meth:`_quiet_row_callback` (if another hook was set since, ours stays in its chain)."""
+        if self._hook is not None and sys.unraisablehook is self._hook:
+            sys.unraisablehook = self._hook.previous
+        self._hook = None
 
     def _check_delimiter(self):
         """Raise InputError when a single column's name holds another common delimiter."""
@@ -177,6 +217,46 @@ class _CsvReader(CatalogReader):
             raise InputError(f"input {str(self.path)!r} could not be read: {exc}") from None
         return count
 
+    def describe_row(self, row):
+        """``"row N (line L of the file)"``: the line is found by reading the file again (see :meth:`_line_of`)."""
+        line = self._line_of(row)
+        return f"row {row + 1}" if line is None else f"row {row + 1} (line {line} of the file)"
+
+    def _line_of(self, row):
+        """The line (from 1) on which data row ``row`` (from 0) begins, or None if it cannot be told.
+
+        The file is read again from its start as pyarrow reads it: the
+        skipped lines (leading comments, an ECSV header) are lines; then
+        records, which a quoted field may spread over several lines. Empty
+        lines are no records, and a record whose field count is not the
+        header's is a comment skipped between rows (any other would have
+        stopped the reader before ``row``). Called for messages only: it
+        reads the file up to that row, once.
+        """
+        opener = gzip.open if self._compressed else open
+        limit = csv.field_size_limit(_CSV_FIELD_LIMIT)  # a field may be as long as pyarrow's block grows
+        try:
+            with opener(self.path, "rt", encoding="utf-8-sig", errors="replace", newline="") as fh:
+                for _ in range(self._skip_lines):
+                    fh.readline()
+                records = csv.reader(fh, delimiter=self._delimiter, quotechar='"', doublequote=True)
+                if not self._given_names:
+                    next(records, None)  # the header
+                count = -1
+                while True:
+                    start = self._skip_lines + records.line_num + 1
+                    fields = next(records, None)
+                    if fields is None:
+                        return None
+                    if fields and len(fields) == len(self.columns):
+                        count += 1
+                        if count == row:
+                            return start
+        except (csv.Error, *_DECOMPRESS_ERRORS):
+            return None
+        finally:
+            csv.field_size_limit(limit)
+
     def _invalid_row(self, row):
         if self._comment and row.text.lstrip().startswith(self._comment):
             return "skip"
@@ -225,6 +305,9 @@ class _CsvReader(CatalogReader):
 
     def _read_error(self, exc):
         text = str(exc)
+        if self._undecodable:
+            return InputError(f"input {str(self.path)!r}: a row has bytes that are not UTF-8 text; "
+                              "a text catalog (CSV, ECSV) must be UTF-8")
         match = re.search(r"In CSV column #(\d+): .*invalid UTF8", text)
         if match:
             names = self._column_names or self._header_names()
@@ -281,6 +364,7 @@ class _CsvReader(CatalogReader):
 
     def close(self):
         self._raw.close()
+        self._loud_row_callback()
 
 
 def _ecsv_header(path, compressed):

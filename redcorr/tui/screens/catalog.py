@@ -18,12 +18,14 @@ from redcorr.io.catalogs import open_catalog
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import (
+    DISTANCE_KINDS,
     RED_KINDS,
     SPECTRA,
     catalog_options,
     catalog_probe,
     guess_mapping,
     guess_reddening,
+    is_3d_map,
     is_grain,
     law_r_v,
     preview_correction,
@@ -50,6 +52,8 @@ _FIELDS = {
     "cat-red-value": "cat_red_value",
     "cat-teff": "cat_teff",
     "cat-output": "cat_output",
+    "cat-dist-col": "cat_dist_col",
+    "cat-dist-err": "cat_dist_err",
 }
 
 
@@ -59,7 +63,8 @@ class CatalogScreen(GrainWait, Screen):
     TITLE = "Catalog"
     HELP = (
         "open a catalog (file tree or path), check the guessed columns, choose the reddening "
-        "(column, constant or dust map), preview the first rows, run (cancel is safe: no partial output)"
+        "(column, constant or dust map; a distance-resolved map also takes a distance or parallax column), "
+        "preview the first rows, run (cancel is safe: no partial output)"
     )
     BINDINGS = [
         Binding("ctrl+o", "open", "Open"),
@@ -100,6 +105,12 @@ class CatalogScreen(GrainWait, Screen):
                         [(v, k) for k, v in SPECTRA.items()], value=s.cat_spectrum, allow_blank=False, id="cat-spectrum"
                     )
                     yield Field("", s.cat_teff, input_id="cat-teff", placeholder="K", width=10)
+                with Horizontal(classes="form", id="cat-distance"):  # shown for a distance-resolved map
+                    yield Select([(v, k) for k, v in DISTANCE_KINDS.items()], value=s.cat_dist_kind,
+                                 allow_blank=False, id="cat-dist-kind")
+                    yield Field("", s.cat_dist_col, input_id="cat-dist-col", placeholder="column", width=20)
+                    yield Field("error", s.cat_dist_err, input_id="cat-dist-err", placeholder="column (optional)",
+                                width=22)
                 yield Static(id="cat-dust", classes="info")
                 yield Label("Columns (guessed; change them here)", classes="section")
                 yield ColumnMapping(id="cat-mapping")
@@ -119,6 +130,7 @@ class CatalogScreen(GrainWait, Screen):
         yield Footer()
 
     async def on_mount(self):
+        self._show_distance()
         if self.session.cat_input:
             await self.open_catalog()
 
@@ -147,7 +159,7 @@ class CatalogScreen(GrainWait, Screen):
         if attr is None:
             return
         setattr(self.session, attr, event.value)
-        if event.input.id in ("cat-colour", "cat-red-value", "cat-teff"):
+        if event.input.id in ("cat-colour", "cat-red-value", "cat-teff", "cat-dist-col", "cat-dist-err"):
             self.update_preview()
 
     def on_select_changed(self, event):
@@ -155,6 +167,8 @@ class CatalogScreen(GrainWait, Screen):
             self.session.cat_red_kind = event.value
         elif event.select.id == "cat-spectrum" and event.value in SPECTRA:
             self.session.cat_spectrum = event.value
+        elif event.select.id == "cat-dist-kind" and event.value in DISTANCE_KINDS:
+            self.session.cat_dist_kind = event.value
         elif not str(event.select.id or "").startswith("map-"):
             return
         self.update_preview()
@@ -248,10 +262,16 @@ class CatalogScreen(GrainWait, Screen):
         law, r_v = self._law(for_run)
         mapping = self.query_one(ColumnMapping).mapping
         return (self._bands(), mapping, s.cat_red_kind, s.cat_red_value, law, r_v, s.cat_spectrum, s.cat_teff,
-                s.cat_colour)
+                s.cat_colour, (s.cat_dist_kind, s.cat_dist_col, s.cat_dist_err))
+
+    def _show_distance(self):
+        """Offer the distance (or parallax) column only for a map with distances."""
+        s = self.session
+        self.query_one("#cat-distance").display = guarded(is_3d_map, s.cat_red_kind, s.cat_red_value).value is True
 
     def update_preview(self):
         """Correct the first rows through `Correction` and show them before and after."""
+        self._show_distance()
         if self.preview is None or self.running:
             return
         s = self.session
@@ -268,12 +288,14 @@ class CatalogScreen(GrainWait, Screen):
         self.query_one("#cat-red-value").set_class(error.startswith(("ebv", "av", "map", "no reddening")), "-refused")
         self.query_one("#cat-teff").set_class(error.startswith("temperature"), "-refused")
         self.query_one("#cat-colour").set_class(error.startswith(("colour", "spectrum")), "-refused")
+        self.query_one("#cat-dist-col").set_class(error.startswith(("distance_column", "parallax_column")), "-refused")
+        self.query_one("#cat-dist-err").set_class(error.startswith(("distance_error", "parallax_error")), "-refused")
         status.show_outcome(combine(options, result))
         if not result.ok:
             return
         out, corr = result.value
         self._suffix = corr.suffix
-        before = list(dict.fromkeys(corr.mag_cols + ([corr.red_col] if corr.red_col else [])))
+        before = list(dict.fromkeys(corr.mag_cols + [c for c in (corr.red_col, corr.plan.dist_col) if c]))
         after = [m + corr.suffix for m in corr.mag_cols] + ["ebv_used", "dered_flags"]
         self._fill(self.query_one("#cat-before", DataTable), self.preview, before)
         self._fill(self.query_one("#cat-after", DataTable), out, after)
