@@ -18,6 +18,7 @@ CORRECTION_FLAGS = {
     "not_converged": 64,
     "beyond_map": 128,
     "no_distance": 256,
+    "prior_distance": 512,
 }
 """dict: name → value of each bit of a correction's ``dered_flags`` column (``redcorr.correction.flags``)."""
 

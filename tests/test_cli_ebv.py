@@ -301,3 +301,17 @@ def test_negative_parallax_with_error_is_allowed(capsys, cube_file):
     assert rows[0]["distance_pc"] == pytest.approx(_edsd_mode(-0.5, 0.5, 1000.0), rel=1e-9)
     assert rows[0]["distance_pc"] > 3000.0 and rows[0]["flag"] == 16
     assert np.isfinite(rows[0]["ebv"]) and rows[0]["ebv_err"] > 0
+
+
+def test_parallaxes_that_say_little_are_warned_about(capsys, cube_file):
+    # 2.0 ± 0.1 mas (5 %) is a measurement; 2.0 ± 0.5 (25 %) and -0.5 ± 0.5 leave the distance to the
+    # prior (redcorr.maps.PRIOR_FRACTION = 0.2, after Bailer-Jones 2015, sect. 4): one warning line
+    rows, err = _json(capsys, ["ebv", "--map", cube_file, "--l", "30", "--b", "20",
+                               "--parallax=2.0,2.0,-0.5", "--parallax-err", "0.1,0.5,0.5"])
+    assert len(rows) == 3
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and "2 of 3 parallax(es) say little about the distance" in lines[0]
+    assert "1350 pc (--prior-length)" in lines[0]
+    _, err = _json(capsys, ["ebv", "--map", cube_file, "--l", "30", "--b", "20", "--parallax", "2.0",
+                            "--parallax-err", "0.1"])
+    assert err == ""

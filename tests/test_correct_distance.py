@@ -161,8 +161,14 @@ def _posterior_moments(plx, err, length, reach=REACH):
 def test_parallax_with_an_error_uses_the_distance_posterior(cube, length):
     plx = np.array([2.0, 1.0, 1.5, 0.8])
     err = np.array([0.1, 0.1, 0.3, 0.2])
-    out, summary = correct_dataframe(stars(4, plx=plx, e_plx=err), ["kw-v"], dust_map=cube, parallax_column="plx",
-                                     parallax_error_column="e_plx", prior_length=length, nonlinear=False)
+    # 0.8 ± 0.2 mas, a fractional error of 0.25, is the one whose distance comes mostly from the prior
+    # (redcorr.maps.PRIOR_FRACTION = 0.2; 1.5 ± 0.3 sits on the limit and is not flagged)
+    with pytest.warns(OutOfRangeWarning, match=r"^1 row\(s\) have a parallax that says little"):
+        out, summary = correct_dataframe(stars(4, plx=plx, e_plx=err), ["kw-v"], dust_map=cube,
+                                         parallax_column="plx", parallax_error_column="e_plx", prior_length=length,
+                                         nonlinear=False)
+    assert flags_of(out).tolist() == [0, 0, 0, CORRECTION_FLAGS["prior_distance"]]
+    assert summary["flagged"]["prior_distance"] == 1
     mean, sd = np.array([_posterior_moments(p, e, length) for p, e in zip(plx, err, strict=True)]).T
     # Tolerance 2e-3 σ_E: the 64 nodes of DistanceSamples.from_parallax reproduce the quadrature's
     # mean and σ of E to 1.6e-3 σ_E at worst here (the 20 % parallax error, L = 1 kpc; measured,

@@ -11,7 +11,7 @@ from astropy import units as u
 from scipy import integrate, optimize, stats
 
 from redcorr.exceptions import InputError
-from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples, edsd_mode
+from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples, edsd_mode, prior_dominated
 
 L_PC = 1350.0  # the default length scale, 1.35 kpc (Bailer-Jones 2015, sect. 5 examples; from memory)
 
@@ -322,3 +322,13 @@ def test_bad_shapes_units_and_node_counts():
         DistanceSamples.gaussian([1.0], [0.1], n_nodes=2)
     with pytest.raises(InputError, match="must be equal and 2-d"):
         DistanceSamples(np.ones((2, 3)), np.ones((2, 4)))
+
+
+def test_prior_dominated_parallaxes():
+    # The definition (redcorr.maps.PRIOR_FRACTION = 0.2, our choice after Bailer-Jones 2015, sect. 4):
+    # a parallax <= 0, or a fractional error σ/ϖ above 0.2; NaN gives no distance at all, so it is not
+    # "dominated by the prior". Quantities in other angle units are converted (1 mas = 1e-3 arcsec).
+    plx = np.array([10.0, 5.0, 4.0, 0.0, -1.0, np.nan, 3.0])
+    err = np.array([1.0, 1.0, 1.0, 0.5, 0.5, 0.1, np.inf])
+    assert prior_dominated(plx, err).tolist() == [False, False, True, True, True, False, False]
+    assert prior_dominated(4.0 * u.mas, 0.001 * u.arcsec).tolist() is True

@@ -172,7 +172,12 @@ def _broadcast(lon, lat, named):
 
 def _lookup_distance(kind, value, err, prior_length):
     """What to give the map as ``distance``, the distance_pc to print, and header lines on both."""
-    from redcorr.maps import DistanceSamples, edsd_mode
+    import warnings
+
+    import numpy as np
+
+    from redcorr.exceptions import OutOfRangeWarning
+    from redcorr.maps import PRIOR_FRACTION, DistanceSamples, edsd_mode, prior_dominated
 
     if kind is None:
         return None, None, []
@@ -187,6 +192,15 @@ def _lookup_distance(kind, value, err, prior_length):
     scale = {} if prior_length is None else {"length_scale_pc": prior_length}
     samples = DistanceSamples.from_parallax(value, err, **scale)
     length = samples.length_scale_pc
+    weak = int(np.count_nonzero(prior_dominated(value, err) & (err > 0)))
+    if weak:
+        warnings.warn(
+            f"{weak} of {samples.size} parallax(es) say little about the distance (error above "
+            f"{PRIOR_FRACTION:g} of the parallax, or a parallax <= 0): their distance and E(B-V) come mostly "
+            f"from the prior and its length scale, {length:g} pc (--prior-length)",
+            OutOfRangeWarning,
+            stacklevel=2,
+        )
     note = [
         f"distance_pc: mode of the distance posterior with {_EDSD}, length scale {length:g} pc",
         "ebv_err: standard deviation of E(B-V) over that posterior",

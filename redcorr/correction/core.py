@@ -12,7 +12,7 @@ from redcorr.correction.options import CorrectionOptions, bands_beyond_curve
 from redcorr.correction.providers import DIFF_STEP, make_provider
 from redcorr.correction.temperature import ColourTable
 from redcorr.exceptions import DistanceIgnoredWarning, InputError, OutOfRangeWarning
-from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples
+from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples, prior_dominated
 
 __all__ = ["Correction"]
 
@@ -348,6 +348,7 @@ class Correction:
             with np.errstate(divide="ignore"):
                 return DistanceSamples.point(1000.0 / value)  # pc from mas; a parallax <= 0 gives no distance
         self._refuse(error <= 0, plan.dist_err_col, error, "a parallax error > 0 mas is needed")
+        flags[prior_dominated(value, error) & (error > 0)] |= CORRECTION_FLAGS["prior_distance"]
         return DistanceSamples.from_parallax(value, error, length_scale_pc=self._prior_length())
 
     def _prior_length(self):

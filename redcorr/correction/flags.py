@@ -22,6 +22,10 @@ bit  value  name                  meaning
 8    256    no_distance           a distance-resolved map: the row's distance or
                                   parallax is missing or gives no distance (a
                                   parallax <= 0 without an error; outputs NaN)
+9    512    prior_distance        a parallax with an error, but one that says
+                                  little (σ/ϖ > 0.2 or ϖ <= 0): the distance, and
+                                  so E(B-V), comes mostly from the prior's
+                                  length scale (``--prior-length``)
 ===  =====  ====================  =============================================
 
 The values are :data:`CORRECTION_FLAGS` (kept in :mod:`redcorr._constants`
@@ -142,6 +146,15 @@ def warn_summary(summary):
             f"{beyond} row(s) lie beyond the reach of the distance-resolved map or have no distance named: "
             "their E(B-V) is the map's value at its last distance, a lower limit for a star beyond it and too "
             f"much for one in front of it (flag bit {CORRECTION_FLAGS['beyond_map']})",
+            OutOfRangeWarning,
+            stacklevel=3,
+        )
+    prior = summary.flagged["prior_distance"]
+    if prior:
+        warnings.warn(
+            f"{prior} row(s) have a parallax that says little about their distance (error above "
+            "0.2 of the parallax, or a parallax <= 0): their distance, and so their E(B-V), comes mostly "
+            f"from the prior and its length scale (flag bit {CORRECTION_FLAGS['prior_distance']})",
             OutOfRangeWarning,
             stacklevel=3,
         )

@@ -101,7 +101,7 @@ from redcorr.maps._base import (
     check_distances,
     describe_flags,
 )
-from redcorr.maps.distance import DistanceSamples, edsd_mode
+from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, PRIOR_FRACTION, DistanceSamples, edsd_mode, prior_dominated
 from redcorr.maps.frames import parse_frame, transform_lonlat
 from redcorr.maps.healpix import HEALPIX_UNSEEN, HealpixReddeningMap
 from redcorr.maps.image import ImageReddeningMap, ImageTile
@@ -121,6 +121,9 @@ __all__ = [
     "MAP_FLAGS",
     "DistanceSamples",
     "edsd_mode",
+    "prior_dominated",
+    "EDSD_LENGTH_SCALE_PC",
+    "PRIOR_FRACTION",
     "check_distances",
     "HEALPIX_UNSEEN",
     "INTERPOLATIONS",

@@ -69,11 +69,17 @@ from astropy import units as u
 from redcorr._validate import as_float_array, check_positive, shown
 from redcorr.exceptions import InputError
 
-__all__ = ["DistanceSamples", "edsd_mode", "EDSD_LENGTH_SCALE_PC"]
+__all__ = ["DistanceSamples", "edsd_mode", "prior_dominated", "EDSD_LENGTH_SCALE_PC", "PRIOR_FRACTION"]
 
 EDSD_LENGTH_SCALE_PC = 1350.0
 """float: default length scale L (pc) of the EDSD prior: 1.35 kpc, the value Bailer-Jones (2015)
 uses in the examples of sect. 5 (from memory). It suits no population in particular: set L for yours."""
+
+PRIOR_FRACTION = 0.2
+"""float: a parallax whose fractional error σ_ϖ/ϖ exceeds this (or which is <= 0) gives a distance
+that comes mostly from the prior (`prior_dominated`). Bailer-Jones (2015, sect. 4) finds that above
+about 0.1–0.2 the posterior depends strongly on the prior (the range is from memory); 0.2 is our
+choice of where to warn."""
 
 _GAUSS_HALF_WIDTH = 5.0
 """Gaussian nodes reach this many σ either side of the mean (mass beyond: 5.7e-7)."""
@@ -244,6 +250,36 @@ class DistanceSamples:
         samples = cls(nodes, weights, method=f"EDSD prior (Bailer-Jones 2015), L = {length:g} pc, {m} nodes")
         samples.length_scale_pc = length
         return samples
+
+
+def prior_dominated(parallax_mas, error_mas):
+    """True where a parallax says little about the distance, so that the prior decides it.
+
+    Parameters
+    ----------
+    parallax_mas, error_mas : array_like or `~astropy.units.Quantity` ['angle']
+        Parallax ϖ and its standard error σ_ϖ (plain numbers are mas); they broadcast.
+
+    Returns
+    -------
+    ndarray of bool
+        ϖ <= 0, or σ_ϖ/ϖ > `PRIOR_FRACTION`, for finite values; False where either is NaN
+        or infinite (those give no distance at all).
+
+    Examples
+    --------
+    >>> prior_dominated([10.0, 2.0, -0.5, np.nan], [0.5, 1.0, 0.3, 0.1]).tolist()
+    [False, True, True, False]
+
+    References
+    ----------
+    .. [1] Bailer-Jones, C. A. L. 2015, PASP 127, 994, sect. 4.
+    """
+    plx = _angle(parallax_mas, "parallax_mas")
+    err = _angle(error_mas, "error_mas")
+    finite = np.isfinite(plx) & np.isfinite(err)
+    with np.errstate(invalid="ignore"):
+        return finite & ((plx <= 0) | (err > PRIOR_FRACTION * plx))
 
 
 def edsd_mode(parallax_mas, error_mas, length_scale_pc=EDSD_LENGTH_SCALE_PC):
