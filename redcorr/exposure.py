@@ -39,6 +39,7 @@ References
 
 import dataclasses
 import math
+import warnings
 
 import numpy as np
 
@@ -60,7 +61,7 @@ from redcorr.ccd import (
     dominant_noise,
     gaussian_aperture_fraction,
 )
-from redcorr.exceptions import InputError, UnknownNameError
+from redcorr.exceptions import InputError, OutOfRangeWarning, UnknownNameError
 from redcorr.extinction import band_extinction
 from redcorr.photometry import ab_photon_rate, synthetic_colour
 
@@ -69,6 +70,7 @@ __all__ = [
     "CAUTION",
     "MAX_EXPOSURE_S",
     "MAX_SNR",
+    "PLAUSIBLE_MAGS",
     "Channel",
     "Instrument",
     "BandPlan",
@@ -93,6 +95,27 @@ from memory) of the tens of pixels of an aperture: no single exposure reaches it
 BRIGHTEST_MAG = -30.0
 """Brightest dust-free AB magnitude planned: brighter than the Sun (V ≈ −26.7, from memory), which is
 no point source for an imager."""
+
+
+PLAUSIBLE_MAGS = (-5.0, 40.0)
+"""Dust-free AB magnitudes of a point source worth planning for without a warning: no star of the
+night sky is brighter than about −1.5 (Sirius, from memory) and no exposure reaches 40 (the deepest
+reach about 30, from memory). Outside this span a magnitude is more likely a flux in the wrong unit
+or scale (an unnormalised spectrum given with ``--calibrated``) than a real source."""
+
+
+def _warn_implausible(names, mags):
+    """Warn once for magnitudes outside :data:`PLAUSIBLE_MAGS`, naming the bands."""
+    lo, hi = PLAUSIBLE_MAGS
+    odd = [f"{name} {m:.3g}" for name, m in zip(names, mags, strict=True) if not lo <= m <= hi]
+    if odd:
+        warnings.warn(
+            f"source AB magnitude outside {lo:g}..{hi:g}, implausible for a point source ({', '.join(odd)}): "
+            "the times planned for it mean little; if it comes from a flux-calibrated spectrum, check the "
+            "flux's unit and scale (F_lambda or F_nu of the source as it arrives, not normalised)",
+            OutOfRangeWarning,
+            stacklevel=3,
+        )
 
 
 def _check_snr(name, snr):
@@ -455,6 +478,7 @@ def plan_exposure(
                 noise=ch.dominant_noise(m, t_dust, a_band) if t_dust > 0 else "read",
             )
         )
+    _warn_implausible(names, mags)  # once the plan stands: a refused one is one message, not two
     if snr is not None:
         plans.sort(key=lambda p: p.t_dust_s)
     else:

@@ -8,7 +8,8 @@ from numpy.testing import assert_allclose
 from published import AB_ZERO_POINT_JY
 
 from redcorr.cli import main
-from redcorr.exposure import CAUTION
+from redcorr.exceptions import OutOfRangeWarning
+from redcorr.exposure import CAUTION, plan_exposure
 from redcorr.extinction import band_extinction
 from redcorr.io import load_curve
 from redcorr.io.instrument import load_instrument
@@ -191,3 +192,54 @@ def test_time_vs_av_table_starts_at_the_clear_time_and_grows(capsys):
     # In time mode the bands are ranked by the S/N they reach.
     rows, _ = _json(capsys, [*BASE, "--time", "300", "--json"])
     assert [r["snr"] for r in rows] == sorted((r["snr"] for r in rows), reverse=True)
+
+
+@pytest.mark.parametrize(("mag", "warned"), [(18.0, False), (-12.0, True), (45.0, True)])
+def test_an_implausible_calibrated_source_is_warned_about(tmp_path, capsys, mag, warned):
+    # A flat F_nu = 3631 Jy 10^(-0.4 m) has AB magnitude m in every band (Oke & Gunn 1983); a spectrum
+    # normalised to 1 in flux units is what gives magnitudes like these -12 (the issue saw -19.8).
+    from astropy import units as u
+    from astropy.table import Table
+
+    lam = np.linspace(0.3, 1.2, 91) * u.um
+    path = tmp_path / "spectrum.ecsv"
+    Table({"wavelength": lam, "flux": np.full(lam.size, AB_ZERO_POINT_JY * 10 ** (-0.4 * mag)) * u.Jy}).write(path)
+    argv = ["plan", "--instrument", "demo", "--band", "kw-v", "--av", "1", "--time", "100", "--calibrated",
+            "--sed", f"file:{path}"]
+    assert main(argv) == 0
+    err = capsys.readouterr().err
+    assert ("warning: source AB magnitude outside -5..40" in err) is warned
+    if warned:
+        assert f"kw-v {mag:.3g}" in err and "unit and scale" in err
+
+
+def test_plan_exposure_warns_for_an_implausible_magnitude():
+    instrument = load_instrument("demo")
+    common = dict(curve=load_curve("f99"), sed=load_sed("flat"), a_v=1.0, time=100.0)
+    with pytest.warns(OutOfRangeWarning, match="implausible for a point source"):
+        plan_exposure(instrument, ["kw-v"], -6.0, **common)
+    plan_exposure(instrument, ["kw-v"], -4.0, **common)  # within the span: no warning (the suite makes one an error)
+
+
+def test_times_in_the_plan_table_have_a_human_form(capsys):
+    assert main([*BASE, "--band", "kw-b", "--snr", "50"]) == 0
+    out = capsys.readouterr().out
+    row = next(line for line in out.splitlines() if line.startswith("kw-b "))
+    # kw-b needs over an hour here: a time of a minute or more is followed by its form in the largest
+    # unit that keeps it >= 1 (60 s, 3600 s, 86400 s; common practice, no source), 3 significant digits
+    # (t_clear_s, under a minute here, has none)
+    cells = row.split()
+    t_clear, t_dust = float(cells[3]), float(cells[4])
+    assert t_clear < 60 and t_dust >= 3600 and cells[5:7] == [f"({t_dust / 3600:.3g}", "h)"]
+
+
+@pytest.mark.parametrize(
+    ("seconds", "text"),
+    # unit sizes: 60 s, 3600 s, 86400 s, 365.25 d (common practice, no source); 3 significant digits
+    [(42.0, "42 s"), (90.0, "1.5 min"), (7200.0, "2 h"), (1.658e7, "192 d"), (3.15576e9, "100 yr")],
+)
+def test_human_time(seconds, text):
+    from redcorr.cli._common import human_time, time_cell
+
+    assert human_time(seconds) == text
+    assert time_cell(seconds) == (f"{seconds:.4g} ({text})" if seconds >= 60 else f"{seconds:.4g}")

@@ -148,13 +148,17 @@ def test_distance_resolved_map_on_two_worker_processes(tmp_path, cluster):
     def make(columns):
         return Correction(columns, options)
 
-    with pytest.warns(OutOfRangeWarning, match="beyond the reach"):
+    with pytest.warns(OutOfRangeWarning) as stream_warnings:
         want_summary = correct_file(tmp_path / "whole.csv", tmp_path / "single.parquet", make, chunk_rows=11)
-    with pytest.warns(OutOfRangeWarning, match="beyond the reach"):
+    with pytest.warns(OutOfRangeWarning) as dask_warnings:
         summary = correct_file_dask(str(tmp_path / "part-*.csv"), tmp_path / "out_ds", make,
                                     scheduler=cluster.scheduler_address)
+    for caught in (stream_warnings, dask_warnings):
+        text = " | ".join(str(w.message) for w in caught)
+        assert "beyond the reach" in text and "20 row(s) have a parallax that says little" in text
     assert summary.flagged == want_summary.flagged
     assert summary.flagged["no_distance"] == 20  # a NaN parallax, and a parallax error of 0
+    assert summary.flagged["prior_distance"] == 20  # 0.2 ± 0.1 and -0.5 ± 0.3 mas
     got = _sorted(pd.read_parquet(tmp_path / "out_ds"))
     want = _sorted(pd.read_parquet(tmp_path / "single.parquet"))
     # bitwise: a map lookup gives each position the same bits whatever it is looked up with

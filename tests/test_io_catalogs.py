@@ -407,3 +407,38 @@ def test_arrow_path_writes_the_file_the_dataframe_path_writes(tmp_path, in_suffi
         assert pq.read_table(arrow_out).equals(pq.read_table(frames_out), check_metadata=True)
     else:
         pd.testing.assert_frame_equal(read_catalog(arrow_out), read_catalog(frames_out), check_exact=True)
+
+
+def test_csv_header_is_quoted_only_where_needed_as_the_rows_are(tmp_path):
+    frame = intrinsic(4)
+    frame["note, free text"] = ["a", "b, c", "d", "e"]  # a column name and a field holding the delimiter
+    src = write_catalog(frame, tmp_path / "in.parquet")
+    out = tmp_path / "out.csv"
+    correct_file(src, out, _make)
+    lines = out.read_text().splitlines()
+    # RFC 4180 (Shafranovich 2005, §2 rules 5-6): quotes only around a field holding the delimiter,
+    # a quote or a line break; names are fields of the header line like any other
+    assert lines[0].startswith('id,kw_b,e_kw_b,kw_v,') and '"note, free text"' in lines[0]
+    assert lines[0].count('"') == 2
+    assert pd.read_csv(out).columns.tolist()[: len(frame.columns)] == frame.columns.tolist()
+    assert '"b, c"' in lines[2]
+
+
+def test_dask_run_time_covers_the_computation(tmp_path, monkeypatch):
+    import time
+
+    import redcorr.io.dask_engine as engine
+
+    write_catalog(intrinsic(20), tmp_path / "part-0.csv")
+    slow = engine._correct_partition
+
+    def correct_slowly(*args, **kwargs):
+        time.sleep(0.3)
+        return slow(*args, **kwargs)
+
+    monkeypatch.setattr(engine, "_correct_partition", correct_slowly)
+    from redcorr.io.batch import correct_file_dask
+
+    summary = correct_file_dask(str(tmp_path / "part-*.csv"), tmp_path / "out.csv", _make)
+    # each partition sleeps 0.3 s, so the run took at least that (the report once said 0.00 s)
+    assert summary.to_dict()["seconds"] >= 0.3

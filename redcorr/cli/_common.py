@@ -18,6 +18,8 @@ __all__ = [
     "positive_float",
     "positive_seconds",
     "check_outputs",
+    "human_time",
+    "time_cell",
 ]
 
 WAVE_UNITS = {"um": "um", "nm": "nm", "AA": "AA", "1/um": "1 / um", "um-1": "1 / um"}
@@ -79,6 +81,44 @@ def positive_seconds(text):
     return _positive(text, " s")
 
 
+_TIME_UNITS = (("yr", 365.25 * 86400.0), ("d", 86400.0), ("h", 3600.0), ("min", 60.0))
+"""Units of :func:`human_time`, longest first (a Julian year of 365.25 d)."""
+
+
+def human_time(seconds):
+    """A time in s in the largest unit that keeps it at least 1, to 3 significant digits.
+
+    Examples
+    --------
+    >>> human_time(1.658e7)
+    '192 d'
+    >>> human_time(884.4)
+    '14.7 min'
+    >>> human_time(42.0)
+    '42 s'
+    """
+    if not math.isfinite(seconds):
+        return f"{seconds:g} s"
+    for unit, size in _TIME_UNITS:
+        if abs(seconds) >= size:
+            return f"{seconds / size:.3g} {unit}"
+    return f"{seconds:.3g} s"
+
+
+def time_cell(seconds):
+    """A time in s for a table: ``.4g``, and its human form (:func:`human_time`) from a minute up.
+
+    Examples
+    --------
+    >>> time_cell(1.658e7)
+    '1.658e+07 (192 d)'
+    >>> time_cell(50.33)
+    '50.33'
+    """
+    text = format(seconds, ".4g")
+    return f"{text} ({human_time(seconds)})" if math.isfinite(seconds) and abs(seconds) >= 60.0 else text
+
+
 def check_outputs(args, *options):
     """Refuse unusable output paths of ``args`` before any work is done.
 
@@ -133,7 +173,8 @@ def print_table(rows, columns, formats=None, file=None):
     columns : list of str
         Keys to show, in order; also the header.
     formats : dict, optional
-        Key → format spec for values (default ``.4f`` for floats).
+        Key → format spec for values (default ``.4f`` for floats), or a function float → str.
+        Columns of numbers are aligned right either way.
     """
     formats = formats or {}
     cells = [list(columns)]
@@ -143,7 +184,8 @@ def print_table(rows, columns, formats=None, file=None):
         for col in columns:
             value = row[col]
             if isinstance(value, float):
-                line.append("nan" if math.isnan(value) else format(value, formats.get(col, ".4f")))
+                spec = formats.get(col, ".4f")
+                line.append("nan" if math.isnan(value) else spec(value) if callable(spec) else format(value, spec))
             else:
                 line.append(str(value))
         cells.append(line)

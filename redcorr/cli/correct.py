@@ -51,7 +51,9 @@ def add_parser(sub):
             "Correct the magnitudes of every row of INPUT for interstellar reddening and write "
             "INPUT's columns plus the corrected ones to OUTPUT (never over INPUT; atomically). "
             "INPUT: CSV (also .gz), ECSV, FITS table, Parquet file or folder. A run summary is "
-            "written to OUTPUT.summary.json. Column names are guessed when not given."
+            "written to OUTPUT.summary.json. Column names are guessed when not given (also the names of the "
+            "Gaia archive, 2MASS, Pan-STARRS, SDSS and WISE tables, and VizieR's) and the guesses listed "
+            "on stderr."
         ),
         epilog=_EPILOG,
     )
@@ -126,7 +128,8 @@ def add_parser(sub):
                    help="stream (one process, default) or dask (Parquet datasets, CSV globs)")
     f.add_argument("--scheduler", metavar="ADDRESS", help="distributed scheduler for --engine dask")
     f.add_argument("--json", action="store_true", help="print the run summary as JSON")
-    f.add_argument("--quiet", action="store_true", help="no progress bar and no summary text")
+    f.add_argument("--quiet", action="store_true",
+                   help="no progress bar, no note of the columns guessed and no summary text (errors are shown)")
     p.set_defaults(func=run)
 
 
@@ -202,14 +205,30 @@ class _Progress:
             self._bar.stop()
 
 
+def _note_guesses(plan, options):
+    """Say on stderr which input columns were guessed (``kw-b → Bmag``), so that a wrong guess is seen.
+
+    Said once the run succeeded: a failure is one line on stderr (its message names the column at fault).
+    """
+    from redcorr.correction.columns import guessed_columns  # noqa: PLC0415
+
+    pairs = guessed_columns(plan, options)
+    if pairs:
+        text = ", ".join(f"{what} → {col if col is not None else 'none found'}" for what, col in pairs)
+        print(f"redcorr correct: columns guessed: {text} (name others with --mag, --err, ...)", file=sys.stderr)
+
+
 def run(args):
     from redcorr.correction import Correction  # noqa: PLC0415 - heavy (pandas): loaded on use
     from redcorr.io.batch import correct_file, correct_file_dask  # noqa: PLC0415
 
     options = _options(args)
 
+    made = []
+
     def make(columns):
-        return Correction(columns, options)
+        made.append(Correction(columns, options))
+        return made[-1]
 
     if args.engine == "dask":
         summary = correct_file_dask(
@@ -227,6 +246,8 @@ def run(args):
                 chunk_rows=args.chunk_rows, delimiter=args.delimiter, comment=args.comment, hdu=hdu,
                 overwrite=args.overwrite, progress=progress, keep_columns=args.keep,
             )
+    if not args.quiet:  # after the run, so that a failure stays one line
+        _note_guesses(made[-1].plan, options)
     if args.json:
         print_json(summary.to_dict())
     elif not args.quiet:

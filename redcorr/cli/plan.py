@@ -3,7 +3,15 @@
 import sys
 
 from redcorr._constants import PLAN_CAUTION
-from redcorr.cli._common import check_outputs, finite_float, positive_float, positive_seconds, print_json, print_table
+from redcorr.cli._common import (
+    check_outputs,
+    finite_float,
+    positive_float,
+    positive_seconds,
+    print_json,
+    print_table,
+    time_cell,
+)
 from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
@@ -34,7 +42,7 @@ def add_parser(sub):
                    help="band --mag is measured in (an instrument band or any band spec); "
                         "default: --mag holds in every planned band")
     p.add_argument("--sed", default="flat", metavar="SPEC",
-                   help="source spectrum: blackbody:T, powerlaw:ALPHA, flat (default) or file:PATH")
+                   help="source spectrum: blackbody:T, powerlaw:ALPHA, flat (default), vega, sun or file:PATH")
     dust = p.add_mutually_exclusive_group(required=True)
     dust.add_argument("--av", type=finite_float, metavar="A", help="A_V of the dust, mag")
     dust.add_argument("--ebv", type=finite_float, metavar="E", help="E(B-V) of the dust, mag (A_V = R_V E(B-V))")
@@ -83,7 +91,7 @@ def run(args):
 
     from redcorr.exposure import CAUTION, plan_exposure, snr_vs_time, time_vs_av
     from redcorr.io.instrument import load_instrument
-    from redcorr.io.spectra import load_sed
+    from redcorr.io.spectra import REFERENCE_SPECTRA, load_sed
     from redcorr.photometry import synthetic_ab
 
     check_outputs(args, "--plot", "--av-plot")
@@ -98,10 +106,11 @@ def run(args):
         a_v = args.ebv * curve.r_v
     bands = args.band or instrument.band_names
     if args.calibrated:
-        if not args.sed.lower().endswith((".ecsv", ".fits", ".fit")) or not args.sed.startswith("file:"):
+        united = args.sed.lower().endswith((".ecsv", ".fits", ".fit")) and args.sed.startswith("file:")
+        if not (united or sed.name in REFERENCE_SPECTRA):
             raise InputError(
                 f"--sed={args.sed!r}: --calibrated needs file:PATH to an ECSV or FITS spectrum whose flux "
-                "column carries its unit"
+                "column carries its unit, or vega or sun"
             )
         if args.mag_band:
             raise InputError("--mag-band applies to --mag; a calibrated spectrum gives every band's magnitude")
@@ -166,8 +175,8 @@ def run(args):
         formats={
             "mag": ".3f",
             "A_band": ".3f",
-            "t_clear_s": ".4g",
-            "t_dust_s": ".4g",
+            "t_clear_s": time_cell,
+            "t_dust_s": time_cell,
             "time_factor": ".3g",
             "snr": ".1f",
             "limiting_mag": ".2f",

@@ -7,9 +7,21 @@ common names, case-insensitively (the first match in the order below wins):
   same with the label made column-safe (``kw_v`` ...), then the band letter
   (``vmag``, ``v_mag``, ``mag_v``, ``v``); ``l`` and ``b`` are not taken
   as magnitudes when both exist (they are Galactic coordinates);
+  A band's letter also stands for the names the archives give it: ``K``
+  for ``Ks`` (VizieR's 2MASS ``Kmag``);
+* then the column names of the archives catalogs come from
+  (:data:`ARCHIVE_COLUMNS`): the Gaia archive (``phot_g_mean_mag``, ...),
+  the 2MASS point-source table (``j_m``, ``j_msigcom``), Pan-STARRS
+  (``gMeanPSFMag``, ``gMeanPSFMagErr``), SDSS (``psfMag_g``,
+  ``psfMagErr_g``) and WISE (``w1mpro``, ``w1sigmpro``), each for the
+  library's bands of that survey;
 * its error: ``e_MAG``, ``MAG_err``, ``MAG_error``, ``err_MAG``, ``MAGerr``,
   ``sigma_MAG``, ``MAG_sigma``, ``eMAG``, ``MAG_e``, for the magnitude
-  column, the column-safe label and the band letter;
+  column, the column-safe label and the band letter, then the archive's
+  error column. The Gaia archive gives no magnitude error but the flux's
+  signal-to-noise ratio (``phot_g_mean_flux_over_error``); the error is then
+  2.5/ln 10 divided by it (:func:`magnitude_error`), and
+  :attr:`ColumnPlan.err_kinds` says so;
 * E(B-V): :data:`EBV_NAMES`, else A_V: :data:`AV_NAMES`; R_V: ``r_v``,
   ``rv``; temperature: ``teff``, ``t_eff``, ``temperature``;
 * positions for a dust map: RA/Dec (:data:`RA_NAMES`, :data:`DEC_NAMES`),
@@ -34,11 +46,14 @@ __all__ = [
     "GLAT_NAMES",
     "GLON_NAMES",
     "RA_NAMES",
+    "ARCHIVE_COLUMNS",
     "ColumnPlan",
     "band_label",
     "column_names",
     "find_column",
     "float_column",
+    "guessed_columns",
+    "magnitude_error",
     "plan_columns",
     "text_column",
 ]
@@ -51,6 +66,27 @@ GLON_NAMES = ("glon", "l", "gal_l", "lii")
 GLAT_NAMES = ("glat", "b", "gal_b", "bii")
 _TEFF_NAMES = ("teff", "t_eff", "temperature")
 _ERR_PATTERNS = ("e_{}", "{}_err", "{}_error", "err_{}", "{}err", "sigma_{}", "{}_sigma", "e{}", "{}_e")
+_LETTER_ALIASES = {"ks": ("k",)}
+"""Other names of a band letter in catalogs (lower case): VizieR's 2MASS tables call Ks ``Kmag``."""
+
+ARCHIVE_COLUMNS = {
+    "gaiadr2": ("phot_{}_mean_mag", "phot_{}_mean_flux_over_error", "flux_over_error"),
+    "gaiadr3": ("phot_{}_mean_mag", "phot_{}_mean_flux_over_error", "flux_over_error"),
+    "twomass": ("{}_m", "{}_msigcom", "mag"),
+    "panstarrs": ("{}MeanPSFMag", "{}MeanPSFMagErr", "mag"),
+    "sdss2010": ("psfMag_{}", "psfMagErr_{}", "mag"),
+    "sdss2010noatm": ("psfMag_{}", "psfMagErr_{}", "mag"),
+    "wise2010": ("{}mpro", "{}sigmpro", "mag"),
+}
+"""Band-name prefix → (magnitude column, error column, what the error column holds) of the archive
+those bands come from, ``{}`` standing for the band's letter in lower case (``ks`` as ``k``):
+the Gaia archive's source table, the 2MASS point-source catalogue, the Pan-STARRS mean-object
+table, the SDSS photometric catalog and the WISE source catalogs (their published column names,
+common practice, no source). ``"mag"``: an error in mag; ``"flux_over_error"``: the flux's
+signal-to-noise ratio (:func:`magnitude_error`)."""
+
+_MAG_ERROR_PER_FLUX_SNR = 2.5 / np.log(10.0)
+"""dm = 2.5/ln 10 · dF/F: a magnitude's error from the flux's relative error, to first order."""
 
 
 def band_label(name):
@@ -91,22 +127,74 @@ def _short_name(label):
     return parts[-1] if len(parts) > 1 else None
 
 
+def _letters(label):
+    """The band letter of ``label`` and its other names (:data:`_LETTER_ALIASES`), or ()."""
+    short = _short_name(label)
+    return (short, *_LETTER_ALIASES.get(short.lower(), ())) if short else ()
+
+
+def _archive(label):
+    """(magnitude column, error column, error kind) of the archive ``label``'s band comes from, or None."""
+    prefix, sep, _ = str(label).rpartition("-")
+    if not sep or prefix.lower() not in ARCHIVE_COLUMNS:
+        return None
+    mag, err, kind = ARCHIVE_COLUMNS[prefix.lower()]
+    letter = _letters(label)[-1].lower()
+    return mag.format(letter), err.format(letter), kind
+
+
 def _mag_candidates(label):
     out = []
     for stem in (label, band_label(label)):
         out += [stem, f"{stem}_mag", f"mag_{stem}"]
-    short = _short_name(label)
-    if short:
+    for short in _letters(label):
         out += [f"{short}mag", f"{short}_mag", f"mag_{short}", short]
+    archive = _archive(label)
+    if archive:
+        out.append(archive[0])
     return list(dict.fromkeys(out))
 
 
 def _err_candidates(mag, label):
-    stems = [mag, band_label(label)]
-    short = _short_name(label)
-    if short:
-        stems.append(short)
+    stems = [mag, band_label(label), *_letters(label)]
     return [p.format(s) for s in stems for p in _ERR_PATTERNS]
+
+
+def magnitude_error(values, kind="mag"):
+    """A magnitude's error from an error column of the given kind.
+
+    Parameters
+    ----------
+    values : array_like
+        The error column's values.
+    kind : {"mag", "flux_over_error"}
+        ``"mag"``: already an error in mag, returned as it is;
+        ``"flux_over_error"``: the flux's signal-to-noise ratio F/σ_F, which
+        gives σ_m = 2.5/ln 10 / (F/σ_F) to first order in σ_F/F.
+
+    Returns
+    -------
+    ndarray
+        The error in mag; NaN where a signal-to-noise ratio is ≤ 0 or NaN
+        (no measured flux, so no magnitude error).
+
+    References
+    ----------
+    .. [1] σ_m = (2.5/ln 10) σ_F/F, the first-order propagation of m = −2.5 log₁₀ F
+           (common practice, no source).
+
+    Examples
+    --------
+    >>> print(np.round(magnitude_error([1000.0, 100.0, 0.0], "flux_over_error"), 6))
+    [0.001086 0.010857      nan]
+    """
+    values = np.asarray(values, dtype=float)
+    if kind == "mag":
+        return values
+    if kind == "flux_over_error":
+        positive = values > 0
+        return np.where(positive, _MAG_ERROR_PER_FLUX_SNR / np.where(positive, values, 1.0), np.nan)
+    raise InputError(f"kind={kind!r} is not allowed; use 'mag' or 'flux_over_error'")
 
 
 @dataclass(frozen=True)
@@ -117,6 +205,9 @@ class ColumnPlan:
     ----------
     mag_cols, err_cols : tuple
         Magnitude and error column of each band (an error column may be None).
+    err_kinds : tuple
+        What each error column holds, for :func:`magnitude_error`: ``"mag"``,
+        or ``"flux_over_error"`` (the Gaia archive's flux signal-to-noise).
     red_kind : {"constant", "column", "map"}
     red_quantity : {"ebv", "av"}
         What the reddening source gives.
@@ -135,6 +226,7 @@ class ColumnPlan:
 
     mag_cols: tuple
     err_cols: tuple
+    err_kinds: tuple
     red_kind: str
     red_quantity: str
     red_col: str = None
@@ -180,7 +272,7 @@ def plan_columns(columns, options):
         If a named column does not exist or a needed one cannot be guessed;
         the message lists the columns.
     """
-    mags, errs = _band_columns(columns, options.bands)
+    mags, errs, kinds = _band_columns(columns, options.bands)
     reddening = _reddening_columns(columns, options.reddening)
     dust = options.dust
     t_col = None
@@ -192,6 +284,7 @@ def plan_columns(columns, options):
     return ColumnPlan(
         mag_cols=mags,
         err_cols=errs,
+        err_kinds=kinds,
         **reddening,
         rv_col=_require(columns, dust.rv_column, "rv_column"),
         rv_err_col=_require(columns, dust.rv_error_column, "rv_error_column"),
@@ -200,7 +293,7 @@ def plan_columns(columns, options):
 
 
 def _band_columns(columns, selection):
-    mag_cols, err_cols = [], []
+    mag_cols, err_cols, err_kinds = [], [], []
     for label in selection.labels:
         if label in selection.mag_columns:
             mag = _require(columns, selection.mag_columns[label], f"magnitude column of {label}")
@@ -214,16 +307,71 @@ def _band_columns(columns, selection):
                     f"no magnitude column found for band {label!r}; name it (e.g. --mag "
                     f"{label}=COLUMN); the columns are {columns}"
                 )
+        kind = "mag"
         if label in selection.err_columns:
             err = _require(columns, selection.err_columns[label], f"error column of {label}")
         else:
             err = find_column(columns, _err_candidates(mag, label))
+            archive = _archive(label)
+            if err is None and archive is not None and mag.lower() == archive[0].lower():
+                err = find_column(columns, [archive[1]])  # the archive's own error column, beside its magnitude
+                kind = archive[2] if err is not None else kind
         mag_cols.append(mag)
         err_cols.append(err)
+        err_kinds.append(kind)
     dup = {m for m in mag_cols if mag_cols.count(m) > 1}
     if dup:
         raise InputError(f"several bands map to the magnitude column(s) {sorted(dup)}; name each band's column")
-    return tuple(mag_cols), tuple(err_cols)
+    return tuple(mag_cols), tuple(err_cols), tuple(err_kinds)
+
+
+def guessed_columns(plan, options):
+    """What ``plan`` guessed rather than was told, for a note to the user.
+
+    Parameters
+    ----------
+    plan : ColumnPlan
+        From :func:`plan_columns` with the same ``options``.
+    options : redcorr.correction.CorrectionOptions
+
+    Returns
+    -------
+    list of (str, str)
+        (what, column) pairs in the order of the plan: each band's label →
+        its magnitude column, ``"error of LABEL"`` → its error column (with
+        ``"2.5/ln10 / COLUMN"`` for a flux signal-to-noise column), then
+        ``"E(B-V)"`` or ``"A_V"``, its error, the map's positions and the
+        temperature when guessed. A band whose error was guessed and not
+        found gives ``("error of LABEL", None)``.
+
+    Examples
+    --------
+    >>> from redcorr.bandpass import tophat
+    >>> from redcorr.correction import BandSelection, CorrectionOptions, DustOptions
+    >>> from redcorr.curves import get_curve
+    >>> options = CorrectionOptions(BandSelection([tophat(0.44, 0.1)], labels=["kw-b"]),
+    ...                             DustOptions(get_curve("f99")))
+    >>> guessed_columns(plan_columns(["Bmag", "e_Bmag", "ebv"], options), options)
+    [('kw-b', 'Bmag'), ('error of kw-b', 'e_Bmag'), ('E(B-V)', 'ebv')]
+    """
+    selection, source = options.bands, options.reddening
+    out = []
+    for label, mag, err, kind in zip(selection.labels, plan.mag_cols, plan.err_cols, plan.err_kinds, strict=True):
+        if label not in selection.mag_columns:
+            out.append((label, mag))
+        if label not in selection.err_columns:
+            out.append((f"error of {label}", f"2.5/ln10 / {err}" if kind == "flux_over_error" else err))
+    quantity = "E(B-V)" if plan.red_quantity == "ebv" else "A_V"
+    if plan.red_kind == "column" and source.ebv_column is None and source.av_column is None:
+        out.append((quantity, plan.red_col))
+    if plan.red_err_col is not None and source.reddening_error_column is None:
+        out.append((f"error of {quantity}", plan.red_err_col))
+    if plan.red_kind == "map" and source.lon_column is None:
+        names = ("RA", "Dec") if plan.frame in ("icrs", "fk5") else ("l", "b")
+        out += [(names[0], plan.lon_col), (names[1], plan.lat_col)]
+    if plan.t_col is not None and options.spectrum.temperature_column is None:
+        out.append(("temperature", plan.t_col))
+    return out
 
 
 def _reddening_columns(columns, source):

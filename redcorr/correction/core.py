@@ -6,7 +6,14 @@ import numpy as np
 import pandas as pd
 
 from redcorr._constants import MAP_FLAGS
-from redcorr.correction.columns import band_label, column_names, float_column, plan_columns, text_column
+from redcorr.correction.columns import (
+    band_label,
+    column_names,
+    float_column,
+    magnitude_error,
+    plan_columns,
+    text_column,
+)
 from redcorr.correction.flags import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
 from redcorr.correction.options import CorrectionOptions, bands_beyond_curve
 from redcorr.correction.providers import DIFF_STEP, make_provider
@@ -465,7 +472,8 @@ class Correction:
         mags = np.stack([self._numeric(table, c, flags) for c in self.mag_cols], axis=-1).reshape(n, nb)
         mags[np.isinf(mags)] = np.nan  # an infinite magnitude is a missing one
         errs = np.stack(
-            [self._numeric(table, c, flags) if c is not None else np.zeros(n) for c in self.err_cols], axis=-1
+            [magnitude_error(self._numeric(table, c, flags), kind) if c is not None else np.zeros(n)
+             for c, kind in zip(self.err_cols, self.plan.err_kinds, strict=True)], axis=-1
         ).reshape(n, nb)
         red, red_err = self._reddening(table, flags)
         if plan.rv_col is not None:

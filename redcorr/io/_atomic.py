@@ -124,7 +124,8 @@ def _restore(old, target):
 
 
 def _exists_error(target, name="output"):
-    return InputError(f"{name}={str(target)!r} exists; choose another name or allow overwriting")
+    return InputError(f"{name}={str(target)!r} exists; choose another name or allow overwriting "
+                      "(overwrite=True; --overwrite on the command line)")
 
 
 def environment_error(exc, path):

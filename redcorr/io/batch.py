@@ -46,7 +46,8 @@ def _check_targets(output, overwrite, inputs):
             raise InputError(f"output={str(output)!r} is the input; redcorr never writes over its input")
     side = summary_path(output)
     if side.exists() and not overwrite:
-        raise InputError(f"summary file {str(side)!r} exists; choose another output name or allow overwriting")
+        raise InputError(f"summary file {str(side)!r} exists; choose another output name or allow overwriting "
+                         "(overwrite=True; --overwrite on the command line)")
 
 
 def correct_file(input_path, output_path, make_correction, *, in_format=None, out_format=None,

@@ -80,6 +80,7 @@ def summarise_dask(result, correction, also=(), **compute_options):
         warnings.filterwarnings("ignore", message="Computing mixed collections", category=UserWarning)
         counts, extra, *_ = dask.compute(counts, extra, *also, **compute_options)
     summary = RunSummary(correction.setup())
+    summary.started = correction.summary.started  # timed from the set-up, as the stream engine's run
     summary.rows = int(extra["rows"])
     summary.flagged = {k: int(v) for k, v in counts.items()}
     summary.ebv_min, summary.ebv_max = float(extra["ebv_min"]), float(extra["ebv_max"])

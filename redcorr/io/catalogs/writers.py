@@ -134,6 +134,23 @@ class _FitsSpool:
         shutil.rmtree(self.dir, ignore_errors=True)
 
 
+def _csv_header(names, delimiter):
+    """The CSV header line of ``names``: a name is quoted only where RFC 4180 needs it, as the rows are.
+
+    Examples
+    --------
+    >>> print(_csv_header(["id", "kw_v", "x,y"], ","), end="")
+    id,kw_v,"x,y"
+    """
+
+    def cell(name):
+        if any(c in name for c in (delimiter, '"', "\n", "\r")):
+            return '"' + name.replace('"', '""') + '"'
+        return name
+
+    return delimiter.join(cell(str(n)) for n in names) + "\n"
+
+
 def _csv_bytes(table, options):
     """``table`` as CSV text (a pyarrow buffer)."""
     pa = _pyarrow()
@@ -250,8 +267,7 @@ class CatalogWriter:
                     frame = chunk.to_pandas(types_mapper=_int_as_nullable)
                 self._sink.write(self._ecsv_header(frame).encode("utf-8"))
             else:
-                options = pa.csv.WriteOptions(include_header=True, delimiter=self._delimiter)
-                pa.csv.write_csv(self._schema.empty_table(), self._sink, write_options=options)
+                self._sink.write(_csv_header(self._schema.names, self._delimiter).encode("utf-8"))
             self._csv_options = pa.csv.WriteOptions(
                 include_header=False, delimiter=self._delimiter if self.format == "csv" else ","
             )
