@@ -19,15 +19,22 @@ Conventions
   of F_ν over the detected photons.
 * Integrals are sums Σ_j q_j f(λ_j) with weights q_j that carry T w dλ:
   :func:`trapezoid_weights` gives the trapezoid rule on a band's own
-  samples; :func:`redcorr.extinction.band_quadrature` gives a finer
+  samples, joined by a tabulated spectrum's own samples inside the band;
+  :func:`redcorr.extinction.band_quadrature` gives a finer
   product rule. Wavelength is the last axis.
 * F_λ in erg s⁻¹ cm⁻² Å⁻¹ for absolute magnitudes, λ in µm, F_ν in Jy.
+* Vega magnitudes (:func:`synthetic_vega`, :func:`ab_minus_vega`) are
+  defined by a spectrum of Vega: m_Vega = m_AB − m_AB(Vega) + m₀, where
+  m₀ is Vega's own magnitude in the system (default 0, so that Vega's
+  colours are exactly 0).
 
 References
 ----------
 .. [1] Oke, J. B. & Gunn, J. E. 1983, ApJ 266, 713, eq. (1) (AB magnitudes).
 .. [2] Tokunaga, A. T. & Vacca, W. D. 2005, PASP 117, 421, Appendix (the
        photon-weighted band mean of F_ν). doi:10.1086/429382
+.. [3] Bessell, M. & Murphy, S. 2012, PASP 124, 140 (Vega-based UBVRI,
+       Vega's V = 0.03 and zero colours; from memory).
 """
 
 import math
@@ -47,6 +54,8 @@ __all__ = [
     "trapezoid_weights",
     "synthetic_ab",
     "synthetic_colour",
+    "synthetic_vega",
+    "ab_minus_vega",
     "fnu_photon_rate",
     "ab_photon_rate",
 ]
@@ -148,22 +157,43 @@ def ab_mag(wave_um, flam, weights, axis=-1):
     return flat_fnu_mag(wave_um, flam, weights, axis) + _AB_OFFSET
 
 
-def trapezoid_weights(band):
-    """Trapezoid-rule weights q_j = T_j w(λ_j) Δλ_j on a band's own samples.
+def trapezoid_weights(band, sed=None):
+    """Trapezoid-rule weights q_j = T_j w(λ_j) Δλ_j on a band's samples (and a spectrum's).
 
     Parameters
     ----------
     band : Band
         Response ``response`` at ``wave_um`` (µm) and detector weight
         :meth:`~redcorr.bandpass.Band.weight`.
+    sed : SED, optional
+        A spectrum to be integrated: if it is tabulated (has ``wave_um``,
+        as :class:`~redcorr.sed.TabulatedSED`), its samples inside the band
+        join the grid, the response interpolated linearly between the band's
+        own samples.
 
     Returns
     -------
     wave_um, weights : ndarray
-        The band's samples and the weights, so that Σ q_j f(λ_j) is the
-        trapezoid rule for ∫ f T w dλ.
+        The grid and the weights, so that Σ q_j f(λ_j) is the trapezoid rule
+        for ∫ f T w dλ.
+
+    Notes
+    -----
+    A measured spectrum has lines narrower than a filter curve's steps (a
+    5–10 nm grid is common); read only at the band's samples, Vega's Balmer
+    lines shift its B magnitude by ~0.03 mag. With the spectrum's samples
+    in the grid the sum is the exact integral of the linear interpolants of
+    both (up to the trapezoid rule on their product).
     """
     lam, thr = check_sampled_curve(band.wave_um, band.response, "response")
+    samples = getattr(sed, "wave_um", None)
+    if samples is not None:
+        samples = np.asarray(samples, dtype=float)
+        inside = samples[(samples > lam[0]) & (samples < lam[-1])]
+        if inside.size:
+            grid = np.union1d(lam, inside)
+            thr = np.interp(grid, lam, thr)
+            lam = grid
     step = np.zeros_like(lam)
     dx = 0.5 * np.diff(lam)
     step[:-1] += dx
@@ -199,8 +229,8 @@ def synthetic_ab(sed, band):
 
     Notes
     -----
-    :func:`ab_mag` with the trapezoid rule on the band's samples
-    (:func:`trapezoid_weights`).
+    :func:`ab_mag` with the trapezoid rule on the band's samples and, for a
+    tabulated spectrum, the spectrum's own (:func:`trapezoid_weights`).
 
     References
     ----------
@@ -216,7 +246,7 @@ def synthetic_ab(sed, band):
     >>> abs(synthetic_ab(flat, v) - synthetic_ab(flat, i)) < 1e-12
     True
     """
-    lam, q = trapezoid_weights(band)
+    lam, q = trapezoid_weights(band, sed)
     mag = float(ab_mag(lam, np.asarray(sed.flam(lam), dtype=float), q))
     if not math.isfinite(mag):
         raise InputError(f"the spectrum {getattr(sed, 'name', sed)!r} has no flux in band {_band_label(band)!r}")
@@ -248,7 +278,7 @@ def synthetic_colour(sed, band1, band2):
     """
     mags = []
     for band in (band1, band2):
-        lam, q = trapezoid_weights(band)
+        lam, q = trapezoid_weights(band, sed)
         mags.append(float(flat_fnu_mag(lam, np.asarray(sed.flam(lam), dtype=float), q)))
     colour = mags[0] - mags[1]
     if not math.isfinite(colour):
@@ -257,6 +287,94 @@ def synthetic_colour(sed, band1, band2):
             f"{_band_label(band1)!r} or {_band_label(band2)!r}; cannot convert a magnitude between them"
         )
     return colour
+
+
+def ab_minus_vega(vega, band, vega_mag=0.0):
+    """The offset m_AB − m_Vega of a band, from a spectrum of Vega.
+
+    Parameters
+    ----------
+    vega : SED
+        An absolutely calibrated spectrum of Vega, F_λ in erg s⁻¹ cm⁻² Å⁻¹
+        (at the edge, ``redcorr.io.spectra.load_sed("vega")``).
+    band : Band
+    vega_mag : float or array_like
+        Vega's own magnitude in the band's Vega system (broadcasts).
+
+    Returns
+    -------
+    float or ndarray
+        m_AB(Vega) − ``vega_mag``: add it to a Vega magnitude to get the AB
+        magnitude.
+
+    Raises
+    ------
+    InputError
+        If the spectrum has no flux in the band, or does not cover it.
+
+    Notes
+    -----
+    A Vega system is defined by Vega: a source with Vega's spectrum has
+    magnitude ``vega_mag`` in every band, so that m_Vega = m_AB − m_AB(Vega) +
+    ``vega_mag`` for any source, and Vega's colours are exactly 0 when
+    ``vega_mag`` is the same in every band. The default 0 is the plain
+    definition. Johnson–Cousins UBVRI photometry puts Vega at V = 0.03 with
+    colours of 0 (Bessell & Murphy 2012; from memory), which makes every
+    magnitude 0.03 fainter; 2MASS puts Vega at about 0 (Cohen, Wheaton &
+    Megeath 2003; from memory). The offset depends on the Vega spectrum and
+    the band curve at the 0.01–0.03 mag level: published tables differ by
+    that much.
+
+    References
+    ----------
+    Oke & Gunn 1983, ApJ 266, 713 (AB); Bessell & Murphy 2012, PASP 124,
+    140; Cohen, Wheaton & Megeath 2003, AJ 126, 1090; Blanton & Roweis 2007,
+    AJ 133, 734, Table 1 (AB − Vega offsets).
+    """
+    return synthetic_ab(vega, band) - np.asarray(vega_mag, dtype=float)[()]
+
+
+def synthetic_vega(sed, band, vega, vega_mag=0.0):
+    """Vega-system magnitude in ``band`` of a flux-calibrated spectrum.
+
+    Parameters
+    ----------
+    sed : SED
+        F_λ in erg s⁻¹ cm⁻² Å⁻¹ (a spectrum of arbitrary normalisation gives
+        a magnitude up to a constant, its colours exactly).
+    band : Band
+    vega : SED
+        An absolutely calibrated spectrum of Vega (see :func:`ab_minus_vega`).
+    vega_mag : float or array_like
+        Vega's own magnitude in the band's Vega system (default 0).
+
+    Returns
+    -------
+    float or ndarray
+        m_Vega = m_AB(sed) − m_AB(vega) + ``vega_mag``.
+
+    Raises
+    ------
+    InputError
+        If either spectrum has no flux in the band, or does not cover it.
+
+    Notes
+    -----
+    The convention and its sources are those of :func:`ab_minus_vega`.
+
+    References
+    ----------
+    Bessell & Murphy 2012, PASP 124, 140 (Vega-based magnitudes).
+
+    Examples
+    --------
+    >>> from redcorr.bandpass import tophat
+    >>> from redcorr.sed import blackbody
+    >>> star = blackbody(9600.0)        # a stand-in for a spectrum of Vega
+    >>> round(float(synthetic_vega(star, tophat(0.44, 0.1), star, vega_mag=0.03)), 12)
+    0.03
+    """
+    return synthetic_ab(sed, band) - ab_minus_vega(vega, band, vega_mag)
 
 
 def _area_m2(area):

@@ -146,11 +146,21 @@ class TabulatedSED(SED):
     wave : array_like or `~astropy.units.Quantity`
         Strictly increasing wavelengths (plain numbers in µm); at least 2.
     flam : array_like
-        F_λ at ``wave``, finite and >= 0 (any normalisation).
+        F_λ at ``wave``, finite and >= 0 (any normalisation, or absolute in
+        erg s⁻¹ cm⁻² Å⁻¹ where the source says so).
     name : str
+    citation : str, optional
+        Where the table comes from.
+
+    Attributes
+    ----------
+    wave_um : ndarray
+        The sample wavelengths, µm: band integrals include them
+        (:func:`redcorr.photometry.trapezoid_weights`) so that lines between
+        a band's own samples are not missed.
     """
 
-    def __init__(self, wave, flam, *, name="table"):
+    def __init__(self, wave, flam, *, name="table", citation=""):
         lam = _wave_um(wave)
         f = np.asarray(flam, dtype=float)
         if lam.ndim != 1 or f.shape != lam.shape or lam.size < 2:
@@ -165,12 +175,13 @@ class TabulatedSED(SED):
         if np.any(f < 0):
             raise InputError(f"spectrum {name!r}: flux={f[f < 0][0]:g} is negative; fluxes must be >= 0")
         self.name = name
-        self._wave = lam
+        self.citation = str(citation)
+        self.wave_um = lam
         self._f = f
         self.wave_range_um = (float(lam[0]), float(lam[-1]))
 
     def _flam(self, wave_um):
-        return np.interp(wave_um, self._wave, self._f)
+        return np.interp(wave_um, self.wave_um, self._f)
 
 
 def blackbody(temperature_k):

@@ -85,7 +85,7 @@ def test_coeffs_grid_and_plot(tmp_path, capsys):
         (["--law", "f99", "--band", "kw-vv", "--sed", "flat", "--av", "1"], "did you mean 'kw-v'"),
         (["--law", "f99", "--band", "twomass-Ks*wise2010-W1", "--sed", "flat", "--av", "1"], "overlap"),
         (["--law", "f99", "--band", "wise2010-W2", "--sed", "flat", "--av", "1"], "outside the f99 range"),
-        (["--law", "f99", "--band", "kw-v", "--sed", "vega", "--av", "1"], "sed="),
+        (["--law", "f99", "--band", "kw-v", "--sed", "vega:1", "--av", "1"], "sed="),
         (["--law", "f99", "--band", "kw-v", "--sed", "flat", "--av", "-1"], "negative"),
         (["--law", "f99", "--rv", "9", "--band", "kw-v", "--sed", "flat", "--av", "1"], "r_v"),
         (["--law", "f99", "--band", "file:/no/such.ecsv", "--sed", "flat", "--av", "1"], "does not exist"),

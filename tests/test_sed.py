@@ -75,7 +75,7 @@ def test_load_sed_specs(spec, cls_name, name):
     assert type(sed).__name__ == cls_name and sed.name == name
 
 
-@pytest.mark.parametrize("spec", ["blackbody:-5", "blackbody:hot", "powerlaw:", "vega", "flat:1"])
+@pytest.mark.parametrize("spec", ["blackbody:-5", "blackbody:hot", "powerlaw:", "vega:1", "sirius", "flat:1"])
 def test_load_sed_bad_specs(spec):
     with pytest.raises(InputError):
         load_sed(spec)

@@ -29,7 +29,7 @@ def add_parser(sub):
         "--sed",
         required=True,
         metavar="SOURCE",
-        help="source spectrum: blackbody:T, powerlaw:ALPHA (F_nu ~ nu^ALPHA), flat or file:PATH",
+        help="source spectrum: blackbody:T, powerlaw:ALPHA (F_nu ~ nu^ALPHA), flat, vega, sun or file:PATH",
     )
     amount = p.add_mutually_exclusive_group(required=True)
     amount.add_argument("--av", type=finite_float, metavar="A", help="A_V in mag")

@@ -32,7 +32,8 @@ class BandsScreen(GrainWait, Screen):
     TITLE = "Bands"
     HELP = (
         "choose filters (library names, the project's filters/, your filter files from the file tree or "
-        "file:PATH, tophat:C:W, gauss:C:FWHM) and the source spectrum; the table of A_b, A_b/A_V, "
+        "file:PATH, tophat:C:W, gauss:C:FWHM) and the source spectrum (blackbody:T, powerlaw:ALPHA, flat, "
+        "vega, sun, file:PATH); the table of A_b, A_b/A_V, "
         "A_b/E(B-V), λ_eff; export it"
     )
     BINDINGS = [
