@@ -28,6 +28,9 @@ _LAZY = {
     "read_grain_model": "redcorr.io.grains",
     "read_optical_constants": "redcorr.io.grains",
     "read_size_table": "redcorr.io.grains",
+    "load_intrinsic_colours": "redcorr.io.intrinsic",
+    "read_intrinsic_colours": "redcorr.io.intrinsic",
+    "write_intrinsic_colours": "redcorr.io.intrinsic",
 }
 
 __all__ = list(_LAZY)
