@@ -17,6 +17,7 @@ __all__ = [
     "TruncatedBandWarning",
     "ThroughputWarning",
     "DistanceIgnoredWarning",
+    "FitWarning",
 ]
 
 
@@ -57,3 +58,7 @@ class ThroughputWarning(RedcorrWarning):
 
 class DistanceIgnoredWarning(RedcorrWarning):
     """A distance was given for a map without distances: it gives the whole sight line's reddening."""
+
+
+class FitWarning(RedcorrWarning):
+    """Fitted reddening that could mislead: stars flagged as unfitted, at an edge, bimodal or poorly fitted."""

@@ -1,0 +1,436 @@
+"""numba kernels of :mod:`redcorr.photometric_reddening`: each star's posterior on the model grid.
+
+Importing this module imports numba. The kernels are compiled once and
+cached on disk (``cache=True``); :func:`fit_stars` runs over the stars of
+one chunk in parallel threads (``prange``), one star at a time, with
+scratch arrays the size of the grid's axes (never of the whole grid).
+
+The grid is P[r, t, e, b]: the predicted magnitude of band b, up to the
+free offset μ, at R_V node r, ln T_eff node t and E(B−V) node e. For one
+star with magnitudes m_b and weights w_b = 1/σ_b² (0 for an unusable
+band) the χ² minimised over μ is
+
+    χ²(θ) = Σ w d² − (Σ w d)² / Σ w,   d_b = m_b − P_b(θ)
+
+(see :mod:`redcorr.photometric_reddening` for why this is the marginal
+likelihood). The grid is cut into blocks; a block whose smallest possible
+χ² + prior penalty exceeds the best value found at the blocks' centres
+by more than ``cut`` carries at most e^(−cut/2) of the best node's
+weight per node and is skipped (:func:`fit_stars`, Notes).
+"""
+
+import math
+
+import numpy as np
+from numba import njit, prange
+
+__all__ = ["block_deltas", "fit_stars", "N_OUT"]
+
+# Columns of fit_stars' output rows.
+STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
+EBV, AV, TEFF, RV = 0, 7, 14, 21  # each: the STATS
+LNT_STD = 28
+CHI2 = 29
+NBANDS = 30
+MAP_T, MAP_E, MAP_R = 31, 32, 33
+BIMODAL = 34
+FITTED = 35
+ROUGH = 36
+N_OUT = 37
+
+_PROBS = (0.025, 0.15865525393145707, 0.5, 0.8413447460685429, 0.975)  # 2.5 %, Φ(−1), Φ(0), Φ(1), 97.5 %
+_RESCALE = 200.0  # rescale the running sums when a node beats the reference by this much χ²
+
+
+@njit(cache=True)
+def _block_span(k, size, n):
+    lo = k * size
+    hi = min(lo + size, n)
+    return lo, hi, (lo + hi - 1) // 2
+
+
+@njit(cache=True)
+def block_deltas(model, valid, bt, be, br):
+    """Largest squared change of each band's model within each block, from the block's centre node.
+
+    Parameters
+    ----------
+    model : ndarray, shape (n_r, n_t, n_e, n_b)
+    valid : ndarray of bool, shape (n_t, n_b)
+        Whether the locus covers band b at T node t (else ``model`` there is ignored).
+    bt, be, br : int
+        Block sizes along T, E(B−V) and R_V.
+
+    Returns
+    -------
+    ndarray, shape (n_rb, n_tb, n_eb, n_b)
+    """
+    n_r, n_t, n_e, n_b = model.shape
+    n_rb, n_tb, n_eb = -(-n_r // br), -(-n_t // bt), -(-n_e // be)
+    out = np.zeros((n_rb, n_tb, n_eb, n_b))
+    for rb in range(n_rb):
+        r0, r1, rc = _block_span(rb, br, n_r)
+        for tb in range(n_tb):
+            t0, t1, tc = _block_span(tb, bt, n_t)
+            for eb in range(n_eb):
+                e0, e1, ec = _block_span(eb, be, n_e)
+                for b in range(n_b):
+                    centre = model[rc, tc, ec, b]
+                    big = 0.0
+                    for r in range(r0, r1):
+                        for t in range(t0, t1):
+                            if not valid[t, b]:
+                                continue
+                            for e in range(e0, e1):
+                                d = model[r, t, e, b] - centre
+                                big = max(big, d * d)
+                    out[rb, tb, eb, b] = big
+    return out
+
+
+@njit(cache=True)
+def _stats(x0, h, g, q, out, k):
+    """Mean, std and the 2.5/16/50/84/97.5 % points of a density g sampled at x0 + j h (linear between nodes)."""
+    n = g.size
+    z = 0.0
+    s1 = 0.0
+    s2 = 0.0
+    for j in range(n):
+        x = x0 + j * h
+        m = q[j] * g[j]
+        z += m
+        s1 += m * x
+        s2 += m * x * x
+    mean = s1 / z
+    out[k] = mean
+    out[k + 1] = math.sqrt(max(s2 / z - mean * mean, 0.0))
+    if n == 1:
+        for i in range(5):
+            out[k + 2 + i] = x0
+        return
+    cum = 0.0
+    j = 0
+    for i in range(5):
+        target = _PROBS[i] * z
+        while j < n - 2 and cum + 0.5 * h * (g[j] + g[j + 1]) < target:
+            cum += 0.5 * h * (g[j] + g[j + 1])
+            j += 1
+        # within cell j the density is linear: F(s) = g0 s + (g1 − g0) s² / (2h) = target − cum
+        g0 = g[j]
+        a = (g[j + 1] - g0) / (2.0 * h)
+        rest = max(target - cum, 0.0)
+        den = g0 + math.sqrt(max(g0 * g0 + 4.0 * a * rest, 0.0))
+        s = 2.0 * rest / den if den > 0.0 else 0.0
+        out[k + 2 + i] = x0 + j * h + min(max(s, 0.0), h)
+
+
+@njit(cache=True)
+def _bimodal(g, h, share, dip):
+    """Whether a split node leaves ≥ ``share`` of the mass on each side and a dip below ``dip`` × the lower peak."""
+    n = g.size
+    if n < 3:
+        return False
+    total = 0.0
+    for j in range(n - 1):
+        total += 0.5 * h * (g[j] + g[j + 1])
+    right_max = np.empty(n)
+    right_max[n - 1] = g[n - 1]
+    for j in range(n - 2, -1, -1):
+        right_max[j] = max(right_max[j + 1], g[j])
+    left = 0.0
+    left_max = g[0]
+    for j in range(1, n - 1):
+        left += 0.5 * h * (g[j - 1] + g[j])
+        left_max = max(left_max, g[j])
+        if left >= share * total and total - left >= share * total:
+            if g[j] < dip * min(left_max, right_max[j]):
+                return True
+    return False
+
+
+@njit(cache=True)
+def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, ref, g_re, g_t, qe, qr, res):
+    """Accumulate the posterior over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se), r ≡ 0 (mod sr) of the kept blocks.
+
+    ``g_re`` (R_V × E(B−V)) and ``g_t`` (T) receive the marginal densities
+    relative to exp(−ref/2) (a sub-grid's trapezoid weights are the fine
+    ones times the stride); ``ref`` NaN means the first node's value.
+    ``res`` receives χ²_min and the mode's indices (−1: no node).
+    """
+    nb = idx.size
+    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
+    n_rb, n_tb, n_eb = lower.shape
+    chi_min = np.inf
+    tot_min = np.inf
+    map_t, map_e, map_r = -1, -1, -1
+    for rb in range(n_rb):
+        r0, r1, _ = _block_span(rb, br, n_r)
+        for tb in range(n_tb):
+            t0, t1, _ = _block_span(tb, bt, n_t)
+            for eb in range(n_eb):
+                if not lower[rb, tb, eb] <= limit:
+                    continue
+                e0, e1, _ = _block_span(eb, be, n_e)
+                for r in range((r0 + sr - 1) // sr * sr, r1, sr):
+                    for t in range((t0 + st - 1) // st * st, t1, st):
+                        if pen_t[t] == np.inf:
+                            continue
+                        row_sum = 0.0
+                        for e in range((e0 + se - 1) // se * se, e1, se):
+                            if pen_e[e] == np.inf:
+                                continue
+                            s1 = 0.0
+                            s2 = 0.0
+                            for k in range(nb):
+                                d = m[k] - model[r, t, e, idx[k]]
+                                s1 += w[k] * d
+                                s2 += w[k] * d * d
+                            c = max(s2 - s1 * s1 / s0, 0.0)
+                            tot = c + pen_t[t] + pen_e[e]
+                            chi_min = min(chi_min, c)
+                            if tot < tot_min:
+                                tot_min = tot
+                                map_t, map_e, map_r = t, e, r
+                            if not ref == ref:
+                                ref = tot
+                            if tot < ref - _RESCALE:
+                                scale = math.exp(-0.5 * (ref - tot))
+                                g_re *= scale
+                                g_t *= scale
+                                row_sum *= scale
+                                ref = tot
+                            f = math.exp(-0.5 * (tot - ref))
+                            g_re[r, e] += f * qt[t] * st
+                            row_sum += f * qe[e] * se
+                        g_t[t] += row_sum * qr[r] * sr
+    res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
+
+
+@njit(cache=True)
+def _roughness(g, step):
+    """Largest change between neighbouring samples g[0], g[step], ... relative to their largest value."""
+    big = 0.0
+    jump = 0.0
+    for j in range(0, g.size, step):
+        big = max(big, g[j])
+        if j >= step:
+            jump = max(jump, abs(g[j] - g[j - step]))
+    return jump / big if big > 0.0 else 0.0
+
+
+@njit(cache=True, parallel=True)
+def fit_stars(
+    mag, weight, model, valid, teff, ebv, rv, qt, qe, qr, av_step, n_av, deltas, bt, be, br,
+    t_mean, t_sigma, e_mean, e_sigma, e_upper, cut, share, dip, strides, smooth, out,
+):
+    """Posterior summaries of each star on the grid (one row of ``out`` per star).
+
+    Parameters
+    ----------
+    mag, weight : ndarray, shape (n, n_b)
+        Magnitudes and weights 1/σ² (0 marks an unusable band).
+    model : ndarray, shape (n_r, n_t, n_e, n_b)
+        Predicted magnitudes up to the free offset.
+    valid : ndarray of bool, shape (n_t, n_b)
+    teff, ebv, rv : ndarray
+        The axes (T_eff in K on a uniform ln T grid; E(B−V) and R_V uniform),
+        each of a length 1 + a multiple of its first stride.
+    qt, qe, qr : ndarray
+        Trapezoid weights of the axes (in ln T, E(B−V), R_V): the flat prior.
+    av_step, n_av : float, int
+        The A_V axis of the A_V marginal at the finest E(B−V) step: 0,
+        av_step, ... (n_av nodes).
+    deltas : ndarray
+        :func:`block_deltas` of ``model``.
+    bt, be, br : int
+        Block sizes along T, E(B−V) and R_V.
+    t_mean, t_sigma, e_mean, e_sigma, e_upper : ndarray, shape (n,)
+        Gaussian priors (NaN: none) and upper bounds (inf: none).
+    cut : float
+        Pruning margin in χ² units.
+    share, dip : float
+        The bimodality test (:func:`_bimodal`).
+    strides : ndarray of int, shape (3,)
+        The first sweep uses every ``strides[k]``-th node along T, E(B−V) and R_V.
+    smooth : float
+        Resolution test: while a marginal (E(B−V), T, R_V) changes between
+        neighbouring sub-grid nodes by more than ``smooth`` × its peak, the
+        sweep is repeated at half the strides.
+    out : ndarray, shape (n, N_OUT)
+        Filled in place; NaN where there is no fit.
+
+    Notes
+    -----
+    Pruning bound: χ² = dᵀCd with C = W − wwᵀ/Σw positive semi-definite and
+    C ≼ W, so √χ² is a seminorm of d and, for any node θ in a block with
+    centre c, √χ²(θ) ≥ √χ²(c) − (Σ_b w_b δ_b²)^½, δ_b² the block's largest
+    squared change of P_b (triangle inequality). The prior penalties are
+    bounded by their smallest value over the block's axes.
+
+    Resolution: a Gaussian marginal of width σ sampled every Δ changes
+    between neighbours by at most ≈ (Δ/σ) e^(−½) of its peak, so
+    ``smooth`` = 0.35 keeps Δ ≲ 0.58σ; a ridge sampled too coarsely makes
+    the marginals jagged and fails the same test. The roughness at the
+    last sweep is reported (``ROUGH``): at stride 1 a ridge thinner than a
+    step across it leaves the marginals jagged (each node of the other
+    axis samples it at another offset), unbiased on average but noisy.
+    """
+    n, n_b = mag.shape
+    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
+    n_rb, n_tb, n_eb = deltas.shape[0], deltas.shape[1], deltas.shape[2]
+    h_e = ebv[1] - ebv[0]
+    h_t = math.log(teff[1] / teff[0])
+    h_r = rv[1] - rv[0] if n_r > 1 else 1.0
+    ln_t0 = math.log(teff[0])
+    for i in prange(n):
+        row = out[i]
+        row[:] = np.nan
+        idx = np.empty(n_b, np.int64)
+        nb = 0
+        s0 = 0.0
+        for b in range(n_b):
+            if weight[i, b] > 0.0:
+                idx[nb] = b
+                nb += 1
+                s0 += weight[i, b]
+        row[NBANDS] = nb
+        row[FITTED] = 0.0
+        if nb < 2:
+            continue
+        idx = idx[:nb].copy()
+        m = np.empty(nb)
+        w = np.empty(nb)
+        for k in range(nb):
+            m[k] = mag[i, idx[k]]
+            w[k] = weight[i, idx[k]]
+        # prior penalties (χ² units), inf where excluded
+        pen_t = np.zeros(n_t)
+        for t in range(n_t):
+            for k in range(nb):
+                if not valid[t, idx[k]]:
+                    pen_t[t] = np.inf
+            if pen_t[t] == 0.0 and t_sigma[i] > 0.0:
+                z = (teff[t] - t_mean[i]) / t_sigma[i]
+                pen_t[t] = z * z
+        pen_e = np.zeros(n_e)
+        for e in range(n_e):
+            if ebv[e] > e_upper[i]:
+                pen_e[e] = np.inf
+            elif e_sigma[i] > 0.0:
+                z = (ebv[e] - e_mean[i]) / e_sigma[i]
+                pen_e[e] = z * z
+        # pass 1: a lower bound in every block, and the best centre
+        lower = np.empty((n_rb, n_tb, n_eb))
+        best = np.inf
+        for tb in range(n_tb):
+            t0, t1, tc = _block_span(tb, bt, n_t)
+            pt = np.inf
+            for t in range(t0, t1):
+                pt = min(pt, pen_t[t])
+            for eb in range(n_eb):
+                e0, e1, ec = _block_span(eb, be, n_e)
+                pe = np.inf
+                for e in range(e0, e1):
+                    pe = min(pe, pen_e[e])
+                for rb in range(n_rb):
+                    if pt == np.inf or pe == np.inf:
+                        lower[rb, tb, eb] = np.inf
+                        continue
+                    rc = _block_span(rb, br, n_r)[2]
+                    if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
+                        lower[rb, tb, eb] = pt + pe
+                        continue
+                    s1 = 0.0
+                    s2 = 0.0
+                    rad = 0.0
+                    for k in range(nb):
+                        d = m[k] - model[rc, tc, ec, idx[k]]
+                        s1 += w[k] * d
+                        s2 += w[k] * d * d
+                        rad += w[k] * deltas[rb, tb, eb, idx[k]]
+                    c = max(s2 - s1 * s1 / s0, 0.0)
+                    best = min(best, c + pen_t[tc] + pen_e[ec])
+                    gap = max(math.sqrt(c) - math.sqrt(rad), 0.0)
+                    lower[rb, tb, eb] = gap * gap + pt + pe
+        limit = best + cut  # inf when no centre was allowed: then nothing is skipped
+        # pass 2: sweeps of the kept blocks, each axis's stride halved until it resolves the posterior
+        g_re = np.zeros((n_r, n_e))
+        g_t = np.zeros(n_t)
+        g_e = np.zeros(n_e)
+        g_r = np.zeros(n_r)
+        res = np.empty(4)
+        st, se, sr = strides[0], strides[1], strides[2]
+        while True:
+            g_re[:, :] = 0.0
+            g_t[:] = 0.0
+            _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr,
+                   best if best < np.inf else np.nan, g_re, g_t, qe, qr, res)  # fmt: skip
+            g_e[:] = 0.0
+            g_r[:] = 0.0
+            for r in range(0, n_r, sr):
+                for e in range(0, n_e, se):
+                    g_e[e] += qr[r] * sr * g_re[r, e]
+                    g_r[r] += qe[e] * se * g_re[r, e]
+            rough = max(_roughness(g_e, se), _roughness(g_t, st), _roughness(g_r, sr))
+            coarse = st > 1 or se > 1 or sr > 1
+            if not coarse or (res[1] >= 0 and rough <= smooth):
+                break  # (a sweep that found no node is repeated finer: the kept blocks may lie between its nodes)
+            st, se, sr = max(st // 2, 1), max(se // 2, 1), max(sr // 2, 1)
+        if res[1] < 0:
+            continue
+        q_e = qe[::se] * se
+        g_es = g_e[::se].copy()
+        z = 0.0
+        for j in range(g_es.size):
+            z += q_e[j] * g_es[j]
+        if not z > 0.0:
+            continue
+        row[FITTED] = 1.0
+        row[CHI2] = res[0]
+        row[MAP_T], row[MAP_E], row[MAP_R] = res[1], res[2], res[3]
+        row[ROUGH] = rough
+        _stats(0.0, h_e * se, g_es, q_e, row, EBV)
+        q_t = qt[::st] * st
+        g_ts = g_t[::st].copy()
+        _stats(ln_t0, h_t * st, g_ts, q_t, row, TEFF)
+        row[LNT_STD] = row[TEFF + 1]
+        for k in range(2, 7):
+            row[TEFF + k] = math.exp(row[TEFF + k])
+        s1 = 0.0
+        s2 = 0.0
+        zt = 0.0
+        for j in range(g_ts.size):
+            tk = teff[j * st]
+            s1 += q_t[j] * g_ts[j] * tk
+            s2 += q_t[j] * g_ts[j] * tk * tk
+            zt += q_t[j] * g_ts[j]
+        row[TEFF] = s1 / zt
+        row[TEFF + 1] = math.sqrt(max(s2 / zt - (s1 / zt) ** 2, 0.0))
+        if n_r > 1:
+            _stats(rv[0], h_r * sr, g_r[::sr].copy(), qr[::sr] * sr, row, RV)
+        # A_V = R_V E(B−V): each (R_V, E) node's mass shared between the two nearest A_V nodes
+        h_a = av_step * se
+        n_a = min(int(math.ceil((n_av - 1) / se)) + 1, n_av)
+        hist = np.zeros(n_a)
+        s1 = 0.0
+        s2 = 0.0
+        for r in range(0, n_r, sr):
+            for e in range(0, n_e, se):
+                mass = qr[r] * sr * qe[e] * se * g_re[r, e]
+                a = rv[r] * ebv[e]
+                s1 += mass * a
+                s2 += mass * a * a
+                pos = a / h_a
+                j = min(int(pos), n_a - 2)
+                frac = min(max(pos - j, 0.0), 1.0)
+                hist[j] += mass * (1.0 - frac)
+                hist[j + 1] += mass * frac
+        qa = np.full(n_a, h_a)
+        qa[0] = qa[-1] = 0.5 * h_a
+        for j in range(n_a):
+            hist[j] /= qa[j]
+        _stats(0.0, h_a, hist, qa, row, AV)
+        # the exact A_V moments (the histogram smooths them by one A_V step)
+        row[AV] = s1 / z
+        row[AV + 1] = math.sqrt(max(s2 / z - (s1 / z) ** 2, 0.0))
+        row[BIMODAL] = 1.0 if _bimodal(g_es, h_e * se, share, dip) else 0.0
