@@ -419,7 +419,7 @@ def test_refused_cleanly(workspace, capsys, argv, needles):
 
 
 # ======================================================================= ebv: distances and parallaxes
-# (issue 15) The command line checks these before it opens the map, so the template's 2D map serves;
+# (distance-resolved maps) The command line checks these before it opens the map, so the template's 2D map serves;
 # a 2D map given a good distance only warns (tests/test_cli_ebv.py).
 EBV_AT = f"{EBV} --ra 10 --dec 10"
 

@@ -180,7 +180,7 @@ def test_beyond_the_map_and_without_distance(capsys, cube_file):
     rows, _ = _json(capsys, ["ebv", "--map", cube_file, "--l", "30", "--b", "20", "--distance", "9000"])
     whole, _ = _json(capsys, ["ebv", "--map", cube_file, "--l", "30", "--b", "20"])
     assert list(whole[0]) == KEYS and rows[0]["flag"] == whole[0]["flag"] == 16
-    # beyond the last distance: the last value (issue 15), the same number both ways
+    # beyond the last distance: the last value (the format's rule, README), the same number both ways
     assert rows[0]["ebv"] == whole[0]["ebv"]
     assert whole[0]["ebv"] == pytest.approx(N0 * smooth(30.0, 20.0) * 3000.0, abs=SKY_ATOL * N0 * 3000.0)
 

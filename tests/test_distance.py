@@ -16,7 +16,7 @@ from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples, edsd_mo
 L_PC = 1350.0  # the default length scale, 1.35 kpc (Bailer-Jones 2015, sect. 5 examples; from memory)
 
 # A cumulative reddening curve: piecewise linear in distance (how a distance-resolved map is
-# interpolated, issue 15), zero at 0, flat beyond its last distance. Invented numbers.
+# interpolated, see redcorr.maps), zero at 0, flat beyond its last distance. Invented numbers.
 KINK_PC = np.array([0.0, 80.0, 150.0, 400.0, 1000.0, 2500.0, 6000.0])
 KINK_EBV = np.array([0.0, 0.01, 0.25, 0.30, 0.55, 0.70, 0.72])
 

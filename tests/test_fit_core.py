@@ -75,7 +75,7 @@ def quiet_fit(grid, mags, errs, **kw):
 def test_recovers_known_reddening_of_locus_stars(bands, locus, f99):
     """Locus stars reddened by a known E(B-V), photometry by an independent integration, are recovered.
 
-    Source: self-consistency (issue 16, "the published table itself"); the magnitudes are computed by
+    Source: self-consistency of the model with the locus it is given; the magnitudes are computed by
     tests/direct_integration.py (trapezoid on 20001 points, its own Planck law), not by the fit's
     quadrature (here 4001 points: trapezoid error < 1e-5 mag, O(h²) from the module's 1e-7 at 20001).
     Errors 0.003 mag and floor 0 make the posterior narrower than the grid; its mean then
@@ -98,7 +98,7 @@ def test_recovers_known_reddening_of_locus_stars(bands, locus, f99):
 
 
 def test_zero_reddening_gives_the_locus_colours(bands, locus, f99):
-    """At E(B-V) = 0 the fitted intrinsic colours are the locus' (self-consistency, issue 16).
+    """At E(B-V) = 0 the fitted intrinsic colours are the locus' (self-consistency).
 
     Stars on the locus at grid temperatures, without dust or noise, errors 0.002 mag and floor 0
     (with the default floor the T-E(B-V) ridge lets E(B-V) spread to ~0.1: an honest width, not
@@ -303,7 +303,7 @@ def test_two_bands_give_a_wide_flagged_posterior(bands, locus, f99):
 def test_unusable_bands_are_dropped_per_star(grid_fixed, locus):
     """NaN magnitudes and errors <= 0 or NaN drop a band for that star only; < 2 bands: no fit, NaN.
 
-    Source: the fit's definition (issue 16); the full star's result is unchanged by a band dropped
+    Source: the fit's definition (module docstring); the full star's result is unchanged by a band dropped
     elsewhere (bitwise equality: rows are independent).
     """
     mags = np.tile(9.0 + intrinsic(locus, np.array([7000.0])), (4, 1))
@@ -351,7 +351,7 @@ def test_ebv_priors_act(grid_fixed, locus, f99):
 
 
 def test_teff_prior_outside_the_locus_is_flagged(grid_fixed, locus):
-    """A T_eff prior centred beyond the locus sets ``teff_edge`` (issue 16: "a T_eff prior outside the table")."""
+    """A T_eff prior centred beyond the locus sets ``teff_edge`` (a T_eff prior outside the table)."""
     mags = 10.0 + intrinsic(locus, np.array([5000.0]))
     with pytest.warns(FitWarning, match="teff_edge 1"):
         res = grid_fixed.fit(mags, np.full(mags.shape, 0.02), teff_prior=([60000.0], [1000.0]))
