@@ -7,7 +7,6 @@ import pytest
 from _synthetic_maps import healpix_values, smooth, write_healpix
 from astropy import units as u
 from astropy.coordinates import SkyCoord
-from astropy.io import fits
 from published import GALACTIC_CENTRE_ICRS_DEG
 from scipy import integrate
 
@@ -127,15 +126,7 @@ KEYS_3D = ["ra_deg", "dec_deg", "l_deg", "b_deg", "distance_pc", "ebv", "flag"]
 def write_cube(path, nside=CUBE_NSIDE, distances=CUBE_DISTANCES):
     """A full-sky NESTED distance-resolved HEALPix map of E = N0 · smooth(l, b) · r."""
     sky = healpix_values(nside, "nested")
-    cube = (N0 * sky[:, None] * distances[None, :]).astype(np.float32)
-    table = fits.BinTableHDU.from_columns([fits.Column(name="EBV", format=f"{distances.size}E", array=cube)])
-    for key, value in {"PIXTYPE": "HEALPIX", "ORDERING": "NESTED", "COORDSYS": "G", "NSIDE": nside,
-                       "INDXSCHM": "IMPLICIT"}.items():
-        table.header[key] = value
-    dist = fits.BinTableHDU.from_columns([fits.Column(name="DISTANCE", format="D", unit="pc", array=distances)],
-                                         name="DISTANCES")
-    fits.HDUList([fits.PrimaryHDU(), table, dist]).writeto(path)
-    return path
+    return write_healpix(path, N0 * sky[:, None] * distances[None, :], nside, "NESTED", distances=distances)
 
 
 @pytest.fixture

@@ -17,7 +17,7 @@ import direct_integration as direct
 import numpy as np
 import pandas as pd
 import pytest
-from astropy.io import fits
+from _synthetic_maps import write_healpix
 from scipy import integrate
 
 from redcorr.cli import main
@@ -42,26 +42,12 @@ FLOAT32 = 1e-6
 
 def write_cube(path, per_pc=K, distances=DISTANCES, nside=NSIDE):
     """A full-sky distance-resolved HEALPix map of a uniform dust density: E(r) = per_pc·r everywhere."""
-    n = distances.size
-    cube = np.tile(per_pc * distances, (12 * nside**2, 1)).astype(np.float32)
-    table = fits.BinTableHDU.from_columns([fits.Column(name="EBV", format=f"{n}E", array=cube)])
-    for key, value in {"PIXTYPE": "HEALPIX", "ORDERING": "RING", "COORDSYS": "G", "NSIDE": nside,
-                       "INDXSCHM": "IMPLICIT"}.items():
-        table.header[key] = value
-    dist = fits.BinTableHDU.from_columns([fits.Column(name="DISTANCE", format="D", unit="pc", array=distances)],
-                                         name="DISTANCES")
-    fits.HDUList([fits.PrimaryHDU(), table, dist]).writeto(path)
-    return path
+    return write_healpix(path, np.tile(per_pc * distances, (12 * nside**2, 1)), nside, distances=distances)
 
 
 def write_flat(path, value=0.3, nside=NSIDE):
     """A 2D HEALPix map (whole sight lines) of one value everywhere."""
-    table = fits.BinTableHDU.from_columns([fits.Column(name="EBV", format="E",
-                                                       array=np.full(12 * nside**2, value, np.float32))])
-    for key, val in {"PIXTYPE": "HEALPIX", "ORDERING": "RING", "COORDSYS": "G", "NSIDE": nside}.items():
-        table.header[key] = val
-    fits.HDUList([fits.PrimaryHDU(), table]).writeto(path)
-    return path
+    return write_healpix(path, np.full(12 * nside**2, value), nside)
 
 
 @pytest.fixture(scope="module")
