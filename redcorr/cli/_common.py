@@ -164,7 +164,7 @@ def print_json(obj, file=None):
     print(file=file or sys.stdout)
 
 
-def print_table(rows, columns, formats=None, file=None):
+def print_table(rows, columns, formats=None, file=None, wrap=None):
     """Print dict rows as an aligned text table.
 
     Parameters
@@ -175,7 +175,23 @@ def print_table(rows, columns, formats=None, file=None):
     formats : dict, optional
         Key → format spec for values (default ``.4f`` for floats), or a function float → str.
         Columns of numbers are aligned right either way.
+    wrap : dict, optional
+        Key → width: text in that column is wrapped at word boundaries to lines of at
+        most that width, a row then taking several lines.
+
+    Examples
+    --------
+    >>> print_table([{"key": "F4", "what": "open a catalog, check its columns, run"}], ["key", "what"],
+    ...             wrap={"what": 20})
+    key  what
+    ---  ------------------
+    F4   open a catalog,
+         check its columns,
+         run
     """
+    import textwrap
+
+    wrap = wrap or {}
     formats = formats or {}
     cells = [list(columns)]
     numeric = [all(isinstance(row[c], (int, float)) for row in rows) for c in columns]
@@ -189,10 +205,15 @@ def print_table(rows, columns, formats=None, file=None):
             else:
                 line.append(str(value))
         cells.append(line)
-    widths = [max(len(r[i]) for r in cells) for i in range(len(columns))]
+    cells = [[textwrap.wrap(c, wrap[col]) or [""] if col in wrap and j else [c]  # the header (j = 0) as it is
+              for c, col in zip(line, columns, strict=True)] for j, line in enumerate(cells)]
+    widths = [max(max(len(part) for part in r[i]) for r in cells) for i in range(len(columns))]
     out = file or sys.stdout
     for i, line in enumerate(cells):
-        text = (c.rjust(w) if num else c.ljust(w) for c, w, num in zip(line, widths, numeric, strict=True))
-        print("  ".join(text).rstrip(), file=out)
+        for k in range(max(len(parts) for parts in line)):
+            text = ((parts[k] if k < len(parts) else "").rjust(w) if num else
+                    (parts[k] if k < len(parts) else "").ljust(w)
+                    for parts, w, num in zip(line, widths, numeric, strict=True))
+            print("  ".join(text).rstrip(), file=out)
         if i == 0:
             print("  ".join("-" * w for w in widths), file=out)

@@ -13,7 +13,7 @@ def section(scn, demo_dir):
         {"key": keys.get(f"switch_mode('{name}')", "?"), "screen": name, "what": screen.HELP}
         for name, screen in RedcorrApp.MODES.items()
     ]
-    print_table(rows, ["key", "screen", "what"])
+    print_table(rows, ["key", "screen", "what"], wrap={"what": 80})
     print(
         f"Try: on Dust pick {cloud['law']}, R_V = {cloud['r_v']:g}, A_V = {cloud['a_v_typical']:g}; on Catalog "
         f"open demo/brume_catalog.csv ({field['name']}) and run; on Plan keep the instrument 'demo'. "
