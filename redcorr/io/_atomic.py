@@ -28,7 +28,7 @@ moves such a file back when its name is free, else removes it.) While the
 group is placed the targets are briefly absent.
 
 Temporaries of redcorr versions before the PID was recorded in their names
-(``.NAME.XXXXXXXX.part…``, from ``tempfile``) are not removed: such a name
+(``.NAME.<8 random characters>.part…``, from ``tempfile``) are not removed: such a name
 tells nothing of the process that made it, which may be an older redcorr
 still writing, so removing it could break that run. A SIGKILLed run of such
 a version leaves them for the user to delete by hand.
