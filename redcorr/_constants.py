@@ -22,6 +22,22 @@ CORRECTION_FLAGS = {
 }
 """dict: name → value of each bit of a correction's ``dered_flags`` column (``redcorr.correction.flags``)."""
 
+FIT_FLAGS = {
+    "no_fit": 1,
+    "few_bands": 2,
+    "teff_edge": 4,
+    "bimodal": 8,
+    "poor_fit": 16,
+    "ebv_edge": 32,
+    "underdetermined": 64,
+    "unresolved": 128,
+}
+"""dict: name → bit of one star's fit (meanings: ``redcorr.photometric_reddening``, "Flags")."""
+
+CATALOG_FIT_FLAGS = FIT_FLAGS | {"non_numeric": 256, "no_prior": 512}
+"""dict: the bits of a catalog fit's ``fit_flags`` column: :data:`FIT_FLAGS`, then ``non_numeric`` (an
+input cell was text, now NaN) and ``no_prior`` (a prior map has no usable value for the row)."""
+
 DEFAULT_TEMPERATURE = 7000.0
 """K: default blackbody source, a mid-F star, typical of field stars (common practice, no source)."""
 

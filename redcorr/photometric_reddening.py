@@ -115,6 +115,7 @@ import warnings
 import numpy as np
 from scipy import stats
 
+from redcorr._constants import FIT_FLAGS
 from redcorr._validate import check_positive, shown
 from redcorr.bandpass import Band
 from redcorr.coefficients import coefficient_grid
@@ -125,22 +126,11 @@ __all__ = [
     "ReddeningFitGrid",
     "ReddeningFit",
     "fit_reddening",
+    "warn_flagged",
     "FIT_FLAGS",
     "DEFAULT_FLOOR",
     "CHUNK_ROWS",
 ]
-
-FIT_FLAGS = {
-    "no_fit": 1,
-    "few_bands": 2,
-    "teff_edge": 4,
-    "bimodal": 8,
-    "poor_fit": 16,
-    "ebv_edge": 32,
-    "underdetermined": 64,
-    "unresolved": 128,
-}
-"""dict: flag name → bit value (module docstring, "Flags")."""
 
 DEFAULT_FLOOR = 0.02
 """Default model-uncertainty floor of every band, mag (module docstring, "The floor")."""
@@ -351,7 +341,8 @@ class ReddeningFitGrid:
         """bool: whether R_V is an unknown (more than one R_V node)."""
         return self.r_v.size > 1
 
-    def fit(self, mags, errors, *, teff_prior=None, ebv_upper=None, ebv_prior=None, chunk_rows=CHUNK_ROWS):
+    def fit(self, mags, errors, *, teff_prior=None, ebv_upper=None, ebv_prior=None, chunk_rows=CHUNK_ROWS,
+            warn=True):
         """Posterior summaries of each star's E(B−V), A_V, T_eff (and R_V).
 
         Parameters
@@ -370,6 +361,9 @@ class ReddeningFitGrid:
             sigma > 0.
         chunk_rows : int
             Stars per kernel call (:data:`CHUNK_ROWS`).
+        warn : bool
+            Warn about flagged stars (below); a caller fitting a catalog in
+            parts turns it off and warns once about the whole.
 
         Returns
         -------
@@ -419,7 +413,8 @@ class ReddeningFitGrid:
                 PRUNE_CHI2, BIMODAL_SHARE, BIMODAL_DIP, self._strides, SMOOTH, out[sl],
             )  # fmt: skip
         result = ReddeningFit(self, out, t_mean)
-        result.warn()
+        if warn:
+            warn_flagged(result.counts() | {"any": int(np.count_nonzero(result.flags))}, n, stacklevel=2)
         return result
 
     @staticmethod
@@ -499,17 +494,29 @@ class ReddeningFit:
         """dict: stars carrying each flag, by name."""
         return {name: int(np.count_nonzero(self.flags & bit)) for name, bit in FIT_FLAGS.items()}
 
-    def warn(self):
-        """Warn once (`FitWarning`) with the counts of flags that could mislead, if any."""
-        counts = {k: v for k, v in self.counts().items() if v and k != "few_bands"}
-        if counts:
-            listed = ", ".join(f"{k} {v}" for k, v in counts.items())
-            warnings.warn(
-                f"{int(np.count_nonzero(self.flags))} of {self.flags.size} star(s) flagged ({listed}); "
-                "see redcorr.photometric_reddening.FIT_FLAGS",
-                FitWarning,
-                stacklevel=3,
-            )
+
+def warn_flagged(counts, total, *, stacklevel=2):
+    """Warn once (`FitWarning`) with the counts of the flags that could mislead, if any.
+
+    Parameters
+    ----------
+    counts : dict
+        Flag name → number of stars carrying it (:meth:`ReddeningFit.counts`,
+        or a run's totals, which may name more flags), and ``"any"`` → stars
+        with any flag; ``few_bands`` is not listed (it implies ``no_fit``).
+    total : int
+        Stars fitted.
+    stacklevel : int
+        As for :func:`warnings.warn`, counted from the caller of this function.
+    """
+    listed = {k: v for k, v in counts.items() if v and k not in ("few_bands", "any")}
+    if listed:
+        text = ", ".join(f"{k} {v}" for k, v in listed.items())
+        warnings.warn(
+            f"{counts['any']} of {total} star(s) flagged ({text}); see redcorr.photometric_reddening.FIT_FLAGS",
+            FitWarning,
+            stacklevel=stacklevel + 1,
+        )
 
 
 def fit_reddening(mags, errors, bands, locus_teff, locus_mags, curve, *, priors=None, **grid_options):

@@ -100,20 +100,20 @@ def test_demo_section_corrects_the_brume_catalog(capsys):
 def test_progress_bar_on_a_terminal_only(tmp_path, monkeypatch, capsys):
     import io
 
-    from redcorr.cli.correct import _Progress
+    from redcorr.cli._tables import _Progress
 
     class Terminal(io.StringIO):
         def isatty(self):
             return True
 
-    assert not _Progress(True).enabled  # pytest's captured stderr is not a terminal
+    assert not _Progress(True, "correcting").enabled  # pytest's captured stderr is not a terminal
     fake = Terminal()
     monkeypatch.setattr(sys, "stderr", fake)
-    with _Progress(True) as bar:
+    with _Progress(True, "correcting") as bar:
         assert bar.enabled
         bar(500, 0.5)
         assert bar._bar.tasks[0].completed == 500.0 and bar._bar.tasks[0].fields["rows"] == 500  # counts: exact
-    with _Progress(False) as quiet:
+    with _Progress(False, "correcting") as quiet:
         assert not quiet.enabled
 
 

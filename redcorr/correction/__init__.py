@@ -7,17 +7,23 @@ reddening, the source spectrum, the output; see
 a whole DataFrame in memory, the chunks of a file streamed by
 :mod:`redcorr.io.batch`, or the partitions of a Dask DataFrame
 (:mod:`redcorr.io.dask_engine`). Every row is corrected on its own, so the
-result does not depend on how a table is split. This package opens no
-files and takes objects, not names: :func:`redcorr.io.correction.correction_options`
-turns law, band and map names into the options.
+result does not depend on how a table is split. A :class:`CatalogFit`
+(each star's reddening fitted from its own photometry, from a
+:class:`FitOptions`) is set up and applied the same way. This package opens
+no files and takes objects, not names: :func:`redcorr.io.correction.correction_options`
+and :func:`redcorr.io.correction.fit_options` turn law, band, table and map
+names into the options.
 
 ==============================  ==============================================
+:mod:`~.rows`                   :class:`TableJob`, the base of both jobs
 :mod:`~.options`                the options, frozen and checked
 :mod:`~.columns`                finding and guessing columns; reading numbers
 :mod:`~.providers`              A_b from a spline, a grid or a linear ratio
 :mod:`~.temperature`            temperature from a colour (blackbody table)
 :mod:`~.flags`                  the flag bits, and :class:`RunSummary`
 :mod:`~.core`                   :class:`Correction`, row by row
+:mod:`~.fit`                    :class:`CatalogFit`: each row's reddening from
+                                its photometry (:mod:`redcorr.photometric_reddening`)
 ==============================  ==============================================
 
 Output columns
@@ -102,7 +108,8 @@ References
 
 from redcorr.correction.columns import band_label
 from redcorr.correction.core import Correction
-from redcorr.correction.flags import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary, warn_summary
+from redcorr.correction.fit import CATALOG_FIT_FLAGS, CatalogFit, FitOptions, FitSummary
+from redcorr.correction.flags import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
 from redcorr.correction.options import (
     BandSelection,
     CorrectionOptions,
@@ -114,17 +121,20 @@ from redcorr.correction.options import (
 from redcorr.correction.temperature import intrinsic_colour
 
 __all__ = [
+    "CATALOG_FIT_FLAGS",
     "CORRECTION_FLAGS",
     "FLAG_COLUMN",
     "BandSelection",
+    "CatalogFit",
     "Correction",
     "CorrectionOptions",
     "DustOptions",
+    "FitOptions",
+    "FitSummary",
     "OutputOptions",
     "ReddeningSource",
     "RunSummary",
     "SpectrumOptions",
     "band_label",
     "intrinsic_colour",
-    "warn_summary",
 ]

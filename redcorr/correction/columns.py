@@ -52,9 +52,13 @@ __all__ = [
     "column_names",
     "find_column",
     "float_column",
+    "guessed_band_columns",
     "guessed_columns",
     "magnitude_error",
+    "band_columns",
     "plan_columns",
+    "require_column",
+    "reddening_columns",
     "text_column",
 ]
 
@@ -113,7 +117,8 @@ def find_column(columns, candidates):
     return None
 
 
-def _require(columns, name, what):
+def require_column(columns, name, what):
+    """``name`` if it is one of ``columns`` (None stays None); else an InputError naming ``what``."""
     if name is None:
         return None
     if name not in columns:
@@ -220,8 +225,9 @@ class ColumnPlan:
         None without one, or for a map without distances.
     dist_col, dist_err_col : str or None
         Column of the distance (or parallax) and of its σ.
-    rv_col, rv_err_col, t_col : str or None
-        Columns of R_V, σ(R_V) and temperature.
+    rv_col, rv_err_col, t_col, t_err_col : str or None
+        Columns of R_V, σ(R_V), temperature and σ(temperature) (the last for
+        the fit's prior on T_eff).
     """
 
     mag_cols: tuple
@@ -240,11 +246,12 @@ class ColumnPlan:
     rv_col: str = None
     rv_err_col: str = None
     t_col: str = None
+    t_err_col: str = None
 
     def used(self):
         """Every input column read, in a fixed order (duplicates kept)."""
         cols = list(self.mag_cols) + [c for c in self.err_cols if c]
-        for c in (self.red_col, self.red_err_col, self.rv_col, self.rv_err_col, self.t_col):
+        for c in (self.red_col, self.red_err_col, self.rv_col, self.rv_err_col, self.t_col, self.t_err_col):
             if c:
                 cols.append(c)
         if self.red_kind == "map":
@@ -272,31 +279,43 @@ def plan_columns(columns, options):
         If a named column does not exist or a needed one cannot be guessed;
         the message lists the columns.
     """
-    mags, errs, kinds = _band_columns(columns, options.bands)
-    reddening = _reddening_columns(columns, options.reddening)
+    mags, errs, kinds = band_columns(columns, options.bands)
+    reddening = reddening_columns(columns, options.reddening)
     dust = options.dust
     t_col = None
     if options.spectrum.spectrum == "column":
         col = options.spectrum.temperature_column or find_column(columns, _TEFF_NAMES)
         if col is None:
             raise InputError(f"spectrum='column' needs a temperature column; the columns are {columns}")
-        t_col = _require(columns, col, "temperature_column")
+        t_col = require_column(columns, col, "temperature_column")
     return ColumnPlan(
         mag_cols=mags,
         err_cols=errs,
         err_kinds=kinds,
         **reddening,
-        rv_col=_require(columns, dust.rv_column, "rv_column"),
-        rv_err_col=_require(columns, dust.rv_error_column, "rv_error_column"),
+        rv_col=require_column(columns, dust.rv_column, "rv_column"),
+        rv_err_col=require_column(columns, dust.rv_error_column, "rv_error_column"),
         t_col=t_col,
     )
 
 
-def _band_columns(columns, selection):
+def band_columns(columns, selection):
+    """Each band's magnitude column, error column and error kind (tuples), named or guessed.
+
+    Parameters
+    ----------
+    columns : list of str
+    selection : redcorr.correction.BandSelection
+
+    Returns
+    -------
+    mag_cols, err_cols, err_kinds : tuple
+        As the fields of :class:`ColumnPlan`; an error column not found is None.
+    """
     mag_cols, err_cols, err_kinds = [], [], []
     for label in selection.labels:
         if label in selection.mag_columns:
-            mag = _require(columns, selection.mag_columns[label], f"magnitude column of {label}")
+            mag = require_column(columns, selection.mag_columns[label], f"magnitude column of {label}")
         else:
             mag = find_column(columns, _mag_candidates(label))
             if mag is not None and mag.lower() in ("l", "b") and find_column(columns, ("l",)) \
@@ -309,7 +328,7 @@ def _band_columns(columns, selection):
                 )
         kind = "mag"
         if label in selection.err_columns:
-            err = _require(columns, selection.err_columns[label], f"error column of {label}")
+            err = require_column(columns, selection.err_columns[label], f"error column of {label}")
         else:
             err = find_column(columns, _err_candidates(mag, label))
             archive = _archive(label)
@@ -354,13 +373,8 @@ def guessed_columns(plan, options):
     >>> guessed_columns(plan_columns(["Bmag", "e_Bmag", "ebv"], options), options)
     [('kw-b', 'Bmag'), ('error of kw-b', 'e_Bmag'), ('E(B-V)', 'ebv')]
     """
-    selection, source = options.bands, options.reddening
-    out = []
-    for label, mag, err, kind in zip(selection.labels, plan.mag_cols, plan.err_cols, plan.err_kinds, strict=True):
-        if label not in selection.mag_columns:
-            out.append((label, mag))
-        if label not in selection.err_columns:
-            out.append((f"error of {label}", f"2.5/ln10 / {err}" if kind == "flux_over_error" else err))
+    source = options.reddening
+    out = guessed_band_columns(plan, options.bands)
     quantity = "E(B-V)" if plan.red_quantity == "ebv" else "A_V"
     if plan.red_kind == "column" and source.ebv_column is None and source.av_column is None:
         out.append((quantity, plan.red_col))
@@ -374,7 +388,18 @@ def guessed_columns(plan, options):
     return out
 
 
-def _reddening_columns(columns, source):
+def guessed_band_columns(plan, selection):
+    """The part of :func:`guessed_columns` about the bands: (what, column) pairs for the bands of ``selection``."""
+    out = []
+    for label, mag, err, kind in zip(selection.labels, plan.mag_cols, plan.err_cols, plan.err_kinds, strict=True):
+        if label not in selection.mag_columns:
+            out.append((label, mag))
+        if label not in selection.err_columns:
+            out.append((f"error of {label}", f"2.5/ln10 / {err}" if kind == "flux_over_error" else err))
+    return out
+
+
+def reddening_columns(columns, source):
     """The :class:`ColumnPlan` fields of the reddening, as a dict."""
     out = {"red_kind": source.kind}
     if source.kind == "constant":
@@ -385,7 +410,7 @@ def _reddening_columns(columns, source):
         out.update(_distance_columns(columns, source))
     elif source.ebv_column is not None or source.av_column is not None:
         out["red_quantity"] = "ebv" if source.ebv_column is not None else "av"
-        out["red_col"] = _require(columns, source.ebv_column or source.av_column,
+        out["red_col"] = require_column(columns, source.ebv_column or source.av_column,
                                   "ebv_column" if source.ebv_column else "av_column")
     else:
         found_ebv, found_av = find_column(columns, EBV_NAMES), find_column(columns, AV_NAMES)
@@ -396,7 +421,7 @@ def _reddening_columns(columns, source):
             )
         out["red_quantity"] = "ebv" if found_ebv is not None else "av"
         out["red_col"] = found_ebv if found_ebv is not None else found_av
-    err_col = _require(columns, source.reddening_error_column, "reddening_error_column")
+    err_col = require_column(columns, source.reddening_error_column, "reddening_error_column")
     if err_col is None and out.get("red_col") is not None:
         err_col = find_column(columns, _err_candidates(out["red_col"], out["red_col"]))
     out["red_err_col"] = err_col
@@ -406,8 +431,8 @@ def _reddening_columns(columns, source):
 def _position_columns(columns, source):
     if source.lon_column is not None:
         return {
-            "lon_col": _require(columns, source.lon_column, "lon_column"),
-            "lat_col": _require(columns, source.lat_column, "lat_column"),
+            "lon_col": require_column(columns, source.lon_column, "lon_column"),
+            "lat_col": require_column(columns, source.lat_column, "lat_column"),
             "frame": source.frame or "icrs",
         }
     frame = source.frame
@@ -431,8 +456,8 @@ def _distance_columns(columns, source):
         kind, col, err = "distance", source.distance_column, source.distance_error_column
     else:
         return {}
-    col = _require(columns, col, f"{kind}_column")
-    err = _require(columns, err, f"{kind}_error_column")
+    col = require_column(columns, col, f"{kind}_column")
+    err = require_column(columns, err, f"{kind}_error_column")
     if getattr(source.dust_map, "distances_pc", None) is None:
         return {}  # a map of whole sight lines: the distances are not used (Correction warns)
     return {"dist_kind": kind, "dist_col": col, "dist_err_col": err}

@@ -44,7 +44,7 @@ import numpy as np
 from redcorr._constants import CORRECTION_FLAGS
 from redcorr.exceptions import OutOfRangeWarning
 
-__all__ = ["CORRECTION_FLAGS", "FLAG_COLUMN", "RunSummary", "warn_summary"]
+__all__ = ["CORRECTION_FLAGS", "FLAG_COLUMN", "RunSummary"]
 
 FLAG_COLUMN = "dered_flags"
 """str: name of the output column holding the flag bits of each row."""
@@ -52,6 +52,10 @@ FLAG_COLUMN = "dered_flags"
 
 class RunSummary:
     """Counts and ranges gathered over every table a :class:`~redcorr.correction.Correction` has processed.
+
+    A subclass sets the class attributes :attr:`FLAG_BITS`, :attr:`FLAG_COLUMN`
+    and :attr:`EBV_COLUMN` for another kind of table job (the per-star fit's
+    :class:`redcorr.correction.fit.FitSummary`) and overrides :meth:`warn`.
 
     Parameters
     ----------
@@ -70,10 +74,17 @@ class RunSummary:
         Of the colour–temperature solver.
     """
 
+    FLAG_BITS = CORRECTION_FLAGS
+    """dict: flag name → bit of the rows' flag column."""
+    FLAG_COLUMN = FLAG_COLUMN
+    """str: the output column of the flags."""
+    EBV_COLUMN = "ebv_used"
+    """str: the output column whose range is reported as E(B-V)."""
+
     def __init__(self, setup=None):
         self.setup = dict(setup or {})
         self.rows = 0
-        self.flagged = {name: 0 for name in CORRECTION_FLAGS} | {"any": 0}
+        self.flagged = {name: 0 for name in self.FLAG_BITS} | {"any": 0}
         self.ebv_min = np.nan
         self.ebv_max = np.nan
         self.iterations_max = 0
@@ -83,12 +94,12 @@ class RunSummary:
 
     def add(self, out):
         """Fold the counts of one corrected table (a DataFrame or a dict of arrays) into the summary."""
-        flags = np.asarray(out[FLAG_COLUMN])
+        flags = np.asarray(out[self.FLAG_COLUMN])
         self.rows += len(flags)
-        for name, bit in CORRECTION_FLAGS.items():
+        for name, bit in self.FLAG_BITS.items():
             self.flagged[name] += int(np.count_nonzero(flags & bit))
         self.flagged["any"] += int(np.count_nonzero(flags))
-        ebv = np.asarray(out["ebv_used"], dtype=float)
+        ebv = np.asarray(out[self.EBV_COLUMN], dtype=float)
         ebv = ebv[np.isfinite(ebv)]
         if ebv.size:
             self.ebv_min = float(np.fmin(self.ebv_min, ebv.min()))
@@ -110,7 +121,7 @@ class RunSummary:
         out = {
             "rows": self.rows,
             "flagged": dict(self.flagged),
-            "flag_bits": dict(CORRECTION_FLAGS),
+            "flag_bits": dict(self.FLAG_BITS),
             "ebv_min": self.ebv_min,
             "ebv_max": self.ebv_max,
             "seconds": round(elapsed, 3),
@@ -137,32 +148,31 @@ class RunSummary:
             text.append(f"temperature iterations: mean {d['iterations_mean']:.2f}, max {d['iterations_max']}")
         return text
 
-
-def warn_summary(summary):
-    """Warn (`OutOfRangeWarning`) about rows corrected with clamped coefficients or beyond a map's reach."""
-    beyond = summary.flagged["beyond_map"]
-    if beyond:
-        warnings.warn(
-            f"{beyond} row(s) lie beyond the reach of the distance-resolved map or have no distance named: "
-            "their E(B-V) is the map's value at its last distance, a lower limit for a star beyond it and too "
-            f"much for one in front of it (flag bit {CORRECTION_FLAGS['beyond_map']})",
-            OutOfRangeWarning,
-            stacklevel=3,
-        )
-    prior = summary.flagged["prior_distance"]
-    if prior:
-        warnings.warn(
-            f"{prior} row(s) have a parallax that says little about their distance (error above "
-            "0.2 of the parallax, or a parallax <= 0): their distance, and so their E(B-V), comes mostly "
-            f"from the prior and its length scale (flag bit {CORRECTION_FLAGS['prior_distance']})",
-            OutOfRangeWarning,
-            stacklevel=3,
-        )
-    outside = summary.flagged["outside_grid"]
-    if outside:
-        warnings.warn(
-            f"{outside} row(s) lie outside the coefficient grid (A_V or temperature); the grid edge "
-            f"was used for them (flag bit {CORRECTION_FLAGS['outside_grid']})",
-            OutOfRangeWarning,
-            stacklevel=3,
-        )
+    def warn(self):
+        """Warn (`OutOfRangeWarning`) about rows corrected with clamped coefficients or beyond a map's reach."""
+        beyond = self.flagged["beyond_map"]
+        if beyond:
+            warnings.warn(
+                f"{beyond} row(s) lie beyond the reach of the distance-resolved map or have no distance named: "
+                "their E(B-V) is the map's value at its last distance, a lower limit for a star beyond it and too "
+                f"much for one in front of it (flag bit {CORRECTION_FLAGS['beyond_map']})",
+                OutOfRangeWarning,
+                stacklevel=3,
+            )
+        prior = self.flagged["prior_distance"]
+        if prior:
+            warnings.warn(
+                f"{prior} row(s) have a parallax that says little about their distance (error above "
+                "0.2 of the parallax, or a parallax <= 0): their distance, and so their E(B-V), comes mostly "
+                f"from the prior and its length scale (flag bit {CORRECTION_FLAGS['prior_distance']})",
+                OutOfRangeWarning,
+                stacklevel=3,
+            )
+        outside = self.flagged["outside_grid"]
+        if outside:
+            warnings.warn(
+                f"{outside} row(s) lie outside the coefficient grid (A_V or temperature); the grid edge "
+                f"was used for them (flag bit {CORRECTION_FLAGS['outside_grid']})",
+                OutOfRangeWarning,
+                stacklevel=3,
+            )

@@ -23,6 +23,8 @@ _LAZY = {
     "open_map": "redcorr.io.maps",
     "correction_options": "redcorr.io.correction",
     "correct_dataframe": "redcorr.io.correction",
+    "fit_options": "redcorr.io.correction",
+    "fit_dataframe": "redcorr.io.correction",
     "get_grain_model": "redcorr.io.grains",
     "list_grain_models": "redcorr.io.grains",
     "read_grain_model": "redcorr.io.grains",

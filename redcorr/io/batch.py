@@ -19,7 +19,6 @@ import queue
 import threading
 from pathlib import Path
 
-from redcorr.correction import warn_summary
 from redcorr.exceptions import InputError
 from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path, output_group
 from redcorr.io.catalogs import (
@@ -112,7 +111,7 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
         summary = correction.summary.finish()
         if summary_file:
             write_summary(summary.to_dict(), output_path, overwrite=overwrite, group=group)
-    warn_summary(summary)
+    summary.warn()
     return summary
 
 
@@ -289,7 +288,7 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
         summary.finish()
         if summary_file:
             write_summary(summary.to_dict(), output_path, overwrite=overwrite, group=group)
-    warn_summary(summary)
+    summary.warn()
     return summary
 
 

@@ -1,8 +1,8 @@
-"""Correction options from the names a user types: the one place that resolves them.
+"""Correction and fit options from the names a user types: the one place that resolves them.
 
-``redcorr correct``, the terminal UI's Catalog screen and Python callers
-all build the options of a catalog correction with
-:func:`correction_options`: band names become :class:`~redcorr.bandpass.Band`
+``redcorr correct``, ``redcorr fit``, the terminal UI's Catalog screen and
+Python callers all build the options of a catalog correction with
+:func:`correction_options` (of a fit: :func:`fit_options`): band names become :class:`~redcorr.bandpass.Band`
 objects (:func:`redcorr.io.filters.load_band`), a law or grain-model name
 becomes a curve (:func:`redcorr.io.curves.load_curve`) and a map file a
 :class:`~redcorr.maps.ReddeningMap` (:func:`redcorr.io.maps.open_map`);
@@ -17,17 +17,18 @@ import numpy as np
 
 from redcorr.correction import (
     BandSelection,
+    CatalogFit,
     Correction,
     CorrectionOptions,
     DustOptions,
+    FitOptions,
     OutputOptions,
     ReddeningSource,
     SpectrumOptions,
-    warn_summary,
 )
 from redcorr.exceptions import InputError
 
-__all__ = ["correct_dataframe", "correction_options"]
+__all__ = ["correct_dataframe", "correction_options", "fit_dataframe", "fit_options"]
 
 _PARTS = {"bands": BandSelection, "dust": DustOptions, "reddening": ReddeningSource,
           "spectrum": SpectrumOptions, "output": OutputOptions}
@@ -100,6 +101,110 @@ def correction_options(bands, *, law="f99", r_v=None, **options):
     )
 
 
+_FIT_PRIOR = {f.name for f in dataclasses.fields(ReddeningSource)} - {"ebv", "av", "ebv_column", "av_column",
+                                                                       "reddening_error", "reddening_error_column"}
+"""Options of :func:`fit_options` that go to the prior map's :class:`~redcorr.correction.ReddeningSource`."""
+
+
+def fit_options(bands, *, law="f99", r_v=None, r_v_range=None, colours="dwarfs", prior_map=None, mag_columns=None,
+                err_columns=None, **options):
+    """The options of a per-star reddening fit, with every name resolved.
+
+    Parameters
+    ----------
+    bands : list of str or redcorr.bandpass.Band
+        As for :func:`correction_options`; each must be a band of the
+        intrinsic-colour table.
+    law : str or redcorr.curves.DustCurve
+        As for :func:`correction_options`.
+    r_v : float, optional
+        R_V of a named law (its default if omitted); not with ``r_v_range``.
+    r_v_range : (float, float), optional
+        Fit R_V too, with a flat prior over this range (a named law only).
+    colours : str or path-like or redcorr.intrinsic.ColourLocus
+        The intrinsic-colour table: a packaged name (``"dwarfs"``), an ECSV
+        file (:func:`redcorr.io.intrinsic.load_intrinsic_colours`) or a locus.
+    prior_map : str or path-like or map, optional
+        A dust map giving each row a prior on E(B−V)
+        (:mod:`redcorr.correction.fit`, "Priors from a dust map").
+    mag_columns, err_columns : dict, optional
+        Band label → column, as for a correction.
+    **options
+        Fields of :class:`~redcorr.correction.FitOptions` (``floor``,
+        ``teff_column``, ``teff_error_column``, ``prior_error``, ``ebv_max``,
+        ``extrapolate``, ``strict``) and, with ``prior_map``, the map's
+        fields of :class:`~redcorr.correction.ReddeningSource`
+        (``lon_column``, ``lat_column``, ``frame``, ``map_scale``,
+        ``distance_column``, ``distance_error_column``, ``parallax_column``,
+        ``parallax_error_column``, ``prior_length``).
+
+    Returns
+    -------
+    redcorr.correction.FitOptions
+
+    Raises
+    ------
+    InputError
+        For an unknown option, name or file, or a value the options refuse.
+    """
+    from redcorr.io.intrinsic import load_intrinsic_colours  # noqa: PLC0415
+
+    fit_fields = {f.name for f in dataclasses.fields(FitOptions)} - {"bands", "locus", "curve", "curve_at",
+                                                                       "r_v_range", "prior"}
+    unknown = sorted(set(options) - fit_fields - _FIT_PRIOR)
+    if unknown:
+        raise InputError(f"options {unknown} are not known; the options are {sorted(fit_fields | _FIT_PRIOR)}")
+    if r_v is not None and r_v_range is not None:
+        raise InputError(f"give r_v={r_v!r} (R_V fixed) or r_v_range={r_v_range!r} (R_V fitted), not both")
+    map_part = {k: v for k, v in options.items() if k in _FIT_PRIOR}
+    prior = None
+    if prior_map is not None:
+        if not hasattr(prior_map, "lookup"):
+            from redcorr.io.maps import open_map  # noqa: PLC0415 - only when a map is asked for
+
+            prior_map = open_map(prior_map)
+        prior = ReddeningSource(dust_map=prior_map, **map_part)
+    elif map_part:
+        raise InputError(f"{sorted(map_part)[0]}={map_part[sorted(map_part)[0]]!r} is for a prior map; "
+                         "give prior_map (--prior-map)")
+    locus = colours if hasattr(colours, "subset") else load_intrinsic_colours(colours)
+    dust = _dust(law, r_v)
+    return FitOptions(
+        bands=BandSelection(*_bands(bands), mag_columns=dict(mag_columns or {}), err_columns=dict(err_columns or {})),
+        locus=locus, curve=dust["curve"], curve_at=dust.get("curve_at"), r_v_range=r_v_range, prior=prior,
+        **{k: v for k, v in options.items() if k in fit_fields},
+    )
+
+
+def fit_dataframe(frame, bands, **options):
+    """Fit each row's reddening from its photometry, for a pandas DataFrame in memory.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+    bands : list of str or Band
+    **options
+        As for :func:`fit_options` (the columns are ``frame``'s).
+
+    Returns
+    -------
+    out : pandas.DataFrame
+        Input columns plus the fit's columns (:mod:`redcorr.correction.fit`).
+    summary : dict
+        As :meth:`redcorr.correction.RunSummary.to_dict`.
+
+    Warns
+    -----
+    FitWarning
+        If some rows carry flags that could mislead.
+    """
+    job = CatalogFit(list(frame.columns), fit_options(bands, **options))
+    out = job.correct(frame)
+    summary = job.summary.finish()
+    summary.warn()
+    return out, summary.to_dict()
+
+
 def _bands(specs):
     """``(bands, labels)``: Band objects, and the name each was given by."""
     from redcorr.io.filters import load_band  # noqa: PLC0415
@@ -155,5 +260,5 @@ def correct_dataframe(frame, bands, **options):
     corr = Correction(list(frame.columns), correction_options(bands, **options))
     out = corr.correct(frame)
     summary = corr.summary.finish()
-    warn_summary(summary)
+    summary.warn()
     return out, summary.to_dict()

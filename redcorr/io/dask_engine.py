@@ -9,8 +9,6 @@ and imported only when a summary is computed.
 import copy
 import warnings
 
-from redcorr.correction import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
-
 __all__ = ["correct_dask", "summarise_dask"]
 
 
@@ -68,9 +66,10 @@ def summarise_dask(result, correction, also=(), **compute_options):
     """
     import dask  # noqa: PLC0415 - optional dependency
 
-    flags = result[FLAG_COLUMN]
-    ebv = result["ebv_used"]
-    counts = {name: (flags & bit).astype(bool).sum() for name, bit in CORRECTION_FLAGS.items()}
+    kind = type(correction.summary)  # RunSummary, or a subclass naming other flags and columns
+    flags = result[kind.FLAG_COLUMN]
+    ebv = result[kind.EBV_COLUMN]
+    counts = {name: (flags & bit).astype(bool).sum() for name, bit in kind.FLAG_BITS.items()}
     counts["any"] = (flags != 0).sum()
     extra = {"rows": flags.count(), "ebv_min": ebv.min(), "ebv_max": ebv.max()}
     if "teff_iterations" in result.columns:
@@ -79,7 +78,7 @@ def summarise_dask(result, correction, also=(), **compute_options):
     with warnings.catch_warnings():  # a delayed CSV write mixes graph types; harmless here
         warnings.filterwarnings("ignore", message="Computing mixed collections", category=UserWarning)
         counts, extra, *_ = dask.compute(counts, extra, *also, **compute_options)
-    summary = RunSummary(correction.setup())
+    summary = kind(correction.setup())
     summary.started = correction.summary.started  # timed from the set-up, as the stream engine's run
     summary.rows = int(extra["rows"])
     summary.flagged = {k: int(v) for k, v in counts.items()}
