@@ -462,3 +462,63 @@ def test_ebv_distance_cases_are_new():
 @pytest.mark.parametrize(("argv", "needles"), EBV_DISTANCE_CASES, ids=[argv for argv, _ in EBV_DISTANCE_CASES])
 def test_ebv_distance_refused_cleanly(workspace, capsys, argv, needles):
     test_refused_cleanly(workspace, capsys, argv, needles)  # the same checks as every case above
+
+
+# ======================================================================= fit: per-star reddening from photometry
+# Options are checked before the model grid is built, but for --keep (checked against the file's columns). The
+# template's B and V columns are guessed for bessell-B and bessell-V; kw-b is a band the colour table lacks.
+FIT = "fit in.csv out.csv --band bessell-B --band bessell-V"
+
+FIT_CASES = [
+    ("fit in.csv out.csv --band bessell-B", ["bands=['bessell-B']", "at least 2"]),
+    (f"{FIT} --band bessell-B", ["'bessell-B'", "twice"]),
+    (f"{FIT} --rv-range 2,5", ["--rv-range 2,5", "only with --rv-free"]),
+    (f"{FIT} --rv-free --rv 3.1", ["--rv", "not allowed with argument --rv-free"]),
+    (f"{FIT} --rv-free --rv-range 5,2", ["r_v_range=(5.0, 2.0)", "increasing", "1.8-6"]),
+    (f"{FIT} --rv-free --rv-range 1,9", ["r_v_range=(1.0, 9.0)", "within the law's 1.8-6"]),
+    (f"{FIT} --rv-free --rv-range 2,2", ["r_v_range=(2.0, 2.0)", "increasing"]),
+    (f"{FIT} --rv-free --rv-range x", ["--rv-range", "'x'", "LOW,HIGH"]),
+    (f"{FIT} --rv-free --rv-range 3", ["--rv-range", "'3'", "LOW,HIGH"]),
+    (f"{FIT} --teff-col ebv", ["--teff-col", "needs --teff-err-col"]),
+    (f"{FIT} --teff-err-col e_ebv", ["--teff-err-col", "needs --teff-col"]),
+    (f"{FIT} --teff-col nocol --teff-err-col nocol2", ["teff_column='nocol'", "not a column", "'ebv'"]),
+    (f"{FIT} --floor -1", ["floor=-1.0", ">= 0"]),
+    (f"{FIT} --floor nan", ["--floor", "'nan'", "finite"]),
+    (f"{FIT} --floor x", ["--floor", "'x'", "not a number"]),
+    (f"{FIT} --ebv-max 0", ["ebv_max=0.0", "> 0"]),
+    (f"{FIT} --ebv-max -1", ["ebv_max=-1.0", "> 0"]),
+    (f"{FIT} --ebv-max inf", ["--ebv-max", "'inf'", "finite"]),
+    (f"{FIT} --prior-map-err 0.1", ["--prior-map-err", "only with --prior-map"]),
+    (f"{FIT} --distance-col d", ["--distance-col", "only with --prior-map"]),
+    (f"{FIT} --lon-col ra", ["--lon-col", "only with --prior-map"]),
+    (f"{FIT} --prior-map nope.fits", ["'nope.fits'", "does not exist"]),
+    (f"{FIT} --prior-map m.fits --prior-map-err -1", ["prior_error=-1.0", ">= 0"]),
+    (f"{FIT} --prior-map m.fits --distance-col d --parallax-col p",
+     ["--distance-col d", "--parallax-col p", "not both"]),
+    (f"{FIT} --prior-map m.fits --prior-length 100", ["prior_length=100.0", "parallax_error_column"]),
+    (f"{FIT} --colours empty.txt", ["'empty.txt'", "ECSV"]),
+    (f"{FIT} --colours nope.ecsv", ["'nope.ecsv'", "does not exist"]),
+    (f"{FIT} --colours adir", ["'adir'", "folder"]),
+    (f"{FIT} --colours zz", ["colours='zz'", "'dwarfs'"]),
+    (f"{FIT} --law zz", ["law='zz'", "choose from", "'f99'"]),
+    (f"{FIT} --rv 0", ["r_v=0.0", "[1.8, 6]"]),
+    ("fit in.csv in.csv --band bessell-B --band bessell-V", ["output='in.csv'", "is an input file"]),
+    ("fit in.csv '' --band bessell-B --band bessell-V", ["OUTPUT=''", "empty"]),
+    (f"{FIT} --keep nocol", ["['nocol']", "not columns of the input"]),
+    (f"{FIT} --mag bessell-B=nocol", ["bessell-B='nocol'", "not a column"]),
+    ("fit in.csv out.csv --band bessell-B --band bessell-I --mag bessell-I=id",
+     ["['bessell-I']", "no error column", "--err bessell-I=COLUMN"]),
+    ("fit in.csv out.csv --band bessell-B --band kw-b --mag kw-b=Vmag --err kw-b=Vmag_err",
+     ["band='kw-b'", "intrinsic-colour table 'dwarfs'", "bessell-B", "wise2010-W4"]),
+    (f"{FIT} --band qqqqqqqq", ["band='qqqqqqqq'", "redcorr bands --list"]),
+]
+
+
+def test_fit_cases_are_new():
+    assert len({argv for argv, _ in FIT_CASES}) == len(FIT_CASES)
+    assert not {argv for argv, _ in FIT_CASES} & {argv for argv, _ in CASES}
+
+
+@pytest.mark.parametrize(("argv", "needles"), FIT_CASES, ids=[argv for argv, _ in FIT_CASES])
+def test_fit_refused_cleanly(workspace, capsys, argv, needles):
+    test_refused_cleanly(workspace, capsys, argv, needles)  # the same checks as every case above

@@ -59,7 +59,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from redcorr._constants import CATALOG_FIT_FLAGS
-from redcorr._validate import check_positive, shown
+from redcorr._validate import check_finite, check_positive, shown
 from redcorr.correction.columns import (
     ColumnPlan,
     band_columns,
@@ -164,8 +164,8 @@ class FitOptions:
                              "a T_eff prior needs both (a value and its error, K)")
         if self.prior is not None and (not isinstance(self.prior, ReddeningSource) or self.prior.kind != "map"):
             raise InputError(f"prior={self.prior!r} must be a ReddeningSource with a dust_map")
-        if not (np.isfinite(self.prior_error) and self.prior_error >= 0):
-            raise InputError(f"prior_error={self.prior_error!r} must be a finite fraction >= 0")
+        if check_finite("prior_error", self.prior_error) < 0:
+            raise InputError(f"prior_error={self.prior_error!r} must be a fraction >= 0")
         check_positive("ebv_max", self.ebv_max)
 
     @property
@@ -314,11 +314,11 @@ class CatalogFit(TableJob):
         missing_cols = [c for c in self.plan.used() if c not in names]
         if missing_cols:
             raise InputError(f"columns {missing_cols} are missing; the columns are {names}")
-        plan, n = self.plan, len(table)
+        plan, n, nb = self.plan, len(table), len(self.mag_cols)
         read = np.zeros(n, np.int64)  # CORRECTION_FLAGS bits of the reading (text cells, the map)
-        mags = np.stack([self._numeric(table, c, read) for c in self.mag_cols], axis=-1).reshape(n, -1)
+        mags = np.stack([self._numeric(table, c, read) for c in self.mag_cols], axis=-1).reshape(n, nb)
         errs = np.stack([magnitude_error(self._numeric(table, c, read), kind)
-                         for c, kind in zip(self.err_cols, plan.err_kinds, strict=True)], axis=-1).reshape(n, -1)
+                         for c, kind in zip(self.err_cols, plan.err_kinds, strict=True)], axis=-1).reshape(n, nb)
         mags[np.isinf(mags)] = np.nan  # an infinite magnitude is a missing one
         if self.strict:
             for b, col in enumerate(self.err_cols):
@@ -326,10 +326,9 @@ class CatalogFit(TableJob):
                              "an error > 0 mag is needed")
         priors = {}
         if plan.t_col is not None:
-            priors["teff_prior"] = (self._numeric(table, plan.t_col, read), self._numeric(table, plan.t_err_col, read))
-            self._refuse(priors["teff_prior"][1] <= 0, plan.t_err_col, priors["teff_prior"][1],
-                         "an error > 0 K is needed")
-            priors["teff_prior"][1][priors["teff_prior"][1] <= 0] = np.nan  # no prior from such a row
+            teff, teff_err = self._numeric(table, plan.t_col, read), self._numeric(table, plan.t_err_col, read)
+            self._refuse(teff_err <= 0, plan.t_err_col, teff_err, "an error > 0 K is needed")
+            priors["teff_prior"] = (teff, np.where(teff_err > 0, teff_err, np.nan))  # no prior from such a row
         flags = np.zeros(n, np.int64)
         if plan.red_kind == "map":
             no_prior = self._map_prior(table, read, priors)

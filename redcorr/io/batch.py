@@ -91,8 +91,8 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
     options = dict(fmt=in_format, chunk_rows=chunk_rows, delimiter=delimiter, comment=comment, hdu=hdu)
     with open_catalog(input_path, **options) as probe:
         columns, fmt_in = probe.columns, probe.format
-    correction = make_correction(columns)
     keep = _keep(columns, keep_columns)
+    correction = make_correction(columns)
     correction.written_columns(keep)  # a kept column named like an output is refused before any output exists
     if out_format is None and not output_path.suffix:
         out_format = fmt_in
@@ -266,8 +266,8 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
     with output_group() as group:  # the output and its summary appear together or not at all
         try:
             columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
-            correction = make_correction(columns)
             keep = _keep(columns, keep_columns)
+            correction = make_correction(columns)
             correction.written_columns(keep)
             numeric, text = correction.numeric_columns(), ()
             scheduler_kw = {"scheduler": client} if client is not None else {}

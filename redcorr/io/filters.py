@@ -234,7 +234,7 @@ def _load_one(spec):
             return _synthetic(kind, spec[len(kind) + 1:], spec)
     own = project_bands()
     known = list(own) + [n for n in _speclite_names() if n not in own]
-    name = check_choice("band", spec, known)
+    name = check_choice("band", spec, known, listed_by="redcorr bands --list")
     if name in own:
         return read_band_file(own[name], name=name)
     return _load_speclite(name)
