@@ -1,12 +1,21 @@
 """The Catalog screen writes what `redcorr correct` writes, cancels safely and survives bad values."""
 
+import tempfile
+
 import numpy as np
+import pandas as pd
 import pytest
+from textual.coordinate import Coordinate
 from tui_helpers import run_app, set_value, type_into, until
 
 from redcorr._paths import project_dir
 from redcorr.cli import main
-from redcorr.colours import colour_magnitude
+from redcorr.colours import colour_magnitude, locus_colours, reddening_arrow
+from redcorr.extinction import band_extinction
+from redcorr.io import load_curve
+from redcorr.io.filters import load_band
+from redcorr.io.intrinsic import load_intrinsic_colours
+from redcorr.sed import blackbody
 from redcorr.tui._inputs import catalog_probe
 from redcorr.tui.widgets import StatusLine, XYPlot
 
@@ -49,7 +58,7 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
         await wait_for_run(pilot)
         assert status.message == f"wrote {tui_out}"
         assert screen.summary.rows == 300
-        series = screen.query_one(XYPlot).series
+        series = screen.query_one("#cat-plot", XYPlot).series
 
         # a run cancelled before its first chunk is done writes nothing
         await set_value(pilot, "#cat-output", str(out))
@@ -175,3 +184,196 @@ def test_a_distance_resolved_map_takes_a_parallax_column_and_writes_what_the_cli
     assert main(["correct", str(catalog), str(cli_out), "--band", "kw-v", "--map", cube, "--parallax-col", "plx",
                  "--parallax-err-col", "e_plx", "--quiet"]) == 0
     assert tui_out.read_bytes() == cli_out.read_bytes()  # byte for byte: the same options, the same core
+
+
+# ------------------------------------------------------------------ reddening from the photometry
+PHOTOMETRY = {"bessell-B": "Bmag", "bessell-V": "Vmag", "bessell-R": "Rmag", "bessell-I": "Imag",
+              "twomass-J": "Jmag", "twomass-H": "Hmag", "twomass-Ks": "Ksmag"}
+DWARF_TYPES = ["A5V", "F5V", "G2V", "K0V", "K5V"]
+
+
+def brume_dwarfs(path, rows=20):
+    """An invented Brume Field catalog: dwarfs of the packaged locus behind known dust; returns E(B-V).
+
+    Row i is a dwarf of type DWARF_TYPES[i % 5] (its T_eff and intrinsic magnitudes from the packaged
+    table), at distance modulus 9 + i/4, behind E(B-V) = 0.10 + 0.05 i with F99, R_V = 3.1 (the screen's
+    default dust), its band extinctions those of the project (redcorr.extinction.band_extinction, a
+    blackbody of the star's T_eff: the fit's own model); errors 0.01 mag, no noise added.
+    """
+    locus, f99 = load_intrinsic_colours("dwarfs"), load_curve("f99", r_v=3.1)
+    ebv = 0.10 + 0.05 * np.arange(rows)
+    table = {"star": [f"BF-{i + 1:03d}" for i in range(rows)]}
+    teff = locus.teff_of([DWARF_TYPES[i % 5] for i in range(rows)])
+    for band, column in PHOTOMETRY.items():
+        a_b = [float(band_extinction(f99, load_band(band), blackbody(t), 3.1 * e))
+               for t, e in zip(teff, ebv, strict=True)]
+        table[column] = locus.magnitude(teff, band) + 9.0 + 0.25 * np.arange(rows) + np.array(a_b)
+        table["e_" + column] = np.full(rows, 0.01)
+    pd.DataFrame(table).to_csv(path, index=False)
+    return ebv
+
+
+def test_catalog_fits_each_stars_reddening_from_its_photometry_and_corrects_with_it(tmp_path, monkeypatch):
+    """From the photometry: the preview fits the first rows, the diagram shows the core's locus, arrow and
+    stars, a run writes the fit and the correction whole (nothing on a cancel), a band the colour table lacks
+    is refused with the core's message."""
+    catalog = tmp_path / "brume_dwarfs.csv"
+    truth = brume_dwarfs(catalog)
+    folder = tmp_path / "out"  # the run's folder: only the output and its summary may appear there
+    folder.mkdir()
+    tui_out, cli_out = folder / "dered.csv", tmp_path / "cli.csv"
+    temporary = tmp_path / "tmp"  # where the fitted table waits: empty again after every run
+    temporary.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(temporary))
+    bvi = (("bessell-B", "bessell-V"), ("bessell-V", "bessell-I"))
+
+    async def script(app, pilot):
+        await pilot.press("f4")
+        await pilot.pause()
+        screen = app.screen
+        status = screen.query_one(StatusLine)
+        ccd = screen.query_one("#cat-ccd", XYPlot)
+        await set_value(pilot, "#cat-input", str(catalog))
+        await set_value(pilot, "#cat-bands", ",".join(PHOTOMETRY))
+        await set_value(pilot, "#cat-colour", "bessell-B,bessell-V")
+        await pilot.click("#cat-open")
+        await pilot.pause()
+        await set_value(pilot, "#cat-output", str(tui_out))
+        assert not ccd.display and screen.query_one("#cat-red-value-field").display
+        screen.query_one("#cat-red-kind").value = "photometry"
+        await pilot.pause()
+        assert ccd.display and not screen.query_one("#cat-red-value-field").display
+
+        # the preview: the first rows fitted (once a worker has built the fit's grid), then corrected
+        after = screen.query_one("#cat-after")
+
+        def header():
+            return [str(c.label) for c in after.columns.values()]
+
+        await until(pilot, lambda: "ebv_fit" in header(), "the fitted preview")
+        assert not status.has_class("-error"), status.message
+        header = header()
+        assert header[-5:] == ["ebv_fit", "ebv_fit_err", "teff_fit", "fit_flags", "dered_flags"]
+        assert after.row_count == 5
+        shown = np.array([[float(after.get_cell_at(Coordinate(r, header.index(c)))) for c in header[-5:-3]]
+                          for r in range(5)])
+        # default diagram: the first three bands, B-V against V-R
+        assert [name for name, _, _ in ccd.series] == ["locus (dwarfs)", "E(B-V) = 1 at 7000 K",
+                                                        "stars as observed", "dereddened"]
+        assert ccd.points == [False, False, True, True]
+        default = ccd.series[0]
+        await type_into(pilot, "#cat-diagram", "bessell-B,bessell-V,bessell-I")
+        diagram = list(ccd.series)
+        await set_value(pilot, "#cat-diagram", "bessell-B,bessell-V,twomass-J,twomass-Ks")  # four bands
+        four = list(ccd.series)
+
+        # a diagram naming two bands is refused, the run is not
+        await type_into(pilot, "#cat-diagram", "bessell-B,bessell-V")
+        assert "diagram='bessell-B,bessell-V' must name 3 bands" in status.message
+        assert screen.query_one("#cat-diagram").has_class("-refused")
+        await set_value(pilot, "#cat-diagram", "")
+        assert not screen.query_one("#cat-diagram").has_class("-refused")
+
+        # a run cancelled before its first chunk is done writes nothing, not even the fit
+        screen.action_run()
+        screen.action_cancel()
+        await wait_for_run(pilot)
+        assert status.message == "cancelled: nothing was written"
+        assert list(folder.iterdir()) == [] and list(temporary.iterdir()) == []
+
+        await pilot.press("ctrl+r")
+        await wait_for_run(pilot)
+        # written, with the fit's warning: posteriors that split in two along the locus (the data are exact,
+        # the trade-off of temperature and reddening is the locus' own) are flagged, and said
+        assert tui_out.exists() and status.has_class("-warning")
+        assert "star(s) flagged (bimodal" in status.message, status.message
+        assert screen.summary.rows == 20
+        assert str(screen.query_one("#cat-summary").render()).startswith("fit: ")
+        after_run = list(ccd.series)
+
+        # a band the intrinsic-colour table does not have: the core's one-line message, nothing run
+        await set_value(pilot, "#cat-bands", "bessell-B,bessell-V,kw-i")
+        await pilot.click("#cat-open")
+        await until(pilot, lambda: status.has_class("-error"), "the fit refused")
+        assert screen.query_one("#cat-mapping").mapping["kw-i"] == ("Imag", "e_Imag")
+        assert status.message.startswith("band='kw-i' is not in the intrinsic-colour table 'dwarfs'; it covers "
+                                         "bessell-U, bessell-B, bessell-V"), status.message
+        assert screen.query_one("#cat-bands").has_class("-refused") and status.has_class("-error")
+        screen.action_run()
+        assert not screen.running
+        return shown, default, diagram, four, after_run
+
+    shown, default, diagram, four, after_run = run_app(script, size=(150, 60))
+    assert sorted(p.name for p in folder.iterdir()) == ["dered.csv", "dered.csv.summary.json"]
+    assert list(temporary.iterdir()) == []  # the fitted table was removed
+
+    # self-consistency (no outside source): stars made from the packaged locus with the project's own band
+    # extinction, the fit's model, give back their E(B-V) within 2 posterior sigma; the posteriors are wide
+    # (0.07-0.14 mag: with the 0.02 mag floor, temperature and reddening trade off along the locus), so
+    # also no wider than 0.15 mag. The preview shows 4 decimals.
+    fit, err = shown.T
+    assert np.all(err < 0.15) and np.all(np.abs(fit - truth[:5]) < 2 * err + 1e-4)
+    written = pd.read_csv(tui_out)
+    assert np.all(np.abs(written["ebv_fit"] - truth) < 2 * written["ebv_fit_err"])
+    # the correction read the fitted E(B-V) and its error (its columns; bitwise: copied, not recomputed)
+    np.testing.assert_array_equal(written["ebv_used"], written["ebv_fit"])
+    assert {"teff_fit", "chi2_fit", "fit_flags", "Bmag_dered", "Ksmag_dered_err", "dered_flags"} <= set(written)
+    # byte for byte: what `redcorr fit` then `redcorr correct --ebv-col ebv_fit --red-err-col ebv_fit_err` write
+    # with the screen's settings (F99 R_V 3.1, fixed T 7000 K, colour B,V)
+    fitted, bands = tmp_path / "fitted.csv", [a for b in PHOTOMETRY for a in ("--band", b)]
+    dust = ["--law", "f99", "--rv", "3.1", "--quiet"]
+    assert main(["fit", str(catalog), str(fitted), *bands, *dust]) == 0
+    assert main(["correct", str(fitted), str(cli_out), *bands, *dust, "--ebv-col", "ebv_fit", "--red-err-col",
+                 "ebv_fit_err", "--colour", "bessell-B,bessell-V"]) == 0
+    assert tui_out.read_bytes() == cli_out.read_bytes()
+
+    # the diagram draws the core's numbers (redcorr.colours), bitwise: the UI computes none of its own
+    locus = load_intrinsic_colours("dwarfs")
+    _, lx, ly = locus_colours(locus, ("bessell-B", "bessell-V"), ("bessell-V", "bessell-R"))
+    assert default[1:] == (list(lx), list(ly))
+    _, lx, ly = locus_colours(locus, *bvi)
+    assert diagram[0][1:] == (list(lx), list(ly))
+    bands = {b: load_band(b) for b in PHOTOMETRY}
+    start, end = reddening_arrow(locus, load_curve("f99", r_v=3.1), bands, *bvi, 7000.0)
+    assert diagram[1][1:] == ([start[0], end[0]], [start[1], end[1]])
+    first = pd.read_csv(catalog, nrows=5)
+    assert diagram[2][1:] == (list(first["Bmag"] - first["Vmag"]), list(first["Vmag"] - first["Imag"]))
+    assert four[2][1:] == (list(first["Bmag"] - first["Vmag"]), list(first["Jmag"] - first["Ksmag"]))
+    # after the run (the default diagram again, B-V against V-R): the written file, observed and dereddened
+    assert after_run[2][1] == list(written["Bmag"] - written["Vmag"])
+    assert after_run[3][2] == list(written["Vmag_dered"] - written["Rmag_dered"])
+
+
+def test_every_control_of_a_fit_from_the_photometry_is_reachable_at_80_by_24(tmp_path):
+    """At 80x24 the Catalog screen scrolls (both ways): each control, focused or scrolled to, lies on screen."""
+    catalog = tmp_path / "brume_dwarfs.csv"
+    brume_dwarfs(catalog, rows=5)
+    selectors = ["#cat-input", "#cat-open", "#cat-bands", "#cat-colour", "#cat-red-kind", "#cat-spectrum",
+                 "#cat-teff", "#cat-diagram", "#cat-mapping", "#cat-after", "#cat-ccd", "#cat-output",
+                 "#cat-overwrite", "#cat-run", "#cat-cancel", "#cat-plot"]
+
+    async def script(app, pilot):
+        await pilot.press("f4")
+        await pilot.pause()
+        screen = app.screen
+        await set_value(pilot, "#cat-input", str(catalog))
+        await set_value(pilot, "#cat-bands", ",".join(PHOTOMETRY))
+        await set_value(pilot, "#cat-colour", "")
+        await pilot.press("ctrl+o")  # the Open button is off screen until scrolled to
+        await pilot.pause()
+        screen.query_one("#cat-red-kind").value = "photometry"
+        await until(pilot, lambda: screen.query_one("#cat-after").row_count == 5, "the fitted preview")
+        off = []
+        for selector in selectors:
+            widget = screen.query_one(selector)
+            if widget.focusable:
+                widget.focus()
+            else:
+                screen.scroll_to_widget(widget, animate=False)
+            await pilot.pause()
+            r = widget.region
+            if not (widget.display and r.x >= 0 and r.y >= 1 and r.right <= 80 and r.y + min(r.height, 3) <= 23):
+                off.append((selector, r))
+        return off
+
+    assert run_app(script, size=(80, 24)) == []

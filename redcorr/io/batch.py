@@ -16,9 +16,11 @@ everything succeeded, and write the run summary beside the output as
 
 import glob
 import queue
+import tempfile
 import threading
 from pathlib import Path
 
+from redcorr.correction import Correction
 from redcorr.exceptions import InputError
 from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path, output_group
 from redcorr.io.catalogs import (
@@ -35,7 +37,7 @@ from redcorr.io.catalogs import (
 )
 from redcorr.io.dask_engine import correct_dask, summarise_dask
 
-__all__ = ["correct_file", "correct_file_dask"]
+__all__ = ["correct_file", "correct_file_dask", "fit_and_correct_file"]
 
 
 def _check_targets(output, overwrite, inputs):
@@ -113,6 +115,39 @@ def correct_file(input_path, output_path, make_correction, *, in_format=None, ou
             write_summary(summary.to_dict(), output_path, overwrite=overwrite, group=group)
     summary.warn()
     return summary
+
+
+def fit_and_correct_file(input_path, output_path, make_fit, options, *, overwrite=False, progress=None):
+    """Fit a catalog file, then correct it with the fitted E(B-V): the output appears whole or not at all.
+
+    The fit (`redcorr.io.batch.correct_file` with ``make_fit(columns) ->
+    CatalogFit``) is written in the input's format to a temporary folder,
+    removed afterwards; the correction of that table (``options``: a
+    :class:`~redcorr.correction.CorrectionOptions` reading the fit's
+    ``ebv_fit`` and ``ebv_fit_err``) is written atomically to ``output_path``
+    with its summary, as :func:`correct_file` writes. ``progress(rows,
+    fraction, step)`` is called with step ``"fit"`` or ``"correct"``; an
+    exception it raises stops the run and leaves no output.
+
+    Returns
+    -------
+    (RunSummary, RunSummary)
+        The fit's summary and the correction's.
+    """
+    input_path = Path(input_path)
+    _check_targets(Path(output_path), overwrite, [input_path])  # before the fit, not after it
+    fmt = detect_format(input_path)
+
+    def step(name):
+        return None if progress is None else (lambda rows, fraction: progress(rows, fraction, name))
+
+    with tempfile.TemporaryDirectory(prefix="redcorr-fit-") as folder:
+        fitted = Path(folder) / "fitted"
+        fit_summary = correct_file(input_path, fitted, make_fit, out_format=fmt, summary_file=False,
+                                   progress=step("fit"))
+        summary = correct_file(fitted, output_path, lambda columns: Correction(columns, options), in_format=fmt,
+                               overwrite=overwrite, progress=step("correct"))
+    return fit_summary, summary
 
 
 def _keep(columns, keep_columns):

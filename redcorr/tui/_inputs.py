@@ -1,30 +1,39 @@
 """Turn the UI's remembered inputs into core objects and results, through the core only."""
 
 import math
+import threading
 
 import numpy as np
 
 from redcorr._validate import check_finite, check_range
 from redcorr.band_summary import band_summary
-from redcorr.correction import Correction
+from redcorr.colours import colour_colour, locus_colours, reddening_arrow
+from redcorr.correction import CatalogFit, Correction
 from redcorr.curves import list_curves
 from redcorr.exceptions import InputError
 from redcorr.exposure import plan_exposure, snr_vs_time, time_vs_av
 from redcorr.io import load_curve
 from redcorr.io.catalogs import open_catalog
-from redcorr.io.correction import correction_options
+from redcorr.io.correction import correction_options, fit_options
 from redcorr.tui import _cache
 
 __all__ = [
     "DISTANCE_KINDS",
+    "FIT_COLOURS",
+    "FIT_EBV",
     "GOALS",
     "RED_KINDS",
     "SPECTRA",
     "av_table",
     "band_rows",
     "catalog_options",
+    "build_fit",
+    "catalog_fit_options",
     "catalog_probe",
+    "colour_diagram",
     "colour_pair",
+    "diagram_colours",
+    "fit_key",
     "dust_state",
     "fixed_r_v",
     "guess_mapping",
@@ -35,6 +44,8 @@ __all__ = [
     "mapping_options",
     "plan_state",
     "preview_correction",
+    "preview_fit",
+    "ready_fit",
     "split_list",
 ]
 
@@ -128,8 +139,16 @@ RED_KINDS = {
     "ebv": "E(B-V) constant",
     "av": "A_V constant",
     "map": "dust map",
+    "photometry": "from the photometry",
 }
-"""Sources of reddening on the Catalog screen: `Correction` keyword → label."""
+"""Sources of reddening on the Catalog screen: `Correction` keyword (or ``photometry``: each row's
+E(B-V) fitted from its magnitudes by `redcorr.correction.CatalogFit`) → label."""
+
+FIT_COLOURS = "dwarfs"
+"""The intrinsic-colour table the Catalog screen fits against (`redcorr.io.intrinsic.load_intrinsic_colours`)."""
+
+FIT_EBV = ("ebv_fit", "ebv_fit_err")
+"""The fit's E(B-V) columns (`redcorr.correction.fit`) that the correction after a fit reads."""
 
 DISTANCE_KINDS = {"distance": "distance [pc]", "parallax": "parallax [mas]"}
 """What the distance column of a distance-resolved map holds, as ``--distance-col`` or ``--parallax-col``."""
@@ -229,7 +248,9 @@ def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, tef
     ``redcorr correct`` builds them with from the equivalent options
     (``--band``, ``--mag``/``--err``, ``--ebv-col``/``--av-col``/``--ebv``/``--av``/``--map``,
     ``--distance-col``/``--distance-err-col``/``--parallax-col``/``--parallax-err-col``,
-    ``--law``, ``--rv``, ``--teff``, ``--solve-colour``, ``--colour``). ``distance`` is
+    ``--law``, ``--rv``, ``--teff``, ``--solve-colour``, ``--colour``). The kind
+    ``photometry`` corrects a table the fit has written (`CatalogFit`) with its
+    columns :data:`FIT_EBV` (``--ebv-col ebv_fit --red-err-col ebv_fit_err``). ``distance`` is
     ``(kind, column, error column)`` with a kind of `DISTANCE_KINDS`, used for a
     distance-resolved map only; an empty column means none.
     """
@@ -245,6 +266,8 @@ def catalog_options(bands, mapping, red_kind, red_value, law, r_v, spectrum, tef
         reddening[red_kind] = value
     elif red_kind in ("ebv", "av"):
         reddening[red_kind] = check_finite(red_kind, value)
+    elif red_kind == "photometry":
+        reddening.update(ebv_column=FIT_EBV[0], reddening_error_column=FIT_EBV[1])
     else:
         reddening["dust_map"] = _cache.dust_map(value)
         if distance is not None and is_3d_map(red_kind, value):
@@ -281,3 +304,113 @@ def preview_correction(frame, options):
     """The first rows corrected by `redcorr.correction.Correction` (nothing is written)."""
     corr = Correction(list(frame.columns), options)
     return corr.correct(frame), corr
+
+
+def catalog_fit_options(bands, mapping, law, r_v):
+    """The options of a fit of the Catalog screen's bands and column mapping against :data:`FIT_COLOURS`.
+
+    Built by `redcorr.io.correction.fit_options`, as ``redcorr fit`` builds
+    them (``--band``, ``--mag``/``--err``, ``--law``, ``--rv``); ``law`` is a law
+    name or a curve object (a grain model).
+    """
+    return fit_options(list(bands), law=law, r_v=r_v, colours=FIT_COLOURS, **mapping_options(mapping))
+
+
+_FITS_KEPT = 4
+_fits = {}
+_fits_lock = threading.Lock()
+
+
+def fit_key(columns, bands, mapping, law, r_v):
+    """The key of a `CatalogFit` of `catalog_fit_options` for tables of ``columns`` (see `build_fit`)."""
+    return tuple(columns), tuple(bands), tuple(sorted(mapping.items())), law, r_v
+
+
+def ready_fit(key):
+    """The `CatalogFit` of ``key`` built already by `build_fit`, or None."""
+    with _fits_lock:
+        return _fits.get(key)
+
+
+def build_fit(key):
+    """Build the `CatalogFit` of ``key`` (`fit_key`) and keep it, with the last few, for previews.
+
+    Its model grid takes seconds to build: the screen calls this in a
+    worker thread and reads it with `ready_fit`.
+    """
+    columns, bands, mapping, law, r_v = key
+    job = ready_fit(key) or CatalogFit(list(columns), catalog_fit_options(bands, dict(mapping), law, r_v))
+    with _fits_lock:
+        _fits[key] = job
+        for old in list(_fits)[:-_FITS_KEPT]:
+            del _fits[old]
+    return job
+
+
+def preview_fit(frame, job, options):
+    """The first rows fitted by ``job`` (a `CatalogFit`), then corrected with the fitted E(B-V).
+
+    ``options`` are the correction's (`catalog_options` with the kind
+    ``photometry``). Returns ``(corrected, correction)``; nothing is written.
+    """
+    fitted = job.correct(frame)
+    corr = Correction(list(fitted.columns), options)
+    return corr.correct(fitted), corr
+
+
+def diagram_colours(text, labels):
+    """The two colours of the colour–colour diagram: ``((b1, b2), (b3, b4))``.
+
+    ``text`` names three bands ``b1,b2,b3`` (the colours b1−b2 and b2−b3) or
+    four ``b1,b2,b3,b4`` (b1−b2 and b3−b4), each one of ``labels``; empty
+    means the first three of ``labels``.
+    """
+    names = [t.strip() for t in str(text).split(",") if t.strip()] or list(labels)[:3]
+    if len(names) == 3:
+        names = [names[0], names[1], names[1], names[2]]
+    if len(names) != 4:
+        raise InputError(f"diagram={text!r} must name 3 bands b1,b2,b3 (b1-b2 against b2-b3) or 4 bands b1,b2,b3,b4 "
+                         f"(b1-b2 against b3-b4), of the catalog's bands {list(labels)}")
+    unknown = [n for n in names if n not in labels]
+    if unknown:
+        raise InputError(f"diagram={text!r}: band {unknown[0]!r} is not one of the catalog's bands {list(labels)}")
+    return (names[0], names[1]), (names[2], names[3])
+
+
+def colour_diagram(job, colours, teff_text, stars, corrected=None, suffix="_dered"):
+    """The colour–colour diagram's series, all from `redcorr.colours`.
+
+    Parameters
+    ----------
+    job : CatalogFit
+        Its locus, curve and bands.
+    colours : ((str, str), (str, str))
+        Band labels of x and y (`diagram_colours`).
+    teff_text : str
+        T_eff (K) of the locus point the reddening arrow starts from.
+    stars : DataFrame
+        Rows with the observed magnitude columns of ``job``.
+    corrected : DataFrame, optional
+        The same rows corrected (``MAG + suffix`` columns): drawn as well.
+
+    Returns
+    -------
+    list of (str, ndarray, ndarray, bool)
+        ``(label, x, y, as_points)``: the locus, the arrow for E(B-V) = 1
+        (from its start to its end), the stars as observed (and dereddened).
+    """
+    (b1, b2), (b3, b4) = colours
+    column = dict(zip(job.labels, job.mag_cols, strict=True))
+    _, lx, ly = locus_colours(job.locus, (b1, b2), (b3, b4))
+    bands = dict(zip(job.labels, job.options.bands.bands, strict=True))
+    teff = check_finite("temperature", teff_text)
+    start, end = reddening_arrow(job.locus, job.curve, bands, (b1, b2), (b3, b4), teff, ebv=1.0)
+    series = [
+        (f"locus ({job.locus.name})", lx, ly, False),
+        (f"E(B-V) = 1 at {teff:g} K", np.array([start[0], end[0]]), np.array([start[1], end[1]]), False),
+        ("stars as observed", *colour_colour(stars, (column[b1], column[b2]), (column[b3], column[b4])), True),
+    ]
+    if corrected is not None:
+        dered = {k: v + suffix for k, v in column.items()}
+        series.append(("dereddened", *colour_colour(corrected, (dered[b1], dered[b2]), (dered[b3], dered[b4])), True))
+    return series

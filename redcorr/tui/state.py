@@ -44,6 +44,9 @@ class Session:
     cat_dist_kind, cat_dist_col, cat_dist_err : str
         For a distance-resolved map: ``"distance"`` (pc) or ``"parallax"`` (mas), its column
         and its error column (empty: none).
+    cat_diagram : str
+        The colour–colour diagram of a fit from the photometry: bands ``b1,b2,b3``
+        (b1−b2 against b2−b3) or ``b1,b2,b3,b4``; empty for the first three bands.
     screen : str
         The screen shown last.
     """
@@ -77,6 +80,7 @@ class Session:
     cat_dist_kind: str = "distance"
     cat_dist_col: str = ""
     cat_dist_err: str = ""
+    cat_diagram: str = ""
     screen: str = "dust"
 
     @classmethod

@@ -1,4 +1,4 @@
-"""A general terminal plot of several named series: lines (S/N against time) or points (a CMD)."""
+"""A general terminal plot of several named series: lines (S/N against time), points (a CMD), or both."""
 
 from textual_plotext import PlotextPlot
 
@@ -6,7 +6,7 @@ __all__ = ["XYPlot"]
 
 
 class XYPlot(PlotextPlot):
-    """Draw named series as lines or points; keeps what it drew in :attr:`series`."""
+    """Draw named series as lines or points; keeps what it drew in :attr:`series` and :attr:`points`."""
 
     DEFAULT_CSS = """
     XYPlot { height: 1fr; min-height: 10; border: round $primary-darken-2; }
@@ -15,6 +15,7 @@ class XYPlot(PlotextPlot):
     def __init__(self, **kwargs):
         super().__init__(**kwargs)
         self.series = []
+        self.points = []
 
     def draw(self, series, *, xlabel="", ylabel="", title="", xlog=False, ylog=False, points=False,
              invert_y=False, hline=None):
@@ -22,25 +23,28 @@ class XYPlot(PlotextPlot):
 
         Parameters
         ----------
-        series : sequence of (str, array_like, array_like)
-            ``(label, x, y)``; non-finite points are left out by plotext.
+        series : sequence of (str, array_like, array_like) or (str, array_like, array_like, bool)
+            ``(label, x, y)``, or ``(label, x, y, as_points)`` to choose the
+            style of that series; non-finite points are left out.
         xlabel, ylabel, title : str
         xlog, ylog : bool
             Logarithmic axes.
         points : bool
-            Scatter points instead of lines.
+            Scatter points instead of lines (for series without their own choice).
         invert_y : bool
             Larger y downwards (magnitudes).
         hline : float, optional
             A horizontal reference line (e.g. the target S/N).
         """
-        self.series = [(str(n), [float(v) for v in x], [float(v) for v in y]) for n, x, y in series]
+        series = [tuple(s) if len(s) == 4 else (*s, points) for s in series]
+        self.series = [(str(n), [float(v) for v in x], [float(v) for v in y]) for n, x, y, _ in series]
+        self.points = [bool(s[3]) for s in series]
         plt = self.plt
         plt.clear_data()
         plt.clear_figure()
         plt.xscale("log" if xlog else "linear")
         plt.yscale("log" if ylog else "linear")
-        for name, x, y in self.series:
+        for (name, x, y), as_points in zip(self.series, self.points, strict=True):
             keep = [
                 (a, b)
                 for a, b in zip(x, y, strict=True)
@@ -49,7 +53,7 @@ class XYPlot(PlotextPlot):
             if not keep:
                 continue
             xs, ys = zip(*keep, strict=True)
-            if points:
+            if as_points:
                 plt.scatter(xs, ys, label=name, marker="dot")
             else:
                 plt.plot(xs, ys, label=name, marker="braille")
