@@ -18,6 +18,10 @@ from redcorr.exceptions import InputError
 
 __all__ = ["add_parser", "run"]
 
+DEFAULT_FLOOR = 0.02
+"""mag: the floor of ``--floor`` (``redcorr.photometric_reddening.DEFAULT_FLOOR``, repeated here so that
+the parser does not import numpy; a test checks they agree)."""
+
 DEFAULT_RV_RANGE = (2.3, 6.0)
 """The R_V range of ``--rv-free`` when ``--rv-range`` is not given: the span of sight lines of the Milky
 Way from the diffuse medium (about 2.3) to dense clouds (about 6; common practice, no source)."""
@@ -38,6 +42,29 @@ def _range(text):
     except (ValueError, argparse.ArgumentTypeError):
         raise argparse.ArgumentTypeError(f"{text!r} is not LOW,HIGH (two numbers)") from None
     return low, high
+
+
+def _floor(text):
+    """argparse type: MAG (every band) or BAND=MAG, MAG finite and >= 0."""
+    band, _, value = text.rpartition("=")
+    mag = finite_float(value)
+    if mag < 0:
+        raise argparse.ArgumentTypeError(f"{text!r}: the floor must be >= 0 mag")
+    return band or None, mag
+
+
+def _floors(pairs, bands):
+    """The floor of each band (None: the default for all) from --floor values."""
+    if not pairs:
+        return None
+    common = [mag for band, mag in pairs if band is None]
+    floors = dict.fromkeys(bands, common[-1] if common else DEFAULT_FLOOR)
+    for band, mag in pairs:
+        if band is not None:
+            if band not in floors:
+                raise InputError(f"--floor {band}={mag:g}: {band!r} is not one of the --band values {list(bands)}")
+            floors[band] = mag
+    return [floors[b] for b in bands]
 
 
 def add_parser(sub):
@@ -69,8 +96,9 @@ def add_parser(sub):
     m.add_argument("--colours", default="dwarfs", metavar="TABLE",
                    help="intrinsic colours: 'dwarfs' (Pecaut & Mamajek 2013, packaged) or an ECSV file of "
                         "your own (e.g. giants; see README)")
-    m.add_argument("--floor", type=finite_float, metavar="MAG",
-                   help="model uncertainty added in quadrature to every band's error (default 0.02)")
+    m.add_argument("--floor", action="append", type=_floor, default=[], metavar="[BAND=]MAG",
+                   help="model uncertainty added in quadrature to the errors: MAG for every band, "
+                        "BAND=MAG for one (repeat; default 0.02)")
     m.add_argument("--ebv-max", type=finite_float, metavar="MAG", help="largest E(B-V) considered (default 3)")
     m.add_argument("--extrapolate", action="store_true", help="allow bands beyond the law's range")
     r = p.add_argument_group("priors (default: flat in log T_eff, E(B-V) >= 0 and R_V)")
@@ -101,7 +129,7 @@ def _options(args):
         raise InputError(f"{given} needs {other}: a T_eff prior is a value and its uncertainty (K)")
     extra = {"--prior-map-err": args.prior_map_err is not None}
     located = distance_options(args, "--prior-map", args.prior_map, extra)
-    model = {name: value for name, value in (("floor", args.floor), ("ebv_max", args.ebv_max),
+    model = {name: value for name, value in (("floor", _floors(args.floor, args.band)), ("ebv_max", args.ebv_max),
                                              ("prior_error", args.prior_map_err)) if value is not None}
     if args.prior_map is None:
         located = {}
