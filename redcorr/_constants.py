@@ -60,3 +60,15 @@ PLAN_CAUTION = (
     "Caution: these are estimates; confirm with the observatory's own tools before committing telescope time."
 )
 """The caution shown with every exposure plan (``redcorr.exposure.CAUTION``)."""
+
+TARGET_FLAGS = {
+    "no_magnitude": 1,
+    "no_reddening": 2,
+    "beyond_map": 4,
+    "no_distance": 8,
+    "prior_distance": 16,
+    "unreachable": 32,
+    "over_time": 64,
+    "non_numeric": 128,
+}
+"""dict: name → bit of the ``flags`` column of a target-list plan (meanings: ``redcorr.target_plan``)."""

@@ -74,6 +74,7 @@ __all__ = [
     "Channel",
     "Instrument",
     "BandPlan",
+    "plan_channel",
     "plan_exposure",
     "snr_vs_time",
     "time_vs_av",
@@ -373,6 +374,63 @@ def _band_mags(instrument, bands, mag, sed, mag_band):
                        m0 + synthetic_colour(sed, instrument.channel(b).band, mag_band)) for b in bands]
 
 
+def plan_channel(channel, mag, a_band, *, snr=None, time=None, limit_snr=5.0):
+    """The plan of one band for any number of sources: the arrays behind :class:`BandPlan`.
+
+    :func:`plan_exposure` calls it for one source, :func:`redcorr.target_plan.plan_targets` for a
+    whole target list, so both give the same numbers for the same source.
+
+    Parameters
+    ----------
+    channel : Channel
+    mag, a_band : array_like
+        Dust-free AB magnitudes in this band and band extinctions, mag; they broadcast.
+        Where either is NaN every result is NaN (``noise`` is ``""``).
+    snr, time : float, optional
+        Exactly one, already checked (see :func:`plan_exposure`).
+    limit_snr : float
+        S/N defining ``limiting_mag``.
+
+    Returns
+    -------
+    dict
+        ``t_clear_s``, ``t_dust_s``, ``time_factor``, ``snr``, ``limiting_mag`` (float arrays) and
+        ``noise`` (str array), each of the broadcast shape. For a target S/N that no finite time
+        reaches, ``t_dust_s`` is ``inf`` and ``limiting_mag`` NaN.
+
+    Notes
+    -----
+    The fields are those of :class:`BandPlan`, computed with the channel's CCD equation
+    (Howell 2006 §4.4): ``t_clear_s`` and ``t_dust_s`` from :meth:`Channel.time_for_snr` without
+    and with ``a_band``; in time mode ``snr`` from :meth:`Channel.snr` and ``t_clear_s`` the time
+    the dust-free source needs for it; ``time_factor = t_dust_s / t_clear_s``.
+    """
+    m, a = np.broadcast_arrays(np.asarray(mag, dtype=float), np.asarray(a_band, dtype=float))
+    ok = np.isfinite(m) & np.isfinite(a)
+    m, a = np.where(ok, m, 0.0), np.where(ok, a, 0.0)  # placeholders, masked below
+    if snr is not None:
+        t_clear = np.where(ok, channel.time_for_snr(m, snr), np.nan)
+        t_dust = np.where(ok, channel.time_for_snr(m, snr, a), np.nan)
+        reached = np.where(ok, snr, np.nan)
+    else:
+        t_dust = np.where(ok, time, np.nan)
+        reached = np.where(ok, channel.snr(m, time, a), np.nan)
+        seen = reached > 0
+        t_clear = np.where(seen, channel.time_for_snr(m, np.where(seen, reached, 1.0)), np.where(ok, 0.0, np.nan))
+    live = np.isfinite(t_dust) & (t_dust > 0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        factor = np.where((t_clear > 0) & (t_clear < np.inf), t_dust / t_clear, np.nan)
+    t_live = np.where(live, t_dust, 1.0)
+    return {
+        "t_clear_s": t_clear,
+        "t_dust_s": t_dust,
+        "time_factor": factor,
+        "snr": reached,
+        "limiting_mag": np.where(live, channel.limiting_mag(t_live, limit_snr), np.nan),
+        "noise": np.where(live, channel.dominant_noise(m, t_live, a), np.where(ok, "read", "")),
+    }
+
+
 def plan_exposure(
     instrument,
     bands,
@@ -450,32 +508,20 @@ def plan_exposure(
     for name, m in zip(names, mags, strict=True):
         ch = instrument.channel(name)
         a_band = float(_band_extinction(curve, ch.band, sed, a_v, extrapolate))
-        if snr is not None:
-            t_clear = float(ch.time_for_snr(m, snr))
-            t_dust = float(ch.time_for_snr(m, snr, a_band))
-            if not math.isfinite(t_dust):
-                raise InputError(
-                    f"snr={snr:g} is not reached in any finite time in band {name!r} (source AB {float(m):g}, "
-                    f"A_band {a_band:.3g} mag); ask for a lower S/N or a brighter source"
-                )
-            reached = snr
-        else:
-            t_dust = time
-            reached = float(ch.snr(m, time, a_band))
-            t_clear = float(ch.time_for_snr(m, reached)) if reached > 0 else 0.0
-        factor = t_dust / t_clear if 0 < t_clear < math.inf else math.nan
+        row = plan_channel(ch, m, a_band, snr=snr, time=time, limit_snr=limit_snr)
+        if snr is not None and not math.isfinite(row["t_dust_s"]):
+            raise InputError(
+                f"snr={snr:g} is not reached in any finite time in band {name!r} (source AB {float(m):g}, "
+                f"A_band {a_band:.3g} mag); ask for a lower S/N or a brighter source"
+            )
         plans.append(
             BandPlan(
                 band=name,
                 mag=float(m),
                 A_band=a_band,
-                t_clear_s=t_clear,
-                t_dust_s=t_dust,
-                time_factor=float(factor),
-                snr=float(reached),
-                limiting_mag=float(ch.limiting_mag(t_dust, limit_snr)) if t_dust > 0 else math.nan,
+                **{k: float(v) for k, v in row.items() if k != "noise"},
                 limit_snr=limit_snr,
-                noise=ch.dominant_noise(m, t_dust, a_band) if t_dust > 0 else "read",
+                noise=str(row["noise"]),
             )
         )
     _warn_implausible(names, mags)  # once the plan stands: a refused one is one message, not two

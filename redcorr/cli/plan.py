@@ -1,11 +1,13 @@
 """``redcorr plan``: exposure times behind dust, band by band."""
 
 import sys
+import textwrap
 
-from redcorr._constants import PLAN_CAUTION
+from redcorr._constants import PLAN_CAUTION, TARGET_FLAGS
 from redcorr.cli._common import (
     check_outputs,
     finite_float,
+    human_time,
     positive_float,
     positive_seconds,
     print_json,
@@ -17,6 +19,8 @@ from redcorr.exceptions import InputError
 __all__ = ["add_parser", "run"]
 
 JSON_KEYS = ("band", "A_band", "t_clear_s", "t_dust_s", "time_factor", "snr", "limiting_mag")
+_SINGLE_ONLY = ("--mag", "--calibrated", "--av-grid", "--plot", "--av-plot")
+_TARGETS_ONLY = ("--output", "--max-time", "--map", "--ebv-col", "--av-col", "--mag-system", "--overwrite")
 
 
 def add_parser(sub):
@@ -27,23 +31,27 @@ def add_parser(sub):
             "Plan exposures of a point source behind dust with an instrument description (TOML, or 'demo'). "
             "The dust's band extinction is computed for the source spectrum through each band's system "
             "throughput; the S/N follows the CCD equation (Howell 2006, Handbook of CCD Astronomy, §4.4). "
-            "--mag is the source's dust-free AB magnitude. " + PLAN_CAUTION
+            "--mag is the source's dust-free AB magnitude. With --targets FILE, every target of a list "
+            "(name, position, magnitude in a band and system, spectrum or spectral type, optional parallax) "
+            "in every band, its dust from a constant, a column or a dust map. " + PLAN_CAUTION
         ),
     )
     p.add_argument("--instrument", required=True, metavar="FILE|demo", help="instrument description (TOML) or 'demo'")
     p.add_argument("--band", action="append", metavar="NAME",
                    help="band of the instrument (repeat for several; default: all of them)")
-    source = p.add_mutually_exclusive_group(required=True)
+    source = p.add_mutually_exclusive_group()
     source.add_argument("--mag", type=finite_float, metavar="M", help="dust-free AB magnitude of the source")
     source.add_argument("--calibrated", action="store_true",
                         help="take the magnitudes from the --sed file, a flux-calibrated dust-free spectrum "
                              "(ECSV or FITS with units)")
     p.add_argument("--mag-band", metavar="BAND",
                    help="band --mag is measured in (an instrument band or any band spec); "
-                        "default: --mag holds in every planned band")
+                        "default: --mag holds in every planned band. With --targets: the band of the targets "
+                        "without a mag_band column")
     p.add_argument("--sed", default="flat", metavar="SPEC",
-                   help="source spectrum: blackbody:T, powerlaw:ALPHA, flat (default), vega, sun or file:PATH")
-    dust = p.add_mutually_exclusive_group(required=True)
+                   help="source spectrum: blackbody:T, powerlaw:ALPHA, flat (default), vega, sun or file:PATH; "
+                        "with --targets, that of the targets without a sed column")
+    dust = p.add_mutually_exclusive_group()
     dust.add_argument("--av", type=finite_float, metavar="A", help="A_V of the dust, mag")
     dust.add_argument("--ebv", type=finite_float, metavar="E", help="E(B-V) of the dust, mag (A_V = R_V E(B-V))")
     model = p.add_mutually_exclusive_group()
@@ -60,9 +68,30 @@ def add_parser(sub):
     p.add_argument(
         "--extrapolate", action="store_true", help="let the law extrapolate outside its range, with a warning"
     )
-    p.add_argument("--json", action="store_true", help="print one JSON object per band: " + ", ".join(JSON_KEYS))
+    p.add_argument("--json", action="store_true", help="print one JSON object per band: " + ", ".join(JSON_KEYS)
+                   + " (with --targets: {rows: [one per target and band], summary})")
     p.add_argument("--plot", metavar="FILE.png", help="draw S/N against time, with and without the dust")
     p.add_argument("--av-plot", metavar="FILE.png", help="draw the time needed against A_V, per band")
+    targets = p.add_argument_group(
+        "target lists",
+        "Plan every target of a catalog file (CSV, ECSV, FITS, Parquet) with columns name; ra, dec (or l, b); "
+        "mag; and optionally mag_band, mag_system (AB or Vega), sed (a spectrum spec, or a spectral type such as "
+        "G2V, planned as a blackbody of its T_eff), parallax and parallax_error (mas) or distance (pc). "
+        "Flags: " + ", ".join(f"{v} {k}" for k, v in TARGET_FLAGS.items()) + ".",
+    )
+    targets.add_argument("--targets", metavar="FILE", help="the target list")
+    targets.add_argument("--output", "-o", metavar="FILE",
+                         help="write one row per target and band (any catalog format, by suffix) and "
+                              "FILE.summary.json; default: print the plan")
+    targets.add_argument("--overwrite", action="store_true", help="replace an existing --output")
+    targets.add_argument("--max-time", type=positive_seconds, metavar="T",
+                         help="time limit per exposure, s: longer plans are flagged over_time and listed")
+    targets.add_argument("--mag-system", choices=("AB", "Vega"), default="AB",
+                         help="system of the targets without a mag_system column (default AB)")
+    red = targets.add_mutually_exclusive_group()
+    red.add_argument("--map", metavar="FILE", help="dust map (2D or distance-resolved) looked up at each target")
+    red.add_argument("--ebv-col", metavar="COL", help="column of E(B-V)")
+    red.add_argument("--av-col", metavar="COL", help="column of A_V")
     p.set_defaults(func=run)
 
 
@@ -86,7 +115,34 @@ def _mag_band(args, instrument):
     return load_band(args.mag_band)
 
 
+def _given(args, option):
+    value = getattr(args, option.lstrip("-").replace("-", "_"))
+    return value not in (None, False) and not (option == "--mag-system" and value == "AB")
+
+
+def _check_mode(args):
+    """Refuse options of the other mode, and a missing source or dust, before any work."""
+    if args.targets is not None:
+        wrong = [o for o in _SINGLE_ONLY if _given(args, o)]
+        if wrong:
+            raise InputError(f"{wrong[0]} applies to one source; with --targets the list gives each target's "
+                             "magnitude (and --av-grid, --plot, --av-plot are not drawn for a list)")
+        if (args.av is not None or args.ebv is not None) and (args.map or args.ebv_col or args.av_col):
+            raise InputError("give one source of reddening: --av or --ebv (one value), --ebv-col, --av-col or --map")
+        return
+    wrong = [o for o in _TARGETS_ONLY if _given(args, o)]
+    if wrong:
+        raise InputError(f"{wrong[0]} applies to a target list; give --targets FILE")
+    if args.mag is None and not args.calibrated:
+        raise InputError("one of the arguments --mag --calibrated is required (or --targets FILE)")
+    if args.av is None and args.ebv is None:
+        raise InputError("one of the arguments --av --ebv is required (or --targets FILE)")
+
+
 def run(args):
+    _check_mode(args)
+    if args.targets is not None:
+        return _run_targets(args)
     import numpy as np
 
     from redcorr.exposure import CAUTION, plan_exposure, snr_vs_time, time_vs_av
@@ -191,3 +247,88 @@ def run(args):
         print_table(av_rows, ["A_V", *times], formats={"A_V": ".2f", **{b: ".4g" for b in times}})
     print(CAUTION)
     return 0
+
+
+def _run_targets(args):
+    from redcorr.exposure import CAUTION
+    from redcorr.io import check_output_path
+    from redcorr.io.instrument import load_instrument
+    from redcorr.io.targets import read_targets, write_target_plan
+    from redcorr.target_plan import plan_targets
+
+    check_outputs(args, "--output")
+    if args.output:  # an existing output is refused before any work
+        check_output_path(args.output, overwrite=args.overwrite, inputs=[args.targets], name="--output")
+    instrument = load_instrument(args.instrument)
+    curve = _curve(args)
+    if args.ebv is not None and args.ebv < 0:
+        raise InputError(f"--ebv={args.ebv:g} is not allowed; E(B-V) must be >= 0")
+    if args.av is not None and args.av < 0:
+        raise InputError(f"--av={args.av:g} is not allowed; A_V must be >= 0")
+    reddening = None
+    if args.map:
+        from redcorr.io.maps import open_map
+
+        reddening = {"dust_map": open_map(args.map)}
+    elif args.av is not None or args.ebv is not None or args.ebv_col or args.av_col:
+        reddening = {"ebv": args.ebv, "av": args.av, "ebv_column": args.ebv_col, "av_column": args.av_col}
+    targets = read_targets(args.targets, instrument, curve=curve, mag_band=args.mag_band,
+                           mag_system=args.mag_system, sed=args.sed, reddening=reddening)
+    bands = args.band or instrument.band_names
+    plan = plan_targets(instrument, bands, targets.mag, mag_band=targets.mag_band, sed=targets.sed,
+                        a_v=targets.a_v, curve=curve, snr=args.snr, time=args.time, limit_snr=args.limit_snr,
+                        max_time=args.max_time, flags=targets.flags, names=targets.names,
+                        extrapolate=args.extrapolate)
+    goal = f"S/N {args.snr:g}" if args.snr is not None else f"{args.time:g} s exposures"
+    dust = (f"map {args.map}" if args.map else f"column {args.ebv_col or args.av_col}" if args.ebv_col or args.av_col
+            else f"A_V {args.av:g}" if args.av is not None else f"E(B-V) {args.ebv:g}" if args.ebv is not None
+            else "a guessed E(B-V)/A_V column")
+    meta = {"instrument": instrument.name, "targets": str(args.targets), "goal": goal, "dust": dust,
+            "law": curve.name, "R_V": float(curve.r_v), "limit_snr": args.limit_snr, "spectra": targets.spectra}
+    if args.output:
+        summary = write_target_plan(plan, targets, args.output, overwrite=args.overwrite,
+                                    inputs=[args.targets], meta=meta)
+    else:
+        summary = {"setup": meta, **plan.summary()}
+    if args.json:
+        columns = {key: value.tolist() for key, value in plan.rows().items()}
+        print_json({"rows": [dict(zip(columns, values, strict=True)) for values in zip(*columns.values(), strict=True)],
+                    "summary": summary})
+        print(CAUTION, file=sys.stderr)
+        return 0
+    print(f"# {instrument.name}; {len(plan.names)} targets from {args.targets}; goal: {goal}")
+    print(f"# dust: {dust}, {curve.name} R_V = {curve.r_v:g}; limiting_mag at S/N {args.limit_snr:g}")
+    spectra = ", ".join(f"{k} = {v}" for k, v in targets.spectra.items() if k != v)
+    if spectra:
+        text = f"spectral types planned as blackbodies of their T_eff: {spectra}"
+        print("\n".join(textwrap.wrap(text, 98, initial_indent="# ", subsequent_indent="#   ")))
+    if not args.output:
+        _print_rows(plan)
+    _print_summary(plan, summary, args.output)
+    print(CAUTION)
+    return 0
+
+
+def _print_rows(plan):
+    rows = {key: value.tolist() for key, value in plan.rows().items()}
+    keys = ("name", "band", "mag", "A_band", "t_dust_s", "time_factor", "snr", "limiting_mag", "flags")
+    table = [{k: rows[k][i] for k in keys} | {"best": "*" if rows["band"][i] == rows["best_band"][i] else ""}
+             for i in range(len(rows["name"]))]
+    print_table(table, [*keys, "best"], formats={"mag": ".2f", "A_band": ".3f", "t_dust_s": time_cell,
+                                                "time_factor": ".3g", "snr": ".1f", "limiting_mag": ".2f"})
+
+
+def _print_summary(plan, summary, output):
+    if output:
+        print(f"Wrote {len(plan.names) * len(plan.bands)} rows to {output} and its summary beside it.")
+    limit = f" within {summary['max_time']:g} s" if summary["max_time"] is not None else ""
+    print(f"\nTotal time per band (targets planned{limit}):")
+    rows = [{"band": b, "targets": v["targets"], "total_s": v["total_s"], "cheapest_for": summary["best_counts"][b]}
+            for b, v in summary["bands"].items()]
+    print_table(rows, ["band", "targets", "total_s", "cheapest_for"], formats={"total_s": time_cell})
+    total = summary["best_total_s"]
+    print(f"Each target in its cheapest band: {total:.4g} s ({human_time(total)}) in all.")
+    if summary["missed"]:
+        print(f"Cannot reach the goal{limit} in any band: {', '.join(summary['missed'])}")
+    if summary["no_plan"]:
+        print(f"Not planned (no magnitude or no reddening; see flags): {', '.join(summary['no_plan'])}")
