@@ -1,13 +1,16 @@
 """Benchmark: catalog correction against plain pyarrow read + write of the same file.
 
-Targets (issue 5): 1 M rows x 5 bands, CSV -> CSV within 1.3x of pyarrow's read + write of the
-same file; Parquet -> Parquet within 1.5x; peak memory for 5 M rows about the same as for a
-smaller file (streaming). Everything is written to a temporary folder and removed.
+Targets: 1 M rows x 5 bands, CSV -> CSV within 1.3x of pyarrow's read + write of the same file;
+Parquet -> Parquet within 1.5x; the correction step alone (in memory) with R_V per row from a
+column within 1.5x of the same with a constant R_V; peak memory for 5 M rows within 15 % of that
+for 1 M rows (streaming), for CSV and Parquet input (Parquet also as one single row group).
+Everything is written to a temporary folder and removed.
 
     python benchmarks/bench_catalog.py [--rows 1000000] [--big-rows 5000000] [--skip-memory]
 
 The catalog is invented (uniform random magnitudes); the law is f99 with R_V = 3.1, default
-nonlinear mode with a fixed 7000 K source, E(B-V) and its error from columns.
+nonlinear mode with a fixed 7000 K source, E(B-V) and its error from columns (for the R_V case
+also R_V, uniform in 2.3-5.5, and its error).
 """
 
 import argparse
@@ -121,33 +124,67 @@ def time_pair(tmp, n, repeat):
     return results
 
 
-def peak_rss(tmp, n, outputs=("parquet", "csv")):
-    """Peak RSS (MB) of fresh processes correcting an n-row CSV file, one per output format."""
-    src = tmp / f"mem_{n}.csv"
+def time_rv_column(n, repeat):
+    """The correction step alone (Correction.correct_arrays on an in-memory table): R_V per row vs constant.
+
+    Both with the same error terms (magnitudes, E(B-V) and R_V errors from columns), so the ratio
+    is the cost of interpolating between the R_V nodes.
+    """
+    from redcorr.correction import Correction
+    from redcorr.io.correction import correction_options
+
+    rng = np.random.default_rng(1)
+    table = make_table(n)
+    table = table.append_column("rv", pa.array(rng.uniform(2.3, 5.5, n)))
+    table = table.append_column("e_rv", pa.array(rng.uniform(0.0, 0.3, n)))
+    constant = Correction(table.column_names, correction_options(BANDS, r_v=3.1, rv_error_column="e_rv"))
+    per_row = Correction(table.column_names, correction_options(BANDS, rv_column="rv", rv_error_column="e_rv"))
+    per_row.correct_arrays(table.slice(0, 10_000))  # build the R_V nodes' coefficients once, as a long run would
+    constant.correct_arrays(table.slice(0, 10_000))
+    return best_of({"rv_constant_s": lambda: constant.correct_arrays(table),
+                    "rv_column_s": lambda: per_row.correct_arrays(table)}, repeat)
+
+
+MEMORY_INPUTS = {"csv": "csv", "parquet": "parquet", "parquet_one_group": "parquet"}
+"""Input files of the memory test: name -> format (``parquet_one_group``: one row group for the whole file)."""
+
+
+def _write_input(path, n, kind):
+    """Write an n-row input file, generated 1 M rows at a time (the Parquet row groups have 1 M rows)."""
+    if kind == "parquet_one_group":
+        pq.write_table(make_table(n), path, row_group_size=n)
+        return
     writer = None
     for start in range(0, n, 1_000_000):
         part = make_table(min(1_000_000, n - start), seed=start)
         if writer is None:
-            writer = pacsv.CSVWriter(src, part.schema)
+            writer = pacsv.CSVWriter(path, part.schema) if kind == "csv" else pq.ParquetWriter(path, part.schema)
         writer.write_table(part)
     writer.close()
+
+
+def peak_rss(tmp, n, inputs=tuple(MEMORY_INPUTS), outputs=("parquet", "csv")):
+    """Peak RSS (MB) of fresh processes correcting an n-row file, one per input kind and output format."""
     peaks = {}
-    for suffix in outputs:
-        # VmHWM (Linux) is the peak of this process image only; ru_maxrss would carry the
-        # parent's peak across fork + exec and hide the child's.
-        dst = tmp / f"mem_{n}_out.{suffix}"
-        code = (
-            "import sys; sys.path.insert(0, %r);"
-            "from benchmarks.bench_catalog import run_redcorr;"
-            "run_redcorr(%r, %r);"
-            "line = [x for x in open('/proc/self/status') if x.startswith('VmHWM')][0];"
-            "print(int(line.split()[1]) / 1024)"
-        ) % (str(ROOT), str(src), str(dst))
-        out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
-        peaks[suffix] = float(out.stdout.strip().splitlines()[-1])
-        dst.unlink()
-        Path(str(dst) + ".summary.json").unlink()
-    src.unlink()
+    for kind in inputs:
+        src = tmp / f"mem_{n}_{kind}.{MEMORY_INPUTS[kind]}"
+        _write_input(src, n, kind)
+        for suffix in outputs:
+            # VmHWM (Linux) is the peak of this process image only; ru_maxrss would carry the
+            # parent's peak across fork + exec and hide the child's.
+            dst = tmp / f"mem_{n}_out.{suffix}"
+            code = (
+                "import sys; sys.path.insert(0, %r);"
+                "from benchmarks.bench_catalog import run_redcorr;"
+                "run_redcorr(%r, %r);"
+                "line = [x for x in open('/proc/self/status') if x.startswith('VmHWM')][0];"
+                "print(int(line.split()[1]) / 1024)"
+            ) % (str(ROOT), str(src), str(dst))
+            out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
+            peaks[f"{kind}_to_{suffix}"] = float(out.stdout.strip().splitlines()[-1])
+            dst.unlink()
+            Path(str(dst) + ".summary.json").unlink()
+        src.unlink()
     return peaks
 
 
@@ -158,6 +195,7 @@ def main():
     parser.add_argument("--small-rows", type=int, default=1_000_000)
     parser.add_argument("--repeat", type=int, default=5)
     parser.add_argument("--skip-memory", action="store_true")
+    parser.add_argument("--memory-inputs", nargs="+", choices=list(MEMORY_INPUTS), default=list(MEMORY_INPUTS))
     args = parser.parse_args()
     with tempfile.TemporaryDirectory() as tmpdir:
         tmp = Path(tmpdir)
@@ -179,14 +217,19 @@ def main():
               f"{res['parquet_baseline_s']:.2f} s, ratio {res['parquet_ratio']:.2f} (target <= 1.5)")
         print(f"Against pyarrow reading the input and writing a table as wide as the output: "
               f"CSV {res['csv_ratio_floor']:.2f}, Parquet {res['parquet_ratio_floor']:.2f}")
+        res.update(time_rv_column(args.rows, args.repeat))
+        res["rv_column_ratio"] = res["rv_column_s"] / res["rv_constant_s"]
+        print(f"Correction step alone, R_V per row: {res['rv_column_s']:.2f} s, constant R_V "
+              f"{res['rv_constant_s']:.2f} s, ratio {res['rv_column_ratio']:.2f} (target <= 1.5)")
         if not args.skip_memory:
-            small, big = peak_rss(tmp, args.small_rows), peak_rss(tmp, args.big_rows)
-            for fmt in small:
-                res.update({f"rss_{fmt}_small_mb": small[fmt], f"rss_{fmt}_big_mb": big[fmt],
-                            f"rss_{fmt}_ratio": big[fmt] / small[fmt]})
-                print(f"Peak RSS, CSV -> {fmt}: {args.small_rows:,} rows {small[fmt]:.0f} MB, "
-                      f"{args.big_rows:,} rows {big[fmt]:.0f} MB, ratio {big[fmt] / small[fmt]:.2f} "
-                      "(target: flat, about 1)")
+            small = peak_rss(tmp, args.small_rows, args.memory_inputs)
+            big = peak_rss(tmp, args.big_rows, args.memory_inputs)
+            for case in small:
+                res.update({f"rss_{case}_small_mb": small[case], f"rss_{case}_big_mb": big[case],
+                            f"rss_{case}_ratio": big[case] / small[case]})
+                print(f"Peak RSS, {case.replace('_to_', ' -> ')}: {args.small_rows:,} rows {small[case]:.0f} MB, "
+                      f"{args.big_rows:,} rows {big[case]:.0f} MB, ratio {big[case] / small[case]:.2f} "
+                      "(target: flat, 0.85-1.15)")
         print(json.dumps(res))
 
 

@@ -482,7 +482,7 @@ FIT_CASES = [
     (f"{FIT} --teff-col ebv", ["--teff-col", "needs --teff-err-col"]),
     (f"{FIT} --teff-err-col e_ebv", ["--teff-err-col", "needs --teff-col"]),
     (f"{FIT} --teff-col nocol --teff-err-col nocol2", ["teff_column='nocol'", "not a column", "'ebv'"]),
-    (f"{FIT} --floor -1", ["floor=-1.0", ">= 0"]),
+    (f"{FIT} --floor -1", ["--floor", "'-1'", ">= 0"]),
     (f"{FIT} --floor nan", ["--floor", "'nan'", "finite"]),
     (f"{FIT} --floor x", ["--floor", "'x'", "not a number"]),
     (f"{FIT} --ebv-max 0", ["ebv_max=0.0", "> 0"]),

@@ -78,8 +78,11 @@ Uncertainties (added in quadrature; correlated parts kept together)::
 
 with R_b = dA_b/dE(B-V) at the row's reddening (dA_b/dA_V and σ_AV when A_V
 is the input; the derivative of the A_V spline, A_b/E(B-V) in linear mode,
-a central difference of ±0.001 mag on a coefficient grid or with R_V per
-row) and ∂A_b/∂R_V a central difference (±0.05) at fixed E(B-V) or A_V.
+a central difference of ±0.001 mag in A_V on a coefficient grid; with R_V
+per row, that derivative at the two nodes around the row, interpolated
+with the same weight as A_b) and ∂A_b/∂R_V a central difference (±0.05) at
+fixed E(B-V) or A_V (with R_V per row: the slope between the two nodes,
+(A_b(hi) − A_b(lo))/rv_step).
 
 Distance-resolved maps: with a distance (or parallax) column the map is
 looked up at each row's distance; with its uncertainty, at a distribution of

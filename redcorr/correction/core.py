@@ -12,7 +12,7 @@ from redcorr.correction.columns import (
 )
 from redcorr.correction.flags import CORRECTION_FLAGS, FLAG_COLUMN, RunSummary
 from redcorr.correction.options import CorrectionOptions, bands_beyond_curve
-from redcorr.correction.providers import DIFF_STEP, make_provider
+from redcorr.correction.providers import NodeProviders, make_provider
 from redcorr.correction.rows import TableJob
 from redcorr.correction.temperature import ColourTable
 from redcorr.exceptions import DistanceIgnoredWarning, InputError, OutOfRangeWarning
@@ -96,6 +96,7 @@ class Correction(TableJob):
             self._colour_table = ColourTable.default(self.bands[self.solve[0]], self.bands[self.solve[1]])
         self._outside_curve_all = bool(bands_beyond_curve(self.curve, self.bands))
         self._providers = {}
+        self._node_stack = (None, None)  # (node keys, NodeProviders) of the last per-row R_V table
         self.output_columns = self._out_names()
         self.summary = RunSummary(self.setup())
         self.describe_row = None
@@ -214,15 +215,68 @@ class Correction(TableJob):
         a_v = red * rv_node if self.red_quantity == "ebv" else red
         return self._provider(rv_node).a_band(a_v, temperature)
 
+    def _rv_nodes(self, rv):
+        """The R_V nodes around each row, for a per-row R_V (see :mod:`redcorr.correction`, Notes).
+
+        Returns
+        -------
+        rv_ok : ndarray of bool
+            Rows whose R_V is finite and inside the law's range.
+        nodes : tuple or None
+            ``(stack, which_lo, which_hi, node_lo, node_hi, weight)``: the
+            providers of the nodes (:class:`~redcorr.correction.providers.NodeProviders`),
+            each row's index in it of the node below and above, those nodes'
+            R_V and the interpolation weight of the upper node, (R_V −
+            node_lo)/(node_hi − node_lo). Rows outside ``rv_ok`` get the
+            nodes of the first row inside it; None when there is none.
+        """
+        dust = self.options.dust
+        lo, hi = dust.r_v_limits
+        step = dust.rv_step
+        rv_ok = np.isfinite(rv) & (rv >= lo) & (rv <= hi)
+        if not np.any(rv_ok):
+            return rv_ok, None
+        if not np.all(rv_ok):
+            rv = np.where(rv_ok, rv, rv[np.argmax(rv_ok)])
+        k = np.floor((rv - lo) / step).astype(np.intp)
+        # node R_V of each k present: lo + step·k, none above hi − step (the floats the rows had one by one)
+        lo_nodes = np.minimum(lo + step * np.arange(k.max() + 1, dtype=float), hi - step)
+        hi_nodes = np.minimum(lo_nodes + step, hi)
+        used = np.flatnonzero(np.bincount(k))
+        keys = tuple(sorted({round(float(r), 6) for r in np.concatenate([lo_nodes[used], hi_nodes[used]])}))
+        if self._node_stack[0] != keys:
+            self._node_stack = (keys, NodeProviders([self._provider(key) for key in keys]))
+        stack = self._node_stack[1]
+        slot = {key: i for i, key in enumerate(keys)}  # a k no row has gets any index: it is never used
+        which_lo, which_hi = (np.array([slot.get(round(float(r), 6), 0) for r in nodes], np.intp)[k]
+                              for nodes in (lo_nodes, hi_nodes))
+        node_lo, node_hi = lo_nodes[k], hi_nodes[k]
+        weight = (rv - node_lo) / (node_hi - node_lo)
+        return rv_ok, (stack, which_lo, which_hi, node_lo, node_hi, weight)
+
     def _reddening_slope(self, red, rv, temperature):
-        """dA_b/d(reddening) (n, n_band) in the reddening's own quantity (E(B-V) or A_V)."""
+        """dA_b/d(reddening) (n, n_band) in the reddening's own quantity (E(B-V) or A_V).
+
+        With R_V per row, the derivative of the interpolation between the two
+        nodes: (1 − w)·dA_lo/dE + w·dA_hi/dE, w not depending on the reddening.
+        """
+        ebv = self.red_quantity == "ebv"
         if self.plan.rv_col is None:
-            a_v = red * self.r_v if self.red_quantity == "ebv" else red
+            a_v = red * self.r_v if ebv else red
             per_av = self._provider(None).slope(a_v, temperature)
-            return per_av * self.r_v if self.red_quantity == "ebv" else per_av
-        up = self._extinction(red + DIFF_STEP, rv, temperature)[0]  # R_V per row: through the nodes
-        down = self._extinction(red - DIFF_STEP, rv, temperature)[0]
-        return (up - down) / (2 * DIFF_STEP)
+            return per_av * self.r_v if ebv else per_av
+        rv_ok, nodes = self._rv_nodes(rv)
+        if nodes is None:
+            return np.full((red.size, len(self.bands)), np.nan)
+        stack, which_lo, which_hi, node_lo, node_hi, weight = nodes
+        if ebv:
+            d_lo = stack.slope(which_lo, red * node_lo, temperature) * node_lo[:, None]
+            d_hi = stack.slope(which_hi, red * node_hi, temperature) * node_hi[:, None]
+        else:
+            d_lo, d_hi = stack.slope(which_lo, red, temperature), stack.slope(which_hi, red, temperature)
+        out = (1 - weight)[:, None] * d_lo + weight[:, None] * d_hi
+        out[~rv_ok] = np.nan
+        return out
 
     def _extinction(self, red, rv, temperature):
         """A_b (n, n_band), dA_b/dR_V (n, n_band) or None, inside-grid mask, R_V-ok mask."""
@@ -240,25 +294,26 @@ class Correction(TableJob):
                 a_hi, _ = self._a_fixed_input(hi_rv, red, temperature)
                 slope = (a_hi - a_lo) / (hi_rv - lo_rv)
             return a_band, slope, inside, np.ones(n, bool)
-        lo, hi = dust.r_v_limits
-        step = dust.rv_step
-        rv_ok = np.isfinite(rv) & (rv >= lo) & (rv <= hi)
-        a_band = np.full((n, len(self.bands)), np.nan)
-        slope = np.full((n, len(self.bands)), np.nan)
-        inside = np.ones(n, bool)
-        nodes = lo + step * np.floor((np.where(rv_ok, rv, lo) - lo) / step)
-        nodes = np.minimum(nodes, hi - step)
-        for node in np.unique(nodes[rv_ok]):
-            rows = rv_ok & (nodes == node)
-            lo_node, hi_node = float(node), float(min(node + step, hi))
-            t = temperature[rows]
-            a_lo, in_lo = self._a_fixed_input(lo_node, red[rows], t)
-            a_hi, in_hi = self._a_fixed_input(hi_node, red[rows], t)
-            w = ((rv[rows] - lo_node) / (hi_node - lo_node))[:, None]
-            a_band[rows] = (1 - w) * a_lo + w * a_hi
-            slope[rows] = (a_hi - a_lo) / (hi_node - lo_node)
-            inside[rows] = in_lo & in_hi
-        return a_band, (slope if need_slope else None), inside, rv_ok
+        rv_ok, nodes = self._rv_nodes(rv)
+        if nodes is None:
+            nan = np.full((n, len(self.bands)), np.nan)
+            return nan, (nan.copy() if need_slope else None), np.ones(n, bool), rv_ok
+        stack, which_lo, which_hi, node_lo, node_hi, weight = nodes
+        ebv = self.red_quantity == "ebv"
+        a_lo, in_lo = stack.a_band(which_lo, red * node_lo if ebv else red, temperature)
+        a_hi, in_hi = stack.a_band(which_hi, red * node_hi if ebv else red, temperature)
+        w = weight[:, None]
+        a_band = (1 - w) * a_lo + w * a_hi
+        inside = in_lo & in_hi
+        slope = None
+        if need_slope:
+            slope = (a_hi - a_lo) / (node_hi - node_lo)[:, None]
+        if not np.all(rv_ok):
+            a_band[~rv_ok] = np.nan
+            inside[~rv_ok] = True
+            if slope is not None:
+                slope[~rv_ok] = np.nan
+        return a_band, slope, inside, rv_ok
 
     # -- applying -----------------------------------------------------------------------------
     def written_columns(self, keep):

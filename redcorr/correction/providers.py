@@ -8,6 +8,12 @@ built for (see :class:`ExtinctionProvider`):
   outside use the nearest grid edge);
 * ``slope(a_v, temperature)`` → dA_b/dA_V, shape (n, n_band).
 
+:class:`NodeProviders` holds providers of one kind built at several R_V
+nodes and evaluates each row with the one it names (``a_band(which, a_v,
+temperature)``, ``slope(which, a_v, temperature)``), in one pass over the
+rows: spline coefficients or ratios of every node are stacked and gathered
+row by row.
+
 ============================  ============================================
 :class:`FixedTemperature`     nonlinear A_b(A_V) at one temperature: a
                               cubic spline through A_V steps of 0.05 mag
@@ -36,6 +42,7 @@ __all__ = [
     "FixedTemperature",
     "GridCoefficients",
     "LinearCoefficients",
+    "NodeProviders",
     "make_provider",
 ]
 
@@ -161,6 +168,102 @@ class GridCoefficients:
         return (self.a_band(a_v + DIFF_STEP, temperature)[0] - self.a_band(a_v - DIFF_STEP, temperature)[0]) / (
             2 * DIFF_STEP
         )
+
+
+class NodeProviders:
+    """Providers of one kind at several R_V nodes; each row is evaluated with the one it names.
+
+    The same numbers as calling each provider on its own rows (to rounding,
+    ~1e-15 mag), without splitting the rows: a :class:`FixedTemperature`
+    stack gathers each row's cubic-spline coefficients (value and
+    derivative from the same ones), a :class:`LinearCoefficients` stack
+    each row's ratios. Other providers are called on the rows of each node.
+
+    Parameters
+    ----------
+    providers : sequence of ExtinctionProvider
+        Built by :func:`make_provider` for the same bands and temperature
+        setting (one per node).
+    """
+
+    def __init__(self, providers):
+        self.providers = tuple(providers)
+        first = self.providers[0]
+        self._kind = None
+        if all(isinstance(p, FixedTemperature) for p in self.providers):
+            self._kind = "spline"
+            self.a_v = first.a_v
+            self._n_int = first.spline.c.shape[1]
+            coef = np.concatenate([p.spline.c for p in self.providers], axis=1)  # (4, n_node·n_int, n_band)
+            self._value = [np.ascontiguousarray(c) for c in coef]
+            self._deriv = [np.ascontiguousarray(c * k) for c, k in zip(coef[:-1], (3.0, 2.0, 1.0), strict=True)]
+        elif all(isinstance(p, LinearCoefficients) and np.array_equal(p.log_t, first.log_t) for p in self.providers):
+            self._kind = "ratio"
+            self.log_t = first.log_t
+            # (n_node·n_T, n_band): one contiguous row of band ratios per node and temperature
+            self._ratio = np.concatenate([np.ascontiguousarray(p.ratio.T) for p in self.providers], axis=0)
+
+    def _by_node(self, method, which, a_v, temperature):
+        """``method`` of each provider on its own rows, for providers with no stacked form."""
+        order = np.argsort(which, kind="stable")
+        bounds = np.searchsorted(which[order], np.arange(len(self.providers) + 1))
+        out = None
+        for k, (start, stop) in enumerate(zip(bounds[:-1], bounds[1:], strict=True)):
+            if stop > start:
+                rows = order[start:stop]
+                part = getattr(self.providers[k], method)(a_v[rows], temperature[rows])
+                parts = part if isinstance(part, tuple) else (part,)
+                if out is None:
+                    out = tuple(np.empty((a_v.size, *p.shape[1:]), p.dtype) for p in parts)
+                for whole, p in zip(out, parts, strict=True):
+                    whole[rows] = p
+        return out if len(out) > 1 else out[0]
+
+    def _spline(self, coefs, which, a_v):
+        """Evaluate the stacked piecewise cubics ``coefs`` (highest power first) of each row's node."""
+        x = np.minimum(np.abs(a_v), self.a_v[-1])
+        step = self.a_v[1] - self.a_v[0]
+        interval = np.minimum((x / step).astype(np.intp), self._n_int - 1)  # the A_V grid is uniform
+        dx = (x - self.a_v[interval])[:, None]
+        flat = which * self._n_int + interval
+        out = coefs[0].take(flat, axis=0)
+        for c in coefs[1:]:
+            out *= dx
+            out += c.take(flat, axis=0)
+        return out
+
+    def _ratio_at(self, which, temperature):
+        """A_b/A_V (n, n_band) of each row's node, linear in log T like :meth:`LinearCoefficients.a_band`."""
+        n_t = self.log_t.size
+        if n_t == 1:
+            return self._ratio.take(which, axis=0), np.ones(which.shape, bool)
+        lt = np.log10(temperature)
+        j = np.clip(np.searchsorted(self.log_t, lt, side="right") - 1, 0, n_t - 2)
+        frac = (np.clip(lt, self.log_t[0], self.log_t[-1]) - self.log_t[j]) / (self.log_t[j + 1] - self.log_t[j])
+        flat = which * n_t + j
+        ratio = self._ratio.take(flat, axis=0) * (1 - frac)[:, None]
+        ratio += self._ratio.take(flat + 1, axis=0) * frac[:, None]
+        return ratio, (lt >= self.log_t[0]) & (lt <= self.log_t[-1])
+
+    def a_band(self, which, a_v, temperature):
+        """``(A_b, inside)`` of each row with the provider ``which`` (int array, n) names."""
+        if self._kind == "spline":
+            out = self._spline(self._value, which, a_v)
+            if not np.all(a_v > 0):  # odd extension, as FixedTemperature.a_band
+                out *= np.sign(a_v)[:, None]
+            return out, np.abs(a_v) <= self.a_v[-1]
+        if self._kind == "ratio":
+            ratio, inside = self._ratio_at(which, temperature)
+            return a_v[:, None] * ratio, inside
+        return self._by_node("a_band", which, a_v, temperature)
+
+    def slope(self, which, a_v, temperature):
+        """dA_b/dA_V (n, n_band) of each row with the provider ``which`` names."""
+        if self._kind == "spline":
+            return self._spline(self._deriv, which, a_v)
+        if self._kind == "ratio":
+            return self._ratio_at(which, temperature)[0]
+        return self._by_node("slope", which, a_v, temperature)
 
 
 def make_provider(curve, bands, *, nonlinear, temperature, extrapolate):

@@ -14,6 +14,9 @@ from redcorr.io.catalogs.formats import _int_as_nullable, _pyarrow, detect_forma
 
 __all__ = ["check_csv_marks", "open_catalog", "read_catalog"]
 
+_READ_BUFFER = 1 << 20
+"""Bytes read at a time from each Parquet column chunk (pages are decoded from this buffer)."""
+
 
 class _FitsReader(CatalogReader):
     def __init__(self, path, fmt, chunk_rows, *, hdu=None, **_):
@@ -125,13 +128,36 @@ class _ParquetReader(CatalogReader):
     def fraction_done(self):
         return self._done / self.n_rows if self.n_rows else 1.0
 
+    def _file_batches(self, path):
+        """Record batches of one Parquet file, decoded a batch at a time.
+
+        Each column chunk is read through a buffer of :data:`_READ_BUFFER` bytes and nothing is
+        fetched ahead (pyarrow's ``pre_buffer`` would hold every row group of the file in memory,
+        and whole column chunks are read at once without a buffer): memory stays bounded by the
+        chunk size, whatever the size of the file or of its row groups.
+        """
+        with _pyarrow().parquet.ParquetFile(path, pre_buffer=False, buffer_size=_READ_BUFFER) as file:
+            yield from file.iter_batches(batch_size=self.chunk_rows)
+
+    def _folder_batches(self):
+        """Record batches of a folder, file after file (the dataset's order), with the partition columns.
+
+        Each file is read as a single file is (the dataset's own scanner decodes whole row groups
+        and reads files ahead, so its memory grew with the folder); hive partition columns are
+        added with the value of the file's partition.
+        """
+        pa = _pyarrow()
+        schema = self._dataset.schema
+        for fragment in self._dataset.get_fragments():
+            keys = pa.dataset.get_partition_keys(fragment.partition_expression)
+            for batch in self._file_batches(fragment.path):
+                names = set(batch.schema.names)
+                columns = [batch.column(f.name) if f.name in names else
+                           pa.repeat(pa.scalar(keys.get(f.name), f.type), batch.num_rows) for f in schema]
+                yield pa.RecordBatch.from_arrays(columns, schema=schema)
+
     def _tables(self):
-        # Read-ahead of one batch (Arrow's default is 16 batches and 4 files, a memory cost
-        # proportional to the chunk size that buys nothing when the consumer is slower).
-        if self.path.is_dir():
-            batches = self._dataset.to_batches(batch_size=self.chunk_rows, batch_readahead=1, fragment_readahead=1)
-        else:  # one file: decoded a batch at a time, not a whole row group before the first batch
-            batches = _pyarrow().parquet.ParquetFile(str(self.path)).iter_batches(batch_size=self.chunk_rows)
+        batches = self._folder_batches() if self.path.is_dir() else self._file_batches(str(self.path))
         for table in _rebatch(batches, self.chunk_rows):
             self._done += table.num_rows
             yield table
