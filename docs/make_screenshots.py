@@ -2,7 +2,8 @@
 
 Run from the repository root:  python docs/make_screenshots.py [FOLDER]
 (default docs/screenshots). The app runs headless with a throw-away
-configuration folder; the catalog output goes to a temporary folder.
+configuration folder; the catalog output goes to a temporary folder. The
+last one shows the Dust screen in an 80x24 terminal.
 """
 
 import asyncio
@@ -24,7 +25,9 @@ async def shoot(folder, scratch):
     async with app.run_test(size=SIZE) as pilot:
 
         async def set_value(selector, text):
-            app.screen.query_one(selector).value = text
+            field = app.screen.query_one(selector)
+            field.value = text
+            field.commit()  # as Enter does
             await pilot.pause()
 
         async def save(name):
@@ -50,11 +53,13 @@ async def shoot(folder, scratch):
         # Catalog: the invented Brume Field catalog, corrected from its E(B-V) column
         await pilot.press("f4")
         await pilot.pause()
-        await set_value("#cat-input", "demo/brume_catalog.csv")
-        await pilot.click("#cat-open")
+        await set_value("#cat-input", "demo/brume_catalog.csv")  # committed: opens it
         await pilot.pause()
         await set_value("#cat-output", str(scratch / "brume_dered.csv"))
-        await pilot.press("ctrl+r")
+        await pilot.press("ctrl+s")  # asks first: what will be written where
+        await pilot.pause()
+        await pilot.press("y")
+        await pilot.pause()
         while app.screen.running:
             await pilot.pause(0.1)
         app.screen.query_one("#cat-main").scroll_end(animate=False)
@@ -64,6 +69,9 @@ async def shoot(folder, scratch):
         await save("plan")
         await pilot.press("f1")
         await save("help")
+        await pilot.press("escape", "f2")
+        await pilot.resize_terminal(80, 24)
+        await save("dust_80x24")
 
 
 def main():

@@ -7,7 +7,7 @@ import pytest
 import speclite.filters
 from astropy import units as u
 from astropy.table import Table
-from tui_helpers import run_app, set_value, type_into, until
+from tui_helpers import run_app, set_value, type_into, until, write
 
 from redcorr.cli import main
 from redcorr.tui.widgets import BandGrid, StatusLine
@@ -111,7 +111,7 @@ def test_bands_from_files_library_and_specs_export_what_the_cli_prints(tmp_path,
         assert screen.query_one("#band-output").has_class("-refused")
 
         await set_value(pilot, "#band-output", str(out))
-        await pilot.press("ctrl+s")
+        await write(pilot)
         await pilot.pause()
         assert status.message == f"wrote {out}"
         return bands

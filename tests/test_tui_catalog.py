@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 from textual.coordinate import Coordinate
-from tui_helpers import run_app, set_value, type_into, until
+from tui_helpers import run_app, set_value, type_into, until, write
 
 from redcorr._paths import project_dir
 from redcorr.cli import main
@@ -54,7 +54,7 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
         # the guessed mapping and reddening column of the demo file
         assert screen.query_one("#cat-mapping").mapping["kw-v"] == ("kw_v", "e_kw_v")
         assert app.session.cat_red_value == "ebv"
-        await pilot.press("ctrl+r")
+        await write(pilot)
         await wait_for_run(pilot)
         assert status.message == f"wrote {tui_out}"
         assert screen.summary.rows == 300
@@ -62,7 +62,7 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
 
         # a run cancelled before its first chunk is done writes nothing
         await set_value(pilot, "#cat-output", str(out))
-        screen.action_run()
+        screen._start()  # the run the confirmation starts, cancelled at once
         screen.action_cancel()
         await wait_for_run(pilot)
         assert status.message == "cancelled: nothing was written"
@@ -92,16 +92,16 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
         await pilot.click("#cat-open")
         await pilot.pause()
         assert "bands=' ' is empty" in status.message and status.has_class("-error")
-        await pilot.press("ctrl+r")  # a catalog whose columns could not be mapped is not run
+        await write(pilot)  # a catalog whose columns could not be mapped is not run
         await pilot.pause()
         assert "not mapped" in status.message and not screen.running
         await set_value(pilot, "#cat-bands", "kw-b,kw-v,kw-r,kw-i")
         await pilot.click("#cat-open")
         await pilot.pause()
-        await pilot.press("ctrl+r")
+        await write(pilot)
         await wait_for_run(pilot)
         assert out.exists()
-        await pilot.press("ctrl+r")  # the output now exists and overwrite is off
+        await write(pilot)  # the output now exists and overwrite is off
         await wait_for_run(pilot)
         assert "exists" in status.message and status.has_class("-error")
 
@@ -112,7 +112,7 @@ def test_catalog_runs_write_what_the_cli_writes_cancel_safely_and_survive_bad_va
         dust = screen.query_one("#cat-dust")
         await until(pilot, lambda: screen._mapped and "mrn77" in str(dust.render()),
                     "the grain model and the column mapping")
-        await pilot.press("ctrl+r")
+        await write(pilot)
         await wait_for_run(pilot)
         assert status.message == f"wrote {grain_tui}"
         return series
@@ -173,7 +173,7 @@ def test_a_distance_resolved_map_takes_a_parallax_column_and_writes_what_the_cli
         await set_value(pilot, "#cat-dist-col", "plx")
         await set_value(pilot, "#cat-dist-err", "e_plx")
         assert not status.has_class("-error") and not screen.query_one("#cat-dist-col").has_class("-refused")
-        await pilot.press("ctrl+r")
+        await write(pilot)
         await wait_for_run(pilot)
         # the smallest parallax, 0.5 ± 0.1 mas, has over 5 % of its posterior beyond the map's 3 kpc
         assert "warning: 1 row(s) lie beyond the reach" in status.message and tui_out.exists()
@@ -275,13 +275,13 @@ def test_catalog_fits_each_stars_reddening_from_its_photometry_and_corrects_with
         assert not screen.query_one("#cat-diagram").has_class("-refused")
 
         # a run cancelled before its first chunk is done writes nothing, not even the fit
-        screen.action_run()
+        screen._start()  # the run the confirmation starts, cancelled at once
         screen.action_cancel()
         await wait_for_run(pilot)
         assert status.message == "cancelled: nothing was written"
         assert list(folder.iterdir()) == [] and list(temporary.iterdir()) == []
 
-        await pilot.press("ctrl+r")
+        await write(pilot)
         await wait_for_run(pilot)
         # written, with the fit's warning: posteriors that split in two along the locus (the data are exact,
         # the trade-off of temperature and reddening is the locus' own) are flagged, and said

@@ -64,7 +64,7 @@ async def bad_values_show_a_message_and_keep_the_app_usable(app, pilot):
     for selector, text, message in BAD_VALUES:
         await type_into(pilot, selector, "")  # an empty R_V is the law's default
         before = screen.query_one(BandGrid).rows_shown
-        await pilot.press(*text)
+        await pilot.press(*text, "enter")
         await pilot.pause()
         assert message in status.message
         assert status.has_class("-error")

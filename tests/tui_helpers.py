@@ -10,6 +10,8 @@ from textual import events
 from textual.keys import _character_to_key
 
 from redcorr.tui import RedcorrApp
+from redcorr.tui.screens.dialogs import Confirm
+from redcorr.tui.widgets import CommitInput
 
 
 def run_app(script, size=(140, 44)):
@@ -24,28 +26,48 @@ def run_app(script, size=(140, 44)):
     return asyncio.run(go())
 
 
-async def type_into(pilot, selector, text):
+async def type_keys(pilot, *keys):
+    """Queue ``keys`` at once, as from a fast typist (``Pilot.press`` would wait for the app to go idle after
+    every key); single characters are named as Textual names the key a terminal sends (what Pilot.press does)."""
+    for key in keys:
+        character = key if len(key) == 1 else None
+        pilot.app.post_message(events.Key(_character_to_key(key) if character else key, character))
+
+
+async def type_into(pilot, selector, text, commit=True):
     """Click the input ``selector``, clear it and type ``text`` key by key, as a user would.
 
-    The keys are queued at once, as from a fast typist (``Pilot.press`` would wait
-    for the app to go idle after every key); the app still handles each key, and
-    each change it makes, in turn. Returns once the field holds ``text`` and the
-    app is idle again.
+    The keys are queued at once (`type_keys`); the app still handles each key,
+    and each change it makes, in turn. A field whose value counts once
+    committed gets Enter after the text, unless ``commit`` is False. Returns
+    once the field holds ``text`` and the app is idle again.
     """
     await pilot.click(selector)
     await pilot.press("end", "ctrl+u")
-    for character in text:
-        # named as Textual names the key a terminal sends for this character (what Pilot.press does)
-        pilot.app.post_message(events.Key(_character_to_key(character), character))
+    await type_keys(pilot, *text)
     field = pilot.app.screen.query_one(selector)
     await until(pilot, lambda: field.value == text, f"{text!r} typed into {selector}")
+    if commit and isinstance(field, CommitInput):
+        await pilot.press("enter")
     await pilot.pause()
 
 
 async def set_value(pilot, selector, text):
-    """Put ``text`` into the input ``selector`` at once (one change event)."""
-    pilot.app.screen.query_one(selector).value = text
+    """Put ``text`` into the input ``selector`` at once and commit it (as Enter does)."""
+    field = pilot.app.screen.query_one(selector)
+    field.value = text
+    if isinstance(field, CommitInput):
+        field.commit()
     await pilot.pause()
+
+
+async def write(pilot, answer="y"):
+    """Press Ctrl+S (write) and answer the confirmation, if one is asked, with ``answer``."""
+    await pilot.press("ctrl+s")
+    await pilot.pause()
+    if isinstance(pilot.app.screen, Confirm):
+        await pilot.press(answer)
+        await pilot.pause()
 
 
 async def until(pilot, condition, what, timeout=60.0):

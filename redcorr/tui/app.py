@@ -1,11 +1,16 @@
 """The Textual application: routes between the screens, global key bindings, styling."""
 
+import copy
+
+from textual import events
 from textual.app import App
-from textual.binding import Binding
+from textual.widgets import Input
 
 from redcorr.tui._guard import capture_warnings, guarded
+from redcorr.tui.keys import bindings
 from redcorr.tui.screens import BandsScreen, CatalogScreen, DustScreen, HelpScreen, PlanScreen
 from redcorr.tui.state import Session
+from redcorr.tui.widgets import CommitInput
 
 __all__ = ["RedcorrApp"]
 
@@ -17,21 +22,17 @@ class RedcorrApp(App):
     ----------
     config_dir : path-like, optional
         Where the last settings are remembered; the user's config folder
-        (see `redcorr.io.settings.config_dir`) if omitted. They are saved
-        shortly after any change and when the app exits, however it exits.
+        (see `redcorr.io.settings.config_dir`) if omitted. Only values a
+        screen has accepted (see :meth:`accept`) are saved, shortly after they
+        change and when the app exits, however it exits.
     """
 
     TITLE = "redcorr"
     CSS_PATH = "redcorr.tcss"
     MODES = {"dust": DustScreen, "bands": BandsScreen, "catalog": CatalogScreen, "plan": PlanScreen}
-    BINDINGS = [
-        Binding("f1", "help", "Help"),
-        Binding("f2", "switch_mode('dust')", "Dust"),
-        Binding("f3", "switch_mode('bands')", "Bands"),
-        Binding("f4", "switch_mode('catalog')", "Catalog"),
-        Binding("f5", "switch_mode('plan')", "Plan"),
-        Binding("ctrl+q", "quit", "Quit", priority=True),
-    ]
+    BINDINGS = bindings("app")
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-normal"), (180, "-wide")]
+    VERTICAL_BREAKPOINTS = [(0, "-short"), (40, "-tall")]
 
     SAVE_DELAY = 1.0
     """Seconds of quiet after the last change before the settings are saved."""
@@ -40,6 +41,7 @@ class RedcorrApp(App):
         super().__init__()
         self.config_dir = config_dir
         self.session = Session.load(config_dir)
+        self._accepted = copy.deepcopy(self.session)
         self._save_timer = None
 
     def on_load(self):
@@ -54,6 +56,13 @@ class RedcorrApp(App):
         self.switch_mode(self.session.screen if self.session.screen in self.MODES else "dust")
 
     # -- remembering the settings -----------------------------------------------------------------
+    def accept(self, *names):
+        """The screen computed its result from these session fields: they are valid, remember them."""
+        for name in names:
+            value = getattr(self.session, name)
+            setattr(self._accepted, name, list(value) if isinstance(value, list) else value)
+        self.remember()
+
     def remember(self):
         """The session changed: save it once nothing has changed for `SAVE_DELAY` seconds."""
         if self._save_timer is not None:
@@ -61,37 +70,50 @@ class RedcorrApp(App):
         self._save_timer = self.set_timer(self.SAVE_DELAY, self.save_session)
 
     def save_session(self):
-        """Save the session now (atomically, see `redcorr.io.settings.save_settings`)."""
+        """Save the accepted values now (atomically, see `redcorr.io.settings.save_settings`)."""
         if self._save_timer is not None:
             self._save_timer.stop()
             self._save_timer = None
         if self.current_mode in self.MODES:
-            self.session.screen = self.current_mode
-        saved = guarded(self.session.save, self.config_dir)
+            self._accepted.screen = self.current_mode
+        saved = guarded(self._accepted.save, self.config_dir)
         if not saved.ok:  # e.g. a read-only config folder: say so, never stop the app
             self.notify(f"settings not saved: {saved.error}", severity="warning")
 
-    # Field changes bubble up from every screen; other changes call remember() themselves.
-    def on_input_changed(self):
-        self.remember()
+    # -- keys, in the order they come ------------------------------------------------------------
+    async def on_event(self, event):
+        """Keys for a focused text field are handled here, each in turn, in the order typed.
 
-    def on_select_changed(self):
-        self.remember()
-
-    def on_checkbox_changed(self):
-        self.remember()
-
-    def on_name_picker_picked(self):
-        self.remember()
+        Textual inserts a character in the field at once but runs a bound key
+        (Backspace, Enter, Tab) only after the key has passed up through every
+        container, so keys typed fast could be reordered or lost
+        (``Backspace 4`` giving ``94``). Here both happen on arrival, with
+        Textual's precedence: the app's priority keys, then a character, then
+        the bindings from the field up to the app. A key that moves to another
+        field (Tab) selects its text at once, so the next keys replace it.
+        """
+        field = self.focused if isinstance(event, events.Key) and not event.is_forwarded else None
+        if not isinstance(field, Input) or self.screen.maximized is not None:
+            await super().on_event(event)
+            return
+        self.app_focus = True
+        if await self._check_bindings(event.key, priority=True):
+            return
+        if event.is_printable:
+            selection = field.selection
+            if selection.is_empty:
+                field.insert_text_at_cursor(event.character)
+            else:
+                field.replace(event.character, *selection)
+            return
+        await self._check_bindings(event.key)
+        if self.focused is not field and isinstance(self.focused, CommitInput):
+            self.focused.action_select_all()
 
     def switch_mode(self, mode):
         self.remember()
         return super().switch_mode(mode)
 
     def action_help(self):
-        if isinstance(self.screen, HelpScreen):
-            return
-        screens = [(name, cls.HELP) for name, cls in self.MODES.items()]
-        keys = [(b.key, b.description) for b in self.BINDINGS]
-        keys += [(b.key, b.description) for b in getattr(self.screen, "BINDINGS", ())]
-        self.push_screen(HelpScreen(screens, keys))
+        if not isinstance(self.screen, HelpScreen):
+            self.push_screen(HelpScreen([(name, cls.HELP) for name, cls in self.MODES.items()]))

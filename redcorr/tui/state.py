@@ -1,8 +1,9 @@
 """What the terminal UI remembers between runs: the last choices on every screen.
 
-The values are kept as the user typed them (strings for numbers), so a half
-typed value is restored as it was; the screens validate them through the
-core functions before use.
+The values are kept as text (strings for numbers), as committed in the
+fields; the screens validate them through the core functions before use, and
+the app saves only the values a screen has accepted (see
+`redcorr.tui.app.RedcorrApp.accept`), so a refused value is never restored.
 """
 
 import dataclasses

@@ -22,11 +22,28 @@ class GrainWait:
     """
 
     _grain_waiting = None
+    _seen = None
 
     @property
     def session(self):
         """The app's `redcorr.tui.state.Session` (the settings every screen shares)."""
         return self.app.session
+
+    def _shared(self):
+        s = self.session
+        return s.law, s.r_v, s.amount, s.amount_kind, tuple(s.bands), s.sed
+
+    def on_screen_resume(self):
+        """Back on this screen: redraw if another screen changed the dust, bands or source (not after a dialog).
+
+        The screen's redraw sets ``_seen`` to the `_shared` values it drew with.
+        """
+        if self._seen != self._shared():
+            self.redraw()
+
+    def redraw(self):
+        """Recompute the view from the session (`refresh_view`, unless the screen says otherwise)."""
+        return self.refresh_view()
 
     def grain_pending(self, law):
         """True while ``law`` is a grain model not computed yet; starts (once) the worker that computes it."""

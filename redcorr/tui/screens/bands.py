@@ -3,8 +3,7 @@
 from pathlib import Path
 
 from textual.app import ComposeResult
-from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
+from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Button, Footer, Header, Label, OptionList, Static
 from textual.widgets.option_list import Option
@@ -14,7 +13,9 @@ from redcorr.io.filters import list_bands, project_bands
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state
+from redcorr.tui.keys import bindings
 from redcorr.tui.screens._grain import GrainWait
+from redcorr.tui.screens.dialogs import AskPath, Confirm
 from redcorr.tui.widgets import BandGrid, Field, FileTree, NamePicker, StatusLine
 
 __all__ = ["BandsScreen", "band_entries"]
@@ -36,14 +37,7 @@ class BandsScreen(GrainWait, Screen):
         "vega, sun, file:PATH); the table of A_b, A_b/A_V, "
         "A_b/E(B-V), λ_eff; export it"
     )
-    BINDINGS = [
-        Binding("ctrl+f", "focus('#bands-picker .picker-search')", "Search"),
-        Binding("ctrl+n", "focus('#band-spec')", "Add spec"),
-        Binding("ctrl+t", "focus('#bands-tree')", "Files"),
-        Binding("ctrl+o", "focus('#sed')", "Source"),
-        Binding("ctrl+s", "export", "Export"),
-        Binding("delete", "remove_band", "Remove band"),
-    ]
+    BINDINGS = bindings("bands")
 
     def __init__(self, **kwargs):
         super().__init__(**kwargs)
@@ -61,7 +55,7 @@ class BandsScreen(GrainWait, Screen):
                 )
                 yield Label("filter files (Enter adds)", classes="section")
                 yield FileTree(Path(s.band_dir) if Path(s.band_dir).is_dir() else Path.cwd(), id="bands-tree")
-            with Vertical(id="bands-main"):
+            with VerticalScroll(id="bands-main"):
                 with Horizontal(classes="form"):
                     yield Field("add", "", input_id="band-spec", placeholder="file:PATH, tophat:C:W …", width=30)
                     yield Field("source", s.sed, input_id="sed", placeholder="blackbody:T", width=22)
@@ -74,14 +68,11 @@ class BandsScreen(GrainWait, Screen):
                     yield BandGrid(id="bands-table")
                 with Horizontal(classes="form"):
                     yield Field("export to", s.band_output, input_id="band-output", width=40)
-                    yield Button("Export", id="band-export", variant="primary")
+                    yield Button("Export (ctrl+s)", id="band-export", variant="primary")
         yield Footer()
 
     def on_mount(self):
         self._show_chosen()
-        self.refresh_view()
-
-    def on_screen_resume(self):
         self.refresh_view()
 
     def _show_chosen(self):
@@ -99,28 +90,24 @@ class BandsScreen(GrainWait, Screen):
         if spec not in self.session.bands:
             self.session.bands.append(spec)
             self._show_chosen()
-            self.app.remember()
         self.refresh_view()
         return True
 
     def on_name_picker_picked(self, event):
-        if event.selected:
-            self._add(event.name)
+        self._add(event.name)
 
     def on_directory_tree_file_selected(self, event):
         """A filter file chosen in the tree is added as ``file:PATH`` (the core reads and checks it)."""
         event.stop()
         self.session.band_dir = str(Path(event.path).parent)
-        self.app.remember()
+        self.app.accept("band_dir")
         self._add(f"file:{event.path}")
 
     def on_input_submitted(self, event):
-        if event.input.id == "band-spec" and self._add(event.value):
-            event.input.value = ""
-        elif event.input.id == "band-output":
-            self.action_export()
+        if event.input.id == "band-spec" and event.value.strip() and self._add(event.value):
+            event.input.show_value("")
 
-    def on_input_changed(self, event):
+    def on_commit_input_committed(self, event):
         if event.input.id == "sed":
             self.session.sed = event.value
             self.refresh_view()
@@ -129,7 +116,20 @@ class BandsScreen(GrainWait, Screen):
 
     def on_button_pressed(self, event):
         if event.button.id == "band-export":
-            self.action_export()
+            self.export()
+
+    def action_open(self):
+        """Ask for a filter file's path and add it as ``file:PATH``."""
+        self.app.push_screen(AskPath("Add the filter curve in which file?", placeholder="path to a filter file"),
+                             lambda path: path and self._add(f"file:{path}"))
+
+    def action_export(self):
+        """Say where the table will be written, and write it if the user agrees."""
+        self.session.band_output = self.query_one("#band-output").value  # as typed, committed or not
+        target = self.session.band_output.strip()
+        what = (f"Write the band table ({len(self.session.bands)} bands, source {self.session.sed}) to {target}"
+                + (" (it exists: it will be replaced)" if target and Path(target).exists() else "") + "?")
+        self.app.push_screen(Confirm(what, "Write"), lambda yes: yes and self.export())
 
     def action_remove_band(self):
         chosen = self.query_one("#bands-chosen", OptionList)
@@ -138,7 +138,6 @@ class BandsScreen(GrainWait, Screen):
         index = chosen.highlighted
         del self.session.bands[index]
         self._show_chosen()
-        self.app.remember()
         if self.session.bands:
             chosen.highlighted = min(index, len(self.session.bands) - 1)
         self.refresh_view()
@@ -149,6 +148,7 @@ class BandsScreen(GrainWait, Screen):
 
     def refresh_view(self):
         """Recompute the table through the core; on a refused input keep the last table."""
+        self._seen = self._shared()
         s = self.session
         status = self.query_one(StatusLine)
         if self.grain_pending(s.law):
@@ -166,9 +166,10 @@ class BandsScreen(GrainWait, Screen):
         self.query_one("#sed").set_class(bool(table.error) and "sed=" in table.error, "-refused")
         if table.ok:
             self.query_one(BandGrid).show_rows(table.value)
+            self.app.accept("bands", "sed")
         status.show_outcome(combine(dust, table))
 
-    def action_export(self):
+    def export(self):
         """Write the table on screen (recomputed by the core) to the chosen file, atomically."""
         s = self.session
         status = self.query_one(StatusLine)
@@ -191,4 +192,6 @@ class BandsScreen(GrainWait, Screen):
             lambda: write_band_summary(band_rows(curve, s.bands, s.sed, a_v), s.band_output.strip(), meta)
         )
         self.query_one("#band-output").set_class(not written.ok, "-refused")
+        if written.ok:
+            self.app.accept("band_output")
         status.show_outcome(written, done=f"wrote {written.value}" if written.ok else "")

@@ -6,7 +6,6 @@ from pathlib import Path
 
 from textual import work
 from textual.app import ComposeResult
-from textual.binding import Binding
 from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Button, Checkbox, DataTable, Footer, Header, Label, ProgressBar, Select, Static
@@ -39,7 +38,9 @@ from redcorr.tui._inputs import (
     ready_fit,
     split_list,
 )
+from redcorr.tui.keys import bindings
 from redcorr.tui.screens._grain import GrainWait
+from redcorr.tui.screens.dialogs import AskPath, Confirm
 from redcorr.tui.widgets import ColumnMapping, Field, FileTree, StatusLine, XYPlot
 
 __all__ = ["CatalogScreen", "RunCancelled"]
@@ -64,6 +65,9 @@ _FIELDS = {
     "cat-dist-err": "cat_dist_err",
     "cat-diagram": "cat_diagram",
 }
+_CHECKED = ("cat_bands", "cat_colour", "cat_red_kind", "cat_red_value", "cat_spectrum", "cat_teff", "cat_dist_kind",
+            "cat_dist_col", "cat_dist_err", "cat_diagram")
+"""Session fields a successful preview has checked (remembered then)."""
 _STEPS = {"fit": (0.0, 0.5, "fitted"), "correct": (0.5, 0.5, "corrected")}
 """A run from the photometry: each step's share of the progress bar (start, width) and its verb."""
 
@@ -79,12 +83,7 @@ class CatalogScreen(GrainWait, Screen):
         "intrinsic colours, shown in a colour-colour diagram with the reddening arrow from the locus point at "
         "the temperature given), preview the first rows, run (cancel is safe: no partial output)"
     )
-    BINDINGS = [
-        Binding("ctrl+o", "open", "Open"),
-        Binding("ctrl+t", "focus('#cat-tree')", "Files"),
-        Binding("ctrl+r", "run", "Run"),
-        Binding("escape", "cancel", "Cancel run"),
-    ]
+    BINDINGS = bindings("catalog")
 
     def __init__(self, **kwargs):
         super().__init__(**kwargs)
@@ -106,7 +105,7 @@ class CatalogScreen(GrainWait, Screen):
             with VerticalScroll(id="cat-main"):
                 with Horizontal(classes="form"):
                     yield Field("input", s.cat_input, input_id="cat-input", placeholder="catalog file", width=44)
-                    yield Button("Open", id="cat-open")
+                    yield Button("Open (ctrl+o)", id="cat-open")
                 with Horizontal(classes="form"):
                     yield Field("bands", s.cat_bands, input_id="cat-bands", width=30)
                     yield Field("colour", s.cat_colour, input_id="cat-colour", placeholder="B1,B2", width=16)
@@ -142,7 +141,7 @@ class CatalogScreen(GrainWait, Screen):
                 with Horizontal(classes="form"):
                     yield Field("output", s.cat_output, input_id="cat-output", placeholder="corrected file", width=40)
                     yield Checkbox("overwrite", s.cat_overwrite, id="cat-overwrite")
-                    yield Button("Run", id="cat-run", variant="primary")
+                    yield Button("Run (ctrl+s)", id="cat-run", variant="primary")
                     yield Button("Cancel", id="cat-cancel", variant="error", disabled=True)
                 yield ProgressBar(id="cat-progress", show_eta=False)
                 yield Static(id="cat-summary", classes="info")
@@ -154,33 +153,31 @@ class CatalogScreen(GrainWait, Screen):
         if self.session.cat_input:
             await self.open_catalog()
 
-    def on_screen_resume(self):
+    def redraw(self):
         self.update_preview()
 
     # -- input -------------------------------------------------------------------------------
     async def on_directory_tree_file_selected(self, event):
         event.stop()
-        field = self.query_one("#cat-input")
-        with field.prevent(field.Changed):
-            field.value = str(event.path)
+        self.query_one("#cat-input").show_value(str(event.path))
         self.session.cat_input = str(event.path)
         self.session.cat_dir = str(Path(event.path).parent)
-        self.app.remember()
+        self.app.accept("cat_dir")
         await self.open_catalog()
 
-    async def on_input_submitted(self, event):
-        if event.input.id == "cat-input":
-            await self.open_catalog()
-        elif event.input.id == "cat-bands":
-            await self.open_catalog()
-
-    def on_input_changed(self, event):
+    async def on_commit_input_committed(self, event):
         attr = _FIELDS.get(event.input.id)
         if attr is None:
             return
         setattr(self.session, attr, event.value)
-        if event.input.id in ("cat-colour", "cat-red-value", "cat-teff", "cat-dist-col", "cat-dist-err",
-                              "cat-diagram"):
+        if event.input.id == "cat-input":
+            await self.action_open()
+        elif event.input.id == "cat-bands":
+            if self.session.cat_input.strip():
+                await self.open_catalog()
+        elif event.input.id == "cat-output":
+            self.app.accept("cat_output")
+        else:
             self.update_preview()
 
     def on_select_changed(self, event):
@@ -196,17 +193,31 @@ class CatalogScreen(GrainWait, Screen):
 
     def on_checkbox_changed(self, event):
         self.session.cat_overwrite = event.value
+        self.app.accept("cat_overwrite")
 
     async def on_button_pressed(self, event):
         if event.button.id == "cat-open":
-            await self.open_catalog()
+            await self.action_open()
         elif event.button.id == "cat-run":
             self.action_run()
         elif event.button.id == "cat-cancel":
             self.action_cancel()
 
     async def action_open(self):
-        await self.open_catalog()
+        """Open the file named in the input box (as typed); with the box empty, ask for its path first."""
+        field = self.query_one("#cat-input")
+        self.session.cat_input = field.value
+        if field.value.strip():
+            await self.open_catalog()
+            return
+        self.app.push_screen(AskPath("Open which catalog file?", placeholder="catalog file: CSV, ECSV, FITS …"),
+                             self._open_path)
+
+    def _open_path(self, path):
+        if path:
+            self.query_one("#cat-input").show_value(path)
+            self.session.cat_input = path
+            self.call_later(self.open_catalog)
 
     # -- the core ----------------------------------------------------------------------------
     def _law(self, for_run=False):
@@ -234,6 +245,7 @@ class CatalogScreen(GrainWait, Screen):
             status.show_outcome(probe)
             return
         self.columns, self.preview = probe.value
+        self.app.accept("cat_input")
         self._mapped = False
         self._fit_failed = (None, None)  # opening again tries a refused fit again
         if self.grain_pending(s.law):
@@ -267,15 +279,13 @@ class CatalogScreen(GrainWait, Screen):
                 kind, column = found.value
                 s.cat_red_kind, s.cat_red_value = kind, column
                 self.query_one("#cat-red-kind", Select).value = kind
-                field = self.query_one("#cat-red-value")
-                with field.prevent(field.Changed):
-                    field.value = column
+                self.query_one("#cat-red-value").show_value(column)
         if not s.cat_output.strip():
             path = Path(s.cat_input.strip())
             s.cat_output = str(path.with_name(path.stem + "_dered" + path.suffix))
-            self.query_one("#cat-output").value = s.cat_output
+            self.query_one("#cat-output").show_value(s.cat_output)
+            self.app.accept("cat_output")
         self._mapped = True
-        self.app.remember()
         self.update_preview()
 
     def _choices(self, for_run=False):
@@ -335,6 +345,7 @@ class CatalogScreen(GrainWait, Screen):
 
     def update_preview(self):
         """Correct the first rows through `Correction` (after `CatalogFit`) and show them before and after."""
+        self._seen = self._shared()
         self._show_rows()
         if self.preview is None or self.running:
             return
@@ -365,6 +376,8 @@ class CatalogScreen(GrainWait, Screen):
         self.query_one("#cat-dist-col").set_class(error.startswith(("distance_column", "parallax_column")), "-refused")
         self.query_one("#cat-dist-err").set_class(error.startswith(("distance_error", "parallax_error")), "-refused")
         status.show_outcome(combine(options, *([job] if fitting else []), result))
+        if result.ok:
+            self.app.accept(*_CHECKED)
         out, corr = result.value if result.ok else (None, None)
         if corr is not None:
             self._suffix = corr.suffix
@@ -408,7 +421,7 @@ class CatalogScreen(GrainWait, Screen):
 
     # -- running -----------------------------------------------------------------------------
     def action_run(self):
-        """Check everything on the main thread, then correct the whole file in a worker thread."""
+        """Check everything on the main thread, say what will be written and, if the user agrees, run."""
         if self.running:
             return
         s = self.session
@@ -433,6 +446,18 @@ class CatalogScreen(GrainWait, Screen):
         if not checked.ok:
             status.show_outcome(checked)
             return
+        output = s.cat_output.strip()
+        what = (f"Correct {s.cat_input.strip()} ({'fit from the photometry, then ' if self._fitting() else ''}"
+                f"dust {s.law}) and write {output}"
+                + (" (it exists: it will be replaced)" if s.cat_overwrite and Path(output).exists() else "") + "?")
+        self.app.push_screen(Confirm(what, "Run"), lambda yes: yes and self._start())
+
+    def _start(self):
+        """Correct the whole file in a worker thread (with the choices on screen now)."""
+        if self.running:
+            return
+        s = self.session
+        status = self.query_one(StatusLine)
         choices = self._choices(for_run=True)
         fit_choices = self._fit_choices(for_run=True) if self._fitting() else None
         self.running = True

@@ -3,8 +3,7 @@
 import numpy as np
 from astropy import units as u
 from textual.app import ComposeResult
-from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
+from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Header, Input, Select, Static
 
@@ -13,12 +12,16 @@ from redcorr.io.grains import list_grain_models
 from redcorr.tui import _cache
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
+from redcorr.tui.keys import bindings
 from redcorr.tui.screens._grain import GrainWait
-from redcorr.tui.widgets import BandGrid, CurvePlot, Field, NamePicker, StatusLine
+from redcorr.tui.widgets import BandGrid, CommitInput, CurvePlot, Field, NamePicker, StatusLine
 
 __all__ = ["DustScreen", "dust_entries"]
 
 AMOUNT_KINDS = ("A_V", "E(B-V)")
+_FIELDS = {"r-v": "r_v", "amount": "amount"}
+ACCEPTS = ("law", "r_v", "amount", "amount_kind")
+"""The session fields this screen checks: remembered once its view is computed from them."""
 
 
 def dust_entries():
@@ -38,11 +41,7 @@ class DustScreen(GrainWait, Screen):
 
     TITLE = "Dust"
     HELP = "choose an extinction law or grain model, R_V and the dust column; see the curve"
-    BINDINGS = [
-        Binding("ctrl+f", "focus('#dust-picker .picker-search')", "Search"),
-        Binding("ctrl+r", "focus('#r-v')", "R_V"),
-        Binding("ctrl+g", "focus('#amount')", "A_V/E(B-V)"),
-    ]
+    BINDINGS = bindings("dust")
 
     def __init__(self, **kwargs):
         super().__init__(**kwargs)
@@ -58,7 +57,7 @@ class DustScreen(GrainWait, Screen):
                 dust_entries(), placeholder="search, or file:PATH / grain:PATH.toml", accept=("file:", "grain:"),
                 id="dust-picker",
             )
-            with Vertical(id="dust-main"):
+            with VerticalScroll(id="dust-main"):
                 with Horizontal(id="dust-form", classes="form"):
                     yield Field("R_V", s.r_v, input_id="r-v", placeholder="law default")
                     yield Select(
@@ -68,6 +67,7 @@ class DustScreen(GrainWait, Screen):
                 yield StatusLine(id="dust-status")
                 yield Static(id="dust-info", classes="info")
                 yield CurvePlot(id="dust-plot")
+                yield Static(id="dust-bands-source", classes="section")
                 yield BandGrid(id="dust-bands")
         yield Footer()
 
@@ -75,22 +75,16 @@ class DustScreen(GrainWait, Screen):
         self.query_one(NamePicker).highlight(self.session.law)
         self.refresh_view()
 
-    def on_screen_resume(self):
-        self.refresh_view()
-
     def on_name_picker_picked(self, event):
         if event.name != self.session.law:
             self.session.law = event.name
             self.refresh_view()
 
-    def on_input_changed(self, event):
-        if event.input.id == "r-v" and not event.input.disabled:
-            self.session.r_v = event.value
-        elif event.input.id == "amount":
-            self.session.amount = event.value
-        else:
-            return
-        self.refresh_view()
+    def on_commit_input_committed(self, event):
+        attr = _FIELDS.get(event.input.id)
+        if attr is not None and not event.input.disabled:
+            setattr(self.session, attr, event.value)
+            self.refresh_view()
 
     def on_select_changed(self, event):
         if event.select.id == "amount-kind" and event.value in AMOUNT_KINDS:
@@ -98,19 +92,26 @@ class DustScreen(GrainWait, Screen):
             self.refresh_view()
 
     def _sync_r_v_field(self):
-        """A law with a fixed R_V (or a grain model) shows it, greyed; otherwise the typed value is back."""
+        """A law with a fixed R_V (or a grain model) shows it, greyed; otherwise the typed value is back.
+
+        The field is rewritten only when the law's kind changes, never while R_V is typed.
+        """
         law = self.session.law
-        rv_input = self.query_one("#r-v", Input)
+        rv_input = self.query_one("#r-v", CommitInput)
         fixed = fixed_r_v(law)
         if is_grain(law):
             fixed = _cache.grain_curve(law).r_v if _cache.grain_ready(law) else float("nan")
-        with rv_input.prevent(Input.Changed):
-            rv_input.disabled = fixed is not None
-            rv_input.value = self.session.r_v if fixed is None else "" if fixed != fixed else f"{fixed:.4g}"
+        if fixed is not None:
+            rv_input.disabled = True
+            rv_input.show_value("" if fixed != fixed else f"{fixed:.4g}")
+        elif rv_input.disabled:
+            rv_input.disabled = False
+            rv_input.show_value(self.session.r_v)
         return fixed is not None
 
     def refresh_view(self):
         """Recompute from the inputs through the core and redraw; keep the old view on an error."""
+        self._seen = self._shared()
         s = self.session
         fixed = self._sync_r_v_field()
         if self.grain_pending(s.law):
@@ -124,8 +125,13 @@ class DustScreen(GrainWait, Screen):
             status.show_outcome(outcome)
             return
         self.curve, self.a_v, self.ebv = outcome.value
+        self.app.accept(*ACCEPTS)
         table = guarded(band_rows, self.curve, s.bands, s.sed, self.a_v)
         rows = table.value if table.ok else []
+        self.query_one("#dust-bands-source", Static).update(
+            f"Bands and source spectrum {s.sed} of the Bands screen (F3)"
+            + ("" if table.ok else ": refused there, no table")
+        )
         drawn = guarded(self._draw, rows)
         status.show_outcome(combine(outcome, table, drawn))
 

@@ -1,14 +1,14 @@
 """The Plan screen: instrument and target → exposure table and S/N against time, behind the dust."""
 
 from textual.app import ComposeResult
-from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
+from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Label, Select, Static
 
 from redcorr.exposure import CAUTION
 from redcorr.tui._guard import combine, guarded
 from redcorr.tui._inputs import GOALS, av_table, dust_state, plan_state
+from redcorr.tui.keys import bindings
 from redcorr.tui.screens._grain import GrainWait
 from redcorr.tui.widgets import Field, StatusLine, XYPlot
 
@@ -46,11 +46,7 @@ class PlanScreen(GrainWait, Screen):
         "an instrument (TOML or 'demo') and a target (AB mag, band, spectrum, S/N or time) → "
         "exposure times with and without the dust, S/N against time, and the time needed against A_V"
     )
-    BINDINGS = [
-        Binding("ctrl+n", "focus('#plan-instrument')", "Instrument"),
-        Binding("ctrl+t", "focus('#plan-mag')", "Target"),
-        Binding("ctrl+g", "focus('#plan-av-grid')", "A_V grid"),
-    ]
+    BINDINGS = bindings("plan")
 
     def __init__(self, **kwargs):
         super().__init__(**kwargs)
@@ -61,7 +57,7 @@ class PlanScreen(GrainWait, Screen):
     def compose(self) -> ComposeResult:
         s = self.session
         yield Header()
-        with Vertical(id="plan-body"):
+        with VerticalScroll(id="plan-body"):
             with Horizontal(classes="form"):
                 yield Field(
                     "instrument",
@@ -95,10 +91,7 @@ class PlanScreen(GrainWait, Screen):
             table.add_column(header, key=key)
         self.refresh_view()
 
-    def on_screen_resume(self):
-        self.refresh_view()
-
-    def on_input_changed(self, event):
+    def on_commit_input_committed(self, event):
         attr = _FIELDS.get(event.input.id)
         if attr is not None:
             setattr(self.session, attr, event.value)
@@ -111,6 +104,7 @@ class PlanScreen(GrainWait, Screen):
 
     def refresh_view(self):
         """Recompute the plan through the core; on a refused input keep the last plan shown."""
+        self._seen = self._shared()
         s = self.session
         status = self.query_one(StatusLine)
         if self.grain_pending(s.law):
@@ -155,6 +149,7 @@ class PlanScreen(GrainWait, Screen):
         status.show_outcome(combine(dust, outcome, av))
         if av.ok:
             self._show_av(*av.value)
+            self.app.accept("plan_goal", *_FIELDS.values())
         if not outcome.ok:
             return
         instrument, self.plans, t, snr = outcome.value

@@ -12,6 +12,9 @@ __all__ = ["NamePicker"]
 class NamePicker(Vertical):
     """A search box over an `OptionList`; posts `NamePicker.Picked` when a name is chosen.
 
+    A name is chosen with Enter (in the search box: the highlighted name, else
+    the first one shown) or a click; moving through the list only highlights.
+
     Parameters
     ----------
     entries : list of (str, str)
@@ -28,13 +31,12 @@ class NamePicker(Vertical):
     """
 
     class Picked(Message):
-        """A name was highlighted (``selected`` False) or chosen with Enter or a click (True)."""
+        """A name was chosen with Enter or a click."""
 
-        def __init__(self, picker, name, selected):
+        def __init__(self, picker, name):
             super().__init__()
             self.picker = picker
             self.name = name
-            self.selected = selected
 
         @property
         def control(self):
@@ -79,18 +81,15 @@ class NamePicker(Vertical):
         event.stop()
         text = event.value.strip()
         if self._accept and text.startswith(self._accept):
-            self.post_message(self.Picked(self, text, True))
+            self.post_message(self.Picked(self, text))
             return
         options = self.query_one(OptionList)
-        if options.option_count and options.highlighted is None:
+        if not options.option_count:
+            return
+        if options.highlighted is None:
             options.highlighted = 0
-        options.focus()
+        self.post_message(self.Picked(self, options.get_option_at_index(options.highlighted).id))
 
     def on_option_list_option_selected(self, event):
         event.stop()
-        self.post_message(self.Picked(self, event.option.id, True))
-
-    def on_option_list_option_highlighted(self, event):
-        event.stop()
-        if event.option is not None:
-            self.post_message(self.Picked(self, event.option.id, False))
+        self.post_message(self.Picked(self, event.option.id))
