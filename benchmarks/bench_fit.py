@@ -5,7 +5,13 @@ same N stars (CSV -> CSV through redcorr.io.batch.correct_file, the stream engin
 same run); R_V free (2.3-5.5, f99's observed span) <= 3x R_V fixed. Times are the best of
 --repeat rounds, the cases taking turns in each round. The grid (built once per call, as a run would) is timed apart.
 
-    python benchmarks/bench_fit.py [--rows 20000] [--repeat 3]
+What is timed: the fit is ReddeningFitGrid.fit on the stars' arrays in memory (no file reading or
+writing; `redcorr fit`, redcorr.correction.fit, calls the same method on each chunk of a file); the
+correction is correct_file, CSV in and out. Threads: the fit's kernel runs its stars on numba's
+threads (all cores unless --threads or NUMBA_NUM_THREADS says otherwise); the correction computes
+in one thread (numpy), only pyarrow's CSV reading may use more. --threads 1 compares one with one.
+
+    python benchmarks/bench_fit.py [--rows 20000] [--repeat 3] [--threads N]
 
 The stars are invented: blackbody locus stars (3000-30000 K, uniform in ln T) behind E(B-V) uniform
 in 0-1.5 (f99, R_V = 3.1), errors uniform 0.01-0.05 mag, in the kw-b/v/r/i/z bands and twomass-J.
@@ -66,7 +72,12 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--rows", type=int, default=20000)
     parser.add_argument("--repeat", type=int, default=3)
+    parser.add_argument("--threads", type=int, default=None, help="numba threads of the fit (default: numba's)")
     args = parser.parse_args()
+    import numba
+
+    if args.threads:
+        numba.set_num_threads(args.threads)
     from redcorr.correction import Correction
     from redcorr.curves import get_curve
     from redcorr.io.batch import correct_file
@@ -100,11 +111,12 @@ def main():
         correct()  # warm the filter and coefficient caches, as a long run would
         res = best_of({"correct_s": correct, "fit_fixed_s": lambda: fixed.fit(mags, err),
                        "fit_free_s": lambda: free.fit(mags, err)}, args.repeat)
-    res.update(rows=args.rows, grid_fixed_s=grid_fixed_s, grid_free_s=grid_free_s,
+    res.update(rows=args.rows, fit_threads=numba.get_num_threads(), grid_fixed_s=grid_fixed_s, grid_free_s=grid_free_s,
                fixed_over_correct=res["fit_fixed_s"] / res["correct_s"],
                free_over_fixed=res["fit_free_s"] / res["fit_fixed_s"])
-    print(f"{args.rows:,} stars x {len(BANDS)} bands")
-    print(f"redcorr correct (stream, CSV -> CSV): {res['correct_s']:.2f} s")
+    print(f"{args.rows:,} stars x {len(BANDS)} bands; best of {args.repeat}")
+    print(f"redcorr correct (correct_file, CSV -> CSV, one compute thread): {res['correct_s']:.2f} s")
+    print(f"fit: ReddeningFitGrid.fit on arrays in memory, {res['fit_threads']} numba thread(s), grid built before")
     print(f"fit, R_V fixed: {res['fit_fixed_s']:.2f} s, ratio to correct {res['fixed_over_correct']:.1f}"
           " (target <= 20)")
     print(f"fit, R_V free:  {res['fit_free_s']:.2f} s, ratio to fixed {res['free_over_fixed']:.1f} (target <= 3)")

@@ -16,7 +16,16 @@ band) the χ² minimised over μ is
 likelihood). The grid is cut into blocks; a block whose smallest possible
 χ² + prior penalty exceeds the best value found at the blocks' centres
 by more than ``cut`` carries at most e^(−cut/2) of the best node's
-weight per node and is skipped (:func:`fit_stars`, Notes).
+weight per node and is skipped (:func:`fit_stars`, Notes). The bounds are
+taken on two levels, a branch-and-bound search [1]_: coarse blocks
+(:data:`SPLIT` blocks along each axis) first, then the blocks of the
+coarse blocks that may matter.
+
+References
+----------
+.. [1] Land, A. H., & Doig, A. G. 1960, Econometrica 28, 497 (branch and
+   bound: skip a region whose lower bound exceeds the best value found;
+   from memory).
 """
 
 import math
@@ -24,7 +33,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["block_deltas", "fit_stars", "N_OUT"]
+__all__ = ["block_bounds", "block_deltas", "fit_stars", "N_OUT", "SPLIT"]
 
 # Columns of fit_stars' output rows.
 STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
@@ -40,6 +49,7 @@ N_OUT = 37
 
 _PROBS = (0.025, 0.15865525393145707, 0.5, 0.8413447460685429, 0.975)  # 2.5 %, Φ(−1), Φ(0), Φ(1), 97.5 %
 _RESCALE = 200.0  # rescale the running sums when a node beats the reference by this much χ²
+SPLIT = 4  # a coarse block of the pruning holds SPLIT blocks along each axis
 
 
 @njit(cache=True)
@@ -52,6 +62,10 @@ def _block_span(k, size, n):
 @njit(cache=True)
 def block_deltas(model, valid, bt, be, br):
     """Largest squared change of each band's model within each block, from the block's centre node.
+
+    The change is taken relative to a common shift: at each node, the mean
+    change of the bands the locus covers there (any shift would do; see
+    :func:`fit_stars`, Notes).
 
     Parameters
     ----------
@@ -74,18 +88,26 @@ def block_deltas(model, valid, bt, be, br):
             t0, t1, tc = _block_span(tb, bt, n_t)
             for eb in range(n_eb):
                 e0, e1, ec = _block_span(eb, be, n_e)
-                for b in range(n_b):
-                    centre = model[rc, tc, ec, b]
-                    big = 0.0
-                    for r in range(r0, r1):
-                        for t in range(t0, t1):
-                            if not valid[t, b]:
-                                continue
-                            for e in range(e0, e1):
-                                d = model[r, t, e, b] - centre
-                                big = max(big, d * d)
-                    out[rb, tb, eb, b] = big
+                for r in range(r0, r1):
+                    for t in range(t0, t1):
+                        for e in range(e0, e1):
+                            shift = 0.0
+                            n_valid = 0
+                            for b in range(n_b):
+                                if valid[t, b] and valid[tc, b]:
+                                    shift += model[r, t, e, b] - model[rc, tc, ec, b]
+                                    n_valid += 1
+                            shift = shift / n_valid if n_valid > 0 else 0.0
+                            for b in range(n_b):
+                                if valid[t, b]:
+                                    d = model[r, t, e, b] - model[rc, tc, ec, b] - shift
+                                    out[rb, tb, eb, b] = max(out[rb, tb, eb, b], d * d)
     return out
+
+
+def block_bounds(model, valid, bt, be, br):
+    """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them."""
+    return block_deltas(model, valid, bt * SPLIT, be * SPLIT, br * SPLIT), block_deltas(model, valid, bt, be, br)
 
 
 @njit(cache=True)
@@ -149,6 +171,51 @@ def _bimodal(g, h, share, dip):
 
 
 @njit(cache=True)
+def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, br, lower, k_r, k_t, k_e, split):
+    """Lower bounds of χ² + prior penalty in blocks (sizes bt, be, br; deltas from :func:`block_deltas`).
+
+    The blocks are those of indices k·split to (k + 1)·split − 1 along each
+    axis (k = k_r, k_t, k_e); ``lower`` receives their bounds (inf: every
+    node excluded). Returns the smallest χ² + penalty at their centres.
+    """
+    nb = idx.size
+    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
+    n_rb, n_tb, n_eb = deltas.shape[0], deltas.shape[1], deltas.shape[2]
+    best = np.inf
+    for tb in range(k_t * split, min((k_t + 1) * split, n_tb)):
+        t0, t1, tc = _block_span(tb, bt, n_t)
+        pt = np.inf
+        for t in range(t0, t1):
+            pt = min(pt, pen_t[t])
+        for eb in range(k_e * split, min((k_e + 1) * split, n_eb)):
+            e0, e1, ec = _block_span(eb, be, n_e)
+            pe = np.inf
+            for e in range(e0, e1):
+                pe = min(pe, pen_e[e])
+            for rb in range(k_r * split, min((k_r + 1) * split, n_rb)):
+                if pt == np.inf or pe == np.inf:
+                    lower[rb, tb, eb] = np.inf
+                    continue
+                rc = _block_span(rb, br, n_r)[2]
+                if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
+                    lower[rb, tb, eb] = pt + pe
+                    continue
+                s1 = 0.0
+                s2 = 0.0
+                rad = 0.0
+                for k in range(nb):
+                    d = m[k] - model[rc, tc, ec, idx[k]]
+                    s1 += w[k] * d
+                    s2 += w[k] * d * d
+                    rad += w[k] * deltas[rb, tb, eb, idx[k]]
+                c = max(s2 - s1 * s1 / s0, 0.0)
+                best = min(best, c + pen_t[tc] + pen_e[ec])
+                gap = max(math.sqrt(c) - math.sqrt(rad), 0.0)
+                lower[rb, tb, eb] = gap * gap + pt + pe
+    return best
+
+
+@njit(cache=True)
 def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, ref, g_re, g_t, qe, qr, res):
     """Accumulate the posterior over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se), r ≡ 0 (mod sr) of the kept blocks.
 
@@ -158,6 +225,7 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
     ``res`` receives χ²_min and the mode's indices (−1: no node).
     """
     nb = idx.size
+    every = nb == model.shape[3]  # every band used: idx[k] = k
     n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
     n_rb, n_tb, n_eb = lower.shape
     chi_min = np.inf
@@ -172,21 +240,30 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
                     continue
                 e0, e1, _ = _block_span(eb, be, n_e)
                 for r in range((r0 + sr - 1) // sr * sr, r1, sr):
+                    q_r = qr[r] * sr
                     for t in range((t0 + st - 1) // st * st, t1, st):
-                        if pen_t[t] == np.inf:
+                        p_t = pen_t[t]
+                        if p_t == np.inf:
                             continue
+                        q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
                         row_sum = 0.0
                         for e in range((e0 + se - 1) // se * se, e1, se):
                             if pen_e[e] == np.inf:
                                 continue
                             s1 = 0.0
                             s2 = 0.0
-                            for k in range(nb):
-                                d = m[k] - model[r, t, e, idx[k]]
-                                s1 += w[k] * d
-                                s2 += w[k] * d * d
+                            if every:
+                                for k in range(nb):
+                                    d = m[k] - model[r, t, e, k]
+                                    s1 += w[k] * d
+                                    s2 += w[k] * d * d
+                            else:
+                                for k in range(nb):
+                                    d = m[k] - model[r, t, e, idx[k]]
+                                    s1 += w[k] * d
+                                    s2 += w[k] * d * d
                             c = max(s2 - s1 * s1 / s0, 0.0)
-                            tot = c + pen_t[t] + pen_e[e]
+                            tot = c + p_t + pen_e[e]
                             chi_min = min(chi_min, c)
                             if tot < tot_min:
                                 tot_min = tot
@@ -200,9 +277,9 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
                                 row_sum *= scale
                                 ref = tot
                             f = math.exp(-0.5 * (tot - ref))
-                            g_re[r, e] += f * qt[t] * st
+                            g_re[r, e] += f * q_t
                             row_sum += f * qe[e] * se
-                        g_t[t] += row_sum * qr[r] * sr
+                        g_t[t] += row_sum * q_r
     res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
 
 
@@ -240,10 +317,10 @@ def fit_stars(
     av_step, n_av : float, int
         The A_V axis of the A_V marginal at the finest E(B−V) step: 0,
         av_step, ... (n_av nodes).
-    deltas : ndarray
-        :func:`block_deltas` of ``model``.
+    deltas : (ndarray, ndarray)
+        :func:`block_bounds` of ``model``: the coarse blocks' and the blocks'.
     bt, be, br : int
-        Block sizes along T, E(B−V) and R_V.
+        Block sizes along T, E(B−V) and R_V (the coarse blocks': × :data:`SPLIT`).
     t_mean, t_sigma, e_mean, e_sigma, e_upper : ndarray, shape (n,)
         Gaussian priors (NaN: none) and upper bounds (inf: none).
     cut : float
@@ -261,11 +338,19 @@ def fit_stars(
 
     Notes
     -----
-    Pruning bound: χ² = dᵀCd with C = W − wwᵀ/Σw positive semi-definite and
-    C ≼ W, so √χ² is a seminorm of d and, for any node θ in a block with
-    centre c, √χ²(θ) ≥ √χ²(c) − (Σ_b w_b δ_b²)^½, δ_b² the block's largest
-    squared change of P_b (triangle inequality). The prior penalties are
-    bounded by their smallest value over the block's axes.
+    Pruning bound: χ² = dᵀCd with C = W − wwᵀ/Σw positive semi-definite, so
+    √χ² is a seminorm of d and, for any node θ in a block with centre c,
+    √χ²(θ) ≥ √χ²(c) − ‖v‖ with v = P(θ) − P(c) (triangle inequality).
+    ‖v‖² = min over μ of Σ_b w_b (v_b − μ)² (the offset is free) ≤
+    Σ_b w_b (v_b − s)² for any shift s(θ): with s the mean of v over the
+    bands the locus covers at θ (so that a change common to all bands,
+    much of a change of E(B−V), costs nothing), ‖v‖² ≤ Σ_b w_b δ_b², δ_b²
+    the block's largest (v_b − s)² (:func:`block_deltas`, once per grid;
+    rigorous for any star's weights and bands). The prior penalties are
+    bounded by their smallest value over the block's axes. Coarse blocks
+    whose bound exceeds the best centre + ``cut`` are skipped whole; in
+    the others each block gets its own bound, and the best centre found
+    on either level sets the cut.
 
     Resolution: a Gaussian marginal of width σ sampled every Δ changes
     between neighbours by at most ≈ (Δ/σ) e^(−½) of its peak, so
@@ -277,7 +362,7 @@ def fit_stars(
     """
     n, n_b = mag.shape
     n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
-    n_rb, n_tb, n_eb = deltas.shape[0], deltas.shape[1], deltas.shape[2]
+    n_rb, n_tb, n_eb = deltas[1].shape[0], deltas[1].shape[1], deltas[1].shape[2]
     h_e = ebv[1] - ebv[0]
     h_t = math.log(teff[1] / teff[0])
     h_r = rv[1] - rv[0] if n_r > 1 else 1.0
@@ -319,39 +404,21 @@ def fit_stars(
             elif e_sigma[i] > 0.0:
                 z = (ebv[e] - e_mean[i]) / e_sigma[i]
                 pen_e[e] = z * z
-        # pass 1: a lower bound in every block, and the best centre
-        lower = np.empty((n_rb, n_tb, n_eb))
-        best = np.inf
-        for tb in range(n_tb):
-            t0, t1, tc = _block_span(tb, bt, n_t)
-            pt = np.inf
-            for t in range(t0, t1):
-                pt = min(pt, pen_t[t])
-            for eb in range(n_eb):
-                e0, e1, ec = _block_span(eb, be, n_e)
-                pe = np.inf
-                for e in range(e0, e1):
-                    pe = min(pe, pen_e[e])
-                for rb in range(n_rb):
-                    if pt == np.inf or pe == np.inf:
-                        lower[rb, tb, eb] = np.inf
-                        continue
-                    rc = _block_span(rb, br, n_r)[2]
-                    if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
-                        lower[rb, tb, eb] = pt + pe
-                        continue
-                    s1 = 0.0
-                    s2 = 0.0
-                    rad = 0.0
-                    for k in range(nb):
-                        d = m[k] - model[rc, tc, ec, idx[k]]
-                        s1 += w[k] * d
-                        s2 += w[k] * d * d
-                        rad += w[k] * deltas[rb, tb, eb, idx[k]]
-                    c = max(s2 - s1 * s1 / s0, 0.0)
-                    best = min(best, c + pen_t[tc] + pen_e[ec])
-                    gap = max(math.sqrt(c) - math.sqrt(rad), 0.0)
-                    lower[rb, tb, eb] = gap * gap + pt + pe
+        # pass 1: a lower bound in every coarse block and the best centre, then the same in the
+        # (fine) blocks of each coarse block that may matter
+        coarse, fine = deltas
+        c_lower = np.empty(coarse.shape[:3])
+        best = _bounds(m, w, idx, s0, model, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT, br * SPLIT,
+                       c_lower, 0, 0, 0, max(max(c_lower.shape[0], c_lower.shape[1]), c_lower.shape[2]))  # fmt: skip
+        lower = np.full((n_rb, n_tb, n_eb), np.inf)
+        c_limit = best + cut
+        for crb in range(c_lower.shape[0]):
+            for ctb in range(c_lower.shape[1]):
+                for ceb in range(c_lower.shape[2]):
+                    if c_lower[crb, ctb, ceb] <= c_limit:
+                        found = _bounds(m, w, idx, s0, model, pen_t, pen_e, fine, bt, be, br, lower,
+                                        crb, ctb, ceb, SPLIT)  # fmt: skip
+                        best = min(best, found)
         limit = best + cut  # inf when no centre was allowed: then nothing is skipped
         # pass 2: sweeps of the kept blocks, each axis's stride halved until it resolves the posterior
         g_re = np.zeros((n_r, n_e))

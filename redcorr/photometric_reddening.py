@@ -150,7 +150,7 @@ nodes hold < 3 % of one node's weight (and a posterior spans many nodes)."""
 BIMODAL_SHARE, BIMODAL_DIP = 0.10, 0.5
 """The bimodality test: each side ≥ 10 % of the mass, the dip below half the lower peak."""
 
-_BLOCK = (8, 8, 1)  # block sizes along ln T, E(B−V), R_V of the pruning (speed only, not results)
+_BLOCK = (8, 8, 1)  # block sizes along ln T, E(B−V), R_V of the pruning (× the kernel's SPLIT: coarse; speed only)
 _STRIDE = 4  # the first sweep's node spacing along each axis, halved where it does not resolve the posterior
 SMOOTH = 0.35
 """Largest change of a marginal between neighbouring nodes, relative to its peak, for the grid to
@@ -333,7 +333,7 @@ class ReddeningFitGrid:
         self._kernels = kernels
         bt, be, br = _BLOCK
         self._block = (bt, be, min(br, self.r_v.size))
-        self._deltas = kernels.block_deltas(self.model, self.valid, *self._block)
+        self._deltas = kernels.block_bounds(self.model, self.valid, *self._block)
         self._strides = np.array([_first_stride(a.size) for a in (self.teff, self.ebv, self.r_v)], dtype=np.int64)
 
     @property

@@ -172,7 +172,7 @@ def test_intervals_cover_the_truth_at_their_nominal_rates(r_v_free, teff_prior, 
     observed span, or 3.1), the errors are uniform in 0.01-0.05 mag and the noise has
     σ² = err² + floor² (floor 0.02), and a T_eff prior is a measurement with a 300 K Gaussian error.
     The tolerance ± 3 % is the issue's; the binomial spread for 10,000 stars (R_V fixed) is 0.5 %
-    (68 %) and 0.2 % (95 %). With R_V free the fit takes ~4 ms a star, so 2,500 stars keep the test
+    (68 %) and 0.2 % (95 %). With R_V free the fit takes several ms a star, so 2,500 stars keep the test
     near 10 s (spread 0.9 % and 0.4 %); a run with 10,000 (T_eff prior) gave 67.9 % and 94.7 %.
     """
     n = 2500 if r_v_free else 10000
