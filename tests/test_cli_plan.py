@@ -239,7 +239,7 @@ def test_times_in_the_plan_table_have_a_human_form(capsys):
     [(42.0, "42 s"), (90.0, "1.5 min"), (7200.0, "2 h"), (1.658e7, "192 d"), (3.15576e9, "100 yr")],
 )
 def test_human_time(seconds, text):
-    from redcorr.cli._common import human_time, time_cell
+    from redcorr._format import human_time, time_cell
 
     assert human_time(seconds) == text
     assert time_cell(seconds) == (f"{seconds:.4g} ({text})" if seconds >= 60 else f"{seconds:.4g}")

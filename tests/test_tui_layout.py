@@ -89,6 +89,12 @@ def test_every_control_of_every_screen_is_reachable_by_keyboard(size):
             if screen == "catalog":  # open the demo catalog: its column mapping adds controls
                 await set_value(pilot, "#cat-input", str(project_dir("demo") / "brume_catalog.csv"))
                 await until(pilot, lambda: app.screen._mapped, "the column mapping")
+            if screen == "plan":  # plan the demo target list with a dust map: its table and the map's field appear
+                await set_value(pilot, "#plan-list", str(project_dir("demo") / "brume_targets.csv"))
+                app.screen.query_one("#plan-list-dust").value = "map"
+                await pilot.pause()
+                await set_value(pilot, "#plan-list-map", str(project_dir("demo") / "brume_ebv_3d.fits"))
+                assert app.screen.query_one("#plan-list-table").row_count > 0
             chain, reached, hidden = await tab_through(app, pilot)
             plots = []
             for plot in app.screen.query("CurvePlot, XYPlot"):

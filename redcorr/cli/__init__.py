@@ -8,8 +8,9 @@ start with an underscore are helpers, not commands).
 
 Start-up: building the parser imports every command module, so a command
 module imports at module level only the standard library,
-:mod:`redcorr.exceptions`, :mod:`redcorr.cli._common` and
-:mod:`redcorr._constants` (the values its options need). numpy, astropy and
+:mod:`redcorr.exceptions`, :mod:`redcorr.cli._common`,
+:mod:`redcorr._constants` (the values its options need) and
+:mod:`redcorr._format` (text forms of numbers). numpy, astropy and
 the library modules are imported inside ``run`` and the functions that use
 them. ``redcorr --help`` thus loads none of them, and ``redcorr COMMAND``
 only what COMMAND uses (``tests/test_cli_startup.py`` checks this,

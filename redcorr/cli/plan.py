@@ -4,15 +4,14 @@ import sys
 import textwrap
 
 from redcorr._constants import PLAN_CAUTION, TARGET_FLAGS
+from redcorr._format import human_time, time_cell
 from redcorr.cli._common import (
     check_outputs,
     finite_float,
-    human_time,
     positive_float,
     positive_seconds,
     print_json,
     print_table,
-    time_cell,
 )
 from redcorr.exceptions import InputError
 

@@ -15,6 +15,8 @@ from redcorr.exposure import plan_exposure, snr_vs_time, time_vs_av
 from redcorr.io import load_curve
 from redcorr.io.catalogs import open_catalog
 from redcorr.io.correction import correction_options, fit_options
+from redcorr.io.targets import read_targets, write_target_plan
+from redcorr.target_plan import plan_targets
 from redcorr.tui import _cache
 
 __all__ = [
@@ -24,6 +26,7 @@ __all__ = [
     "GOALS",
     "RED_KINDS",
     "SPECTRA",
+    "TARGET_DUST",
     "av_table",
     "band_rows",
     "catalog_options",
@@ -47,6 +50,8 @@ __all__ = [
     "preview_fit",
     "ready_fit",
     "split_list",
+    "target_list_plan",
+    "write_list_plan",
 ]
 
 GOALS = ("S/N", "time [s]")
@@ -131,6 +136,59 @@ def av_table(curve, plans, instrument_spec, mag_text, mag_band_spec, sed_spec, g
     a_v, times, _ = time_vs_av(instrument, [p.band for p in plans], mag, curve=curve, sed=_cache.sed(sed_spec),
                                a_v=grid, snr=snr, mag_band=mag_band)
     return snr, a_v, times
+
+
+TARGET_DUST = {"av": "Dust screen A_V", "map": "dust map"}
+"""The dust of a target list on the Plan screen: the Dust screen's A_V for every target (as ``--av``), or a
+dust map looked up at each target (as ``--map``; a distance-resolved one to the list's parallax or distance)."""
+
+
+def target_list_plan(curve, a_v, instrument_spec, targets_path, dust_kind, map_spec, mag_band_spec, sed_spec, goal,
+                     goal_text, limit_text, max_time_text):
+    """Plan every target of a list in every band, as ``redcorr plan --targets`` does.
+
+    `redcorr.io.targets.read_targets` then `redcorr.target_plan.plan_targets`,
+    with the arguments the CLI passes for the equivalent options:
+    ``mag_band_spec`` and ``sed_spec`` are the defaults of the targets
+    without a band or a spectrum of their own (``--mag-band``, ``--sed``;
+    empty: none, and ``flat``); ``dust_kind`` is one of :data:`TARGET_DUST`;
+    ``max_time_text`` empty means no time limit (``--max-time``). Returns
+    ``(instrument, targets, plan)``: the `redcorr.io.targets.TargetList` read
+    and its `redcorr.target_plan.TargetPlan`.
+    """
+    if dust_kind not in TARGET_DUST:
+        raise InputError(f"dust={dust_kind!r} is not one of {list(TARGET_DUST)}")
+    instrument = _cache.instrument(instrument_spec.strip())
+    path = str(targets_path).strip()
+    if not path:
+        raise InputError("targets='' is empty; give the target list's path (CSV, ECSV, FITS or Parquet)")
+    if dust_kind == "av":
+        reddening = {"av": a_v}
+    elif not str(map_spec).strip():
+        raise InputError("map='' is empty; give the dust map's path (2D or distance-resolved)")
+    else:
+        reddening = {"dust_map": _cache.dust_map(str(map_spec).strip())}
+    targets = read_targets(path, instrument, curve=curve, mag_band=mag_band_spec.strip() or None,
+                           sed=sed_spec.strip() or "flat", reddening=reddening)
+    target = check_finite("snr" if goal == GOALS[0] else "time", goal_text)
+    max_time = check_finite("max_time", max_time_text) if str(max_time_text).strip() else None
+    plan = plan_targets(instrument, instrument.band_names, targets.mag, mag_band=targets.mag_band, sed=targets.sed,
+                        a_v=targets.a_v, curve=curve, snr=target if goal == GOALS[0] else None,
+                        time=None if goal == GOALS[0] else target, limit_snr=check_finite("limit_snr", limit_text),
+                        max_time=max_time, flags=targets.flags, names=targets.names)
+    return instrument, targets, plan
+
+
+def write_list_plan(targets, plan, output, targets_path, meta):
+    """`redcorr.io.targets.write_target_plan` as ``redcorr plan --targets FILE -o OUTPUT --overwrite`` calls it.
+
+    The screen has asked first (and said when ``output`` exists); the target
+    list itself is never replaced. Returns the summary written.
+    """
+    path = str(output).strip()
+    if not path:
+        raise InputError("output='' is empty; give the file to write the plan to (any catalog format, by suffix)")
+    return write_target_plan(plan, targets, path, overwrite=True, inputs=[str(targets_path).strip()], meta=meta)
 
 
 RED_KINDS = {

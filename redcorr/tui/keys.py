@@ -82,10 +82,11 @@ KEYS = (
     Key("ctrl+t", "Files", "to the file tree", "focus",
         {"bands": "focus('#bands-tree')", "catalog": "focus('#cat-tree')"}),
     Key("delete", "Remove", "remove the band highlighted in the chosen list", "edit", {"bands": "remove_band"}),
-    Key("ctrl+o", "Open…", "open a file (Bands: a filter curve; Catalog: the catalog); asks for the path "
-        "when none is given", "read", {"bands": "open", "catalog": "open"}),
-    Key("ctrl+s", "Write…", "write the result (Bands: export the table; Catalog: run the correction); "
-        "says what it will write and asks first", "write", {"bands": "export", "catalog": "run"}),
+    Key("ctrl+o", "Open…", "open a file (Bands: a filter curve; Catalog: the catalog; Plan: a target list); "
+        "asks for the path when none is given", "read", {"bands": "open", "catalog": "open", "plan": "open"}),
+    Key("ctrl+s", "Write…", "write the result (Bands: export the table; Catalog: run the correction; Plan: the "
+        "target list's plan); says what it will write and asks first", "write",
+        {"bands": "export", "catalog": "run", "plan": "write_list"}),
     Key("escape", "Cancel run", "cancel the running correction (nothing is written)", "stop", {"catalog": "cancel"}),
 )
 """The key map of the whole app."""

@@ -38,6 +38,10 @@ class Session:
     plan_instrument, plan_mag, plan_mag_band, plan_sed, plan_goal, plan_goal_value, plan_limit_snr, \
     plan_av_grid : str
         The Plan screen's inputs (defaults: the demo's invented target, demo/plan_target.toml).
+    plan_list, plan_list_dust, plan_list_map, plan_list_max_time, plan_list_output : str
+        The Plan screen's target list: its path (empty: none), its dust (``"av"``: the Dust screen's
+        A_V; ``"map"``: the dust map ``plan_list_map``), the time limit in s (empty: none) and where
+        Ctrl+S writes the plan.
     cat_input, cat_dir, cat_bands, cat_colour, cat_red_kind, cat_red_value, cat_spectrum, cat_teff, \
     cat_output, cat_overwrite
         The Catalog screen's inputs: file, folder of the file tree, bands (comma-separated),
@@ -68,6 +72,11 @@ class Session:
     plan_goal_value: str = "50"
     plan_limit_snr: str = "5"
     plan_av_grid: str = "0, 1, 2, 2.5, 4, 6"
+    plan_list: str = ""
+    plan_list_dust: str = "av"
+    plan_list_map: str = ""
+    plan_list_max_time: str = ""
+    plan_list_output: str = ""
     cat_input: str = ""
     cat_dir: str = ""
     cat_bands: str = "kw-b,kw-v,kw-r,kw-i"

@@ -4,7 +4,8 @@ import textwrap
 
 import numpy as np
 
-from redcorr.cli._common import human_time, print_table
+from redcorr._format import human_time
+from redcorr.cli._common import print_table
 from redcorr.exposure import CAUTION
 from redcorr.io import load_curve
 from redcorr.io.instrument import load_instrument
