@@ -116,3 +116,29 @@ def test_a_config_folder_that_cannot_be_written_does_not_stop_the_app(tmp_path, 
             assert app.screen.curve.r_v == 4.0  # still usable (exact: the text parsed)
 
     asyncio.run(go())
+
+
+def test_log_scale_plot_survives_a_resize():
+    """A plot with log axes is rebuilt from its data at each render: resizing the terminal must not
+    take the logarithm of already-logarithmic values (plotext keeps the transformed data)."""
+    from textual.app import App
+
+    from redcorr.tui.widgets import XYPlot
+
+    class One(App):
+        def compose(self):
+            yield XYPlot()
+
+    async def run():
+        app = One()
+        async with app.run_test(size=(80, 24)) as pilot:
+            plot = app.query_one(XYPlot)
+            plot.draw([("s", [1.0, 10.0, 100.0], [1.0, 10.0, 100.0])], xlog=True, ylog=True)
+            await pilot.pause()
+            for size in ((120, 40), (70, 20)):
+                await pilot.resize_terminal(*size)
+                await pilot.pause()
+            assert plot.series == [("s", [1.0, 10.0, 100.0], [1.0, 10.0, 100.0])]
+        return app
+
+    assert asyncio.run(run()).return_code in (None, 0)  # an exception in rendering ends the app with 1

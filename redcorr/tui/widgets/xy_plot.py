@@ -16,6 +16,13 @@ class XYPlot(PlotextPlot):
         super().__init__(**kwargs)
         self.series = []
         self.points = []
+        self._figure = None  # the last draw()'s options: plotext rebuilds the figure from them at each render
+
+    def render(self):
+        """Build the figure afresh, then render it (plotext would apply a log scale again to kept data)."""
+        if self._figure is not None:
+            self._build(**self._figure)
+        return super().render()
 
     def draw(self, series, *, xlabel="", ylabel="", title="", xlog=False, ylog=False, points=False,
              invert_y=False, hline=None):
@@ -39,6 +46,13 @@ class XYPlot(PlotextPlot):
         series = [tuple(s) if len(s) == 4 else (*s, points) for s in series]
         self.series = [(str(n), [float(v) for v in x], [float(v) for v in y]) for n, x, y, _ in series]
         self.points = [bool(s[3]) for s in series]
+        self._figure = dict(xlabel=xlabel, ylabel=ylabel, title=title, xlog=xlog, ylog=ylog, invert_y=invert_y,
+                            hline=hline)
+        self._build(**self._figure)
+        self.refresh()
+
+    def _build(self, *, xlabel, ylabel, title, xlog, ylog, invert_y, hline):
+        """Give plotext the figure of :attr:`series` from a clean slate."""
         plt = self.plt
         plt.clear_data()
         plt.clear_figure()
@@ -64,4 +78,3 @@ class XYPlot(PlotextPlot):
         plt.xlabel(xlabel)
         plt.ylabel(ylabel)
         plt.title(title)
-        self.refresh()
