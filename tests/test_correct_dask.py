@@ -5,6 +5,7 @@ rows through the same arithmetic on another process must give the same doubles, 
 outputs the same rounding of them. The one exception is a dust map's values (see that test).
 """
 
+import gzip
 import logging
 
 import numpy as np
@@ -164,3 +165,64 @@ def test_distance_resolved_map_on_two_worker_processes(tmp_path, cluster):
     # bitwise: a map lookup gives each position the same bits whatever it is looked up with
     # (partitions of 30 rows here, chunks of 11 there)
     pd.testing.assert_frame_equal(got[want.columns], want, check_dtype=False, check_exact=True)
+
+
+def _with_comments(path, frame):
+    """``frame`` as CSV with a leading comment line and one between rows (both skipped by the readers)."""
+    write_catalog(frame, path)
+    lines = path.read_text().splitlines(keepends=True)
+    path.write_text("# invented catalog of the Brume Field\n" + "".join(lines[:150]) + "# a note\n"
+                    + "".join(lines[150:]))
+    return path
+
+
+def test_a_csv_cut_into_many_partitions_gives_the_stream_engine_file(tmp_path, cluster):
+    """Byte ranges cut at line ends, on two worker processes: the same bytes as the stream engine's output."""
+    src = _with_comments(tmp_path / "in.csv", intrinsic(400, seed=27))
+    want = correct_file(src, tmp_path / "stream.csv", _make)
+    got = correct_file_dask(str(src), tmp_path / "dask.csv", _make, partition_rows=45, chunk_rows=20,
+                            scheduler=cluster.scheduler_address)
+    assert (tmp_path / "dask.csv").read_bytes() == (tmp_path / "stream.csv").read_bytes()
+    assert got.rows == want.rows == 400 and got.flagged == want.flagged
+    assert (got.ebv_min, got.ebv_max) == (want.ebv_min, want.ebv_max)
+    correct_file(src, tmp_path / "stream.parquet", _make)
+    correct_file_dask(str(src), tmp_path / "dask_ds", _make, partition_rows=45, scheduler=cluster.scheduler_address)
+    assert len(list((tmp_path / "dask_ds").iterdir())) >= 8  # 400 rows in partitions of about 45
+    pd.testing.assert_frame_equal(pd.read_parquet(tmp_path / "dask_ds"), pd.read_parquet(tmp_path / "stream.parquet"),
+                                  check_exact=True)
+
+
+def test_a_parquet_file_of_many_row_groups_gives_many_partitions(tmp_path, cluster):
+    """Row groups grouped into partitions, one part file each, in input order: the stream engine's rows."""
+    frame = intrinsic(300, seed=28)
+    src = tmp_path / "in.parquet"
+    pq.write_table(pa.Table.from_pandas(frame, preserve_index=False), src, row_group_size=40)
+    want = correct_file(src, tmp_path / "stream.parquet", _make)
+    got = correct_file_dask(str(src), tmp_path / "dask_ds", _make, partition_rows=70,
+                            scheduler=cluster.scheduler_address)
+    parts = sorted((tmp_path / "dask_ds").iterdir())
+    assert len(parts) == 4 and [pq.read_metadata(p).num_rows for p in parts] == [80, 80, 80, 60]
+    assert got.flagged == want.flagged and got.rows == 300
+    pd.testing.assert_frame_equal(pd.read_parquet(tmp_path / "dask_ds"), pd.read_parquet(tmp_path / "stream.parquet"),
+                                  check_exact=True)
+    correct_file(src, tmp_path / "stream.csv", _make)
+    correct_file_dask(str(src), tmp_path / "dask.csv", _make, partition_rows=70, scheduler=cluster.scheduler_address)
+    assert (tmp_path / "dask.csv").read_bytes() == (tmp_path / "stream.csv").read_bytes()
+
+
+def test_partition_rows_on_the_command_line(tmp_path, capsys):
+    from redcorr.cli import main
+
+    src = _with_comments(tmp_path / "in.csv", intrinsic(200, seed=29))
+    bands = [x for b in KW for x in ("--band", b)]
+    assert main(["correct", str(src), str(tmp_path / "stream.csv.gz"), *bands, "--quiet"]) == 0
+    assert main(["correct", str(src), str(tmp_path / "dask.csv.gz"), *bands, "--engine", "dask",
+                 "--partition-rows", "30", "--chunk-rows", "7", "--quiet"]) == 0
+    # one gzip member per partition: together the stream engine's text
+    assert gzip.decompress((tmp_path / "dask.csv.gz").read_bytes()) == gzip.decompress(
+        (tmp_path / "stream.csv.gz").read_bytes())
+    capsys.readouterr()
+    assert main(["correct", str(src), str(tmp_path / "o.csv"), *bands, "--partition-rows", "30"]) == 2
+    assert "--partition-rows needs --engine dask" in capsys.readouterr().err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["dask.csv.gz", "dask.csv.gz.summary.json", "in.csv",
+                                                         "stream.csv.gz", "stream.csv.gz.summary.json"]

@@ -430,13 +430,13 @@ def test_dask_run_time_covers_the_computation(tmp_path, monkeypatch):
     import redcorr.io.dask_engine as engine
 
     write_catalog(intrinsic(20), tmp_path / "part-0.csv")
-    slow = engine._correct_partition
+    slow = engine._run_partition
 
     def correct_slowly(*args, **kwargs):
         time.sleep(0.3)
         return slow(*args, **kwargs)
 
-    monkeypatch.setattr(engine, "_correct_partition", correct_slowly)
+    monkeypatch.setattr(engine, "_run_partition", correct_slowly)
     from redcorr.io.batch import correct_file_dask
 
     summary = correct_file_dask(str(tmp_path / "part-*.csv"), tmp_path / "out.csv", _make)

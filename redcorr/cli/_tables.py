@@ -15,7 +15,7 @@ from redcorr.cli._common import finite_float, print_json
 from redcorr.exceptions import InputError
 
 __all__ = [
-    "add_band_options",
+    "add_catalog_arguments",
     "add_distance_options",
     "add_file_options",
     "add_run_options",
@@ -50,14 +50,19 @@ def _positive_int(text):
     return value
 
 
-def add_band_options(group, *, error_help):
-    """--band, --mag, --err."""
+def add_catalog_arguments(parser, *, error_help):
+    """INPUT, OUTPUT and the bands group (--band, --mag, --err); returns the group."""
+    parser.add_argument("input", metavar="INPUT",
+                        help="catalog file, Parquet folder, or (with --engine dask) a CSV glob")
+    parser.add_argument("output", metavar="OUTPUT", help="output file (or folder for --engine dask Parquet)")
+    group = parser.add_argument_group("bands")
     group.add_argument("--band", action="append", required=True, metavar="SPEC",
                        help="a band: filter name (kw-v), file:PATH, tophat:C:W, gauss:C:FWHM (repeat)")
     group.add_argument("--mag", action="append", type=column_map, default=[], metavar="BAND=COL",
                        help="magnitude column of a band (guessed if omitted)")
     group.add_argument("--err", action="append", type=column_map, default=[], metavar="BAND=COL",
                        help=error_help)
+    return group
 
 
 def add_distance_options(group, map_option):
@@ -116,11 +121,14 @@ def add_file_options(parser):
 
 
 def add_run_options(group):
-    """--overwrite, --strict, --engine, --scheduler, --json, --quiet (after any options of the command's own)."""
+    """--overwrite, --strict, --engine, --scheduler, --partition-rows, --json, --quiet (after the command's own)."""
     group.add_argument("--overwrite", action="store_true", help="replace an existing OUTPUT")
     group.add_argument("--engine", choices=("stream", "dask"), default="stream",
                        help="stream (one process, default) or dask (Parquet datasets, CSV globs)")
     group.add_argument("--scheduler", metavar="ADDRESS", help="distributed scheduler for --engine dask")
+    group.add_argument("--partition-rows", type=_positive_int, metavar="N",
+                       help="rows per task of --engine dask (default 131072; a worker holds a few "
+                            "--chunk-rows chunks at a time, whatever N)")
     group.add_argument("--json", action="store_true", help="print the run summary as JSON")
     group.add_argument("--quiet", action="store_true",
                        help="no progress bar, no note of the columns guessed and no summary text (errors are shown)")
@@ -197,11 +205,13 @@ def run_job(args, make, verb):
         summary = correct_file_dask(
             args.input, args.output, job, in_format=args.in_format, out_format=args.out_format,
             delimiter=args.delimiter, comment=args.comment, overwrite=args.overwrite,
-            scheduler=args.scheduler, keep_columns=args.keep,
+            scheduler=args.scheduler, keep_columns=args.keep, chunk_rows=args.chunk_rows,
+            partition_rows=args.partition_rows,
         )
     else:
-        if args.scheduler:
-            raise InputError("--scheduler needs --engine dask")
+        for option, value in (("--scheduler", args.scheduler), ("--partition-rows", args.partition_rows)):
+            if value:
+                raise InputError(f"{option} needs --engine dask")
         hdu = int(args.hdu) if args.hdu and args.hdu.isdigit() else args.hdu
         with _Progress(not args.quiet and not args.json, verb) as progress:
             summary = correct_file(

@@ -5,7 +5,7 @@ import argparse
 from redcorr._constants import CORRECTION_FLAGS, DEFAULT_TEMPERATURE
 from redcorr.cli._common import finite_float
 from redcorr.cli._tables import (
-    add_band_options,
+    add_catalog_arguments,
     add_distance_options,
     add_file_options,
     add_run_options,
@@ -43,10 +43,7 @@ def add_parser(sub):
         ),
         epilog=_EPILOG,
     )
-    p.add_argument("input", metavar="INPUT", help="catalog file, Parquet folder, or (with --engine dask) a CSV glob")
-    p.add_argument("output", metavar="OUTPUT", help="output file (or folder for --engine dask Parquet)")
-    g = p.add_argument_group("bands")
-    add_band_options(g, error_help="error column of a band (guessed if omitted)")
+    g = add_catalog_arguments(p, error_help="error column of a band (guessed if omitted)")
     g.add_argument("--colour", action="append", type=_pair, default=[], metavar="B1,B2",
                    help="also write the corrected colour B1-B2 (repeat)")
     r = p.add_argument_group("reddening (one source)")

@@ -5,7 +5,7 @@ import argparse
 from redcorr._constants import CATALOG_FIT_FLAGS
 from redcorr.cli._common import finite_float
 from redcorr.cli._tables import (
-    add_band_options,
+    add_catalog_arguments,
     add_distance_options,
     add_file_options,
     add_run_options,
@@ -81,10 +81,7 @@ def add_parser(sub):
         ),
         epilog=_EPILOG,
     )
-    p.add_argument("input", metavar="INPUT", help="catalog file, Parquet folder, or (with --engine dask) a CSV glob")
-    p.add_argument("output", metavar="OUTPUT", help="output file (or folder for --engine dask Parquet)")
-    g = p.add_argument_group("bands")
-    add_band_options(g, error_help="error column of a band (guessed if omitted; every band needs one)")
+    add_catalog_arguments(p, error_help="error column of a band (guessed if omitted; every band needs one)")
     m = p.add_argument_group("model")
     m.add_argument("--law", default="f99", metavar="NAME",
                    help="extinction law or grain model (see redcorr curve --list), or file:PATH (default f99)")

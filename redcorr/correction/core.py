@@ -6,7 +6,6 @@ import numpy as np
 
 from redcorr.correction.columns import (
     band_label,
-    column_names,
     magnitude_error,
     plan_columns,
 )
@@ -348,10 +347,7 @@ class Correction(TableJob):
         return keep + self.output_columns
 
     def _arrays(self, table):
-        names = column_names(table)
-        missing_cols = [c for c in self.plan.used() if c not in names]
-        if missing_cols:
-            raise InputError(f"columns {missing_cols} are missing; the columns are {names}")
+        self._check_columns(table)
         plan, dust, spectrum = self.plan, self.options.dust, self.options.spectrum.spectrum
         n = len(table)
         nb = len(self.bands)

@@ -63,7 +63,6 @@ from redcorr._validate import check_finite, check_positive, shown
 from redcorr.correction.columns import (
     ColumnPlan,
     band_columns,
-    column_names,
     magnitude_error,
     reddening_columns,
     require_column,
@@ -310,10 +309,7 @@ class CatalogFit(TableJob):
         return keep + self.output_columns
 
     def _arrays(self, table):
-        names = column_names(table)
-        missing_cols = [c for c in self.plan.used() if c not in names]
-        if missing_cols:
-            raise InputError(f"columns {missing_cols} are missing; the columns are {names}")
+        self._check_columns(table)
         plan, n, nb = self.plan, len(table), len(self.mag_cols)
         read = np.zeros(n, np.int64)  # CORRECTION_FLAGS bits of the reading (text cells, the map)
         mags = np.stack([self._numeric(table, c, read) for c in self.mag_cols], axis=-1).reshape(n, nb)

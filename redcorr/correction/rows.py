@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from redcorr._constants import MAP_FLAGS
-from redcorr.correction.columns import float_column, text_column
+from redcorr.correction.columns import column_names, float_column, text_column
 from redcorr.correction.flags import CORRECTION_FLAGS
 from redcorr.exceptions import InputError
 from redcorr.maps.distance import EDSD_LENGTH_SCALE_PC, DistanceSamples, prior_dominated
@@ -151,6 +151,13 @@ class TableJob:
             first = int(np.flatnonzero(bad)[0])
             raise InputError(f"column {col!r} has {float(values[first])!r} in {self._where(first)}, where "
                              f"{allowed} (strict mode)")
+
+    def _check_columns(self, table):
+        """Refuse a table that lacks a column the job reads (one line listing what is missing)."""
+        names = column_names(table)
+        missing = [c for c in self.plan.used() if c not in names]
+        if missing:
+            raise InputError(f"columns {missing} are missing; the columns are {names}")
 
     def _where(self, i):
         """Row ``i`` of the table being corrected, for messages (see :attr:`describe_row`)."""

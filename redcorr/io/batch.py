@@ -14,15 +14,19 @@ everything succeeded, and write the run summary beside the output as
 ``OUTPUT.summary.json``.
 """
 
+import contextlib
 import glob
+import gzip
+import os
 import queue
+import shutil
 import tempfile
 import threading
 from pathlib import Path
 
 from redcorr.correction import Correction
 from redcorr.exceptions import InputError
-from redcorr.io._atomic import atomic_folder, atomic_path, check_output_path, output_group
+from redcorr.io._atomic import _temp_name, atomic_folder, atomic_path, check_output_path, output_group
 from redcorr.io.catalogs import (
     DEFAULT_CHUNK_ROWS,
     CatalogWriter,
@@ -31,13 +35,16 @@ from redcorr.io.catalogs import (
     check_csv_marks,
     detect_format,
     open_catalog,
-    round_for_text,
     summary_path,
     write_summary,
 )
-from redcorr.io.dask_engine import correct_dask, summarise_dask
+from redcorr.io.catalogs.writers import CsvText
+from redcorr.io.dask_engine import DEFAULT_PARTITION_ROWS, add_summaries, run_partitions
 
 __all__ = ["correct_file", "correct_file_dask", "fit_and_correct_file"]
+
+_COPY_BYTES = 8 << 20
+"""Bytes copied at a time when a CSV output is assembled from its parts."""
 
 
 def _check_targets(output, overwrite, inputs):
@@ -233,37 +240,48 @@ def _prefetch(iterable, depth=2):
         thread.join()
 
 
-def _dask_input(input_path, in_format, delimiter, comment, numeric, text=()):
-    import dask.dataframe as dd  # noqa: PLC0415 - optional dependency, imported when asked
+def _dask_input(input_path, in_format, delimiter, comment, partition_rows, numeric=(), text=(), verbatim=False):
+    """The partitions of a Parquet file or folder, or of CSV files (a name or a glob), and the input files."""
+    from redcorr.io.dask_engine import plan_csv, plan_parquet  # noqa: PLC0415
 
     location = str(input_path)
     path = Path(location)
     if path.exists() and (path.is_dir() or detect_format(path, in_format) == "parquet"):
-        if not path.is_dir() and detect_format(path, in_format) != "parquet":
-            raise InputError(f"input {location!r}: the dask engine reads Parquet datasets or CSV files/globs")
-        return dd.read_parquet(location), [location]
+        return plan_parquet(path, partition_rows), [location]
     files = sorted(glob.glob(location))
     if not files:
         raise InputError(f"input {location!r} matches no file")
     if detect_format(files[0], in_format) != "csv":
-        raise InputError(f"input {location!r}: the dask engine reads Parquet datasets or CSV files/globs")
+        raise InputError(f"input {location!r}: the dask engine reads Parquet files or folders, or CSV files/globs")
     check_csv_marks(delimiter, comment)
-    dtype = {c: "float64" for c in numeric if c not in text} | {c: "str" for c in text}
-    ddf = dd.read_csv(files, sep=delimiter, comment=comment or None, dtype=dtype, blocksize="64MB")
-    return ddf, files
+    source = plan_csv(files, partition_rows, delimiter=delimiter, comment=comment, numeric=numeric, text=text,
+                      verbatim=verbatim)
+    return source, files
 
 
 def correct_file_dask(input_path, output_path, make_correction, *, in_format=None, out_format=None,
                       delimiter=",", comment="#", overwrite=False, scheduler=None, summary_file=True,
-                      keep_columns=None):
-    """Correct a Parquet dataset or a CSV glob with Dask; write a Parquet folder or one CSV file.
+                      keep_columns=None, partition_rows=None, chunk_rows=DEFAULT_CHUNK_ROWS):
+    """Correct a Parquet file or folder, or CSV files, with Dask; write a Parquet folder or one CSV file.
+
+    The input is cut into partitions of about ``partition_rows`` rows (CSV:
+    byte ranges cut at line ends; Parquet: whole row groups), one Dask task
+    each; a task reads, corrects and writes its partition with pyarrow,
+    ``chunk_rows`` rows at a time, as the stream engine does
+    (:mod:`redcorr.io.dask_engine`). The rows, flags and counts are the
+    stream engine's; a CSV output is the same text.
 
     Parameters
     ----------
     input_path : str
         A Parquet file or folder, or a CSV file name or glob (``"part-*.csv"``).
+        Workers on other machines must be able to read it under the same
+        name (a shared file system).
     output_path : path-like
-        A folder (Parquet dataset, the default) or a ``.csv`` file.
+        A folder of part files (Parquet dataset, the default) or a ``.csv``
+        (``.csv.gz``) file, assembled from the partitions' text in input
+        order. Written beside its temporary folder, which the workers must
+        be able to write to.
     make_correction : callable
         As for :func:`correct_file`.
     scheduler : str, optional
@@ -271,6 +289,13 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
         local threaded scheduler if omitted.
     keep_columns : list of str, optional
         As for :func:`correct_file`.
+    partition_rows : int, optional
+        Rows per partition (default :data:`~redcorr.io.dask_engine.DEFAULT_PARTITION_ROWS`):
+        the unit of work and of part files. A worker's memory does not grow
+        with it (it holds a few chunks at a time).
+    chunk_rows : int
+        Rows a worker corrects at a time; its memory follows this, as the
+        stream engine's does.
     Other parameters as for :func:`correct_file`.
 
     Returns
@@ -279,15 +304,19 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
 
     Notes
     -----
-    Text in a CSV column that must hold numbers makes Dask's float parser
-    fail; the run then starts again with those columns read as text, so
-    that such cells become NaN and are flagged and counted as in the
-    stream engine (or, with a strict correction, are an error).
+    Text in a CSV column that must hold numbers is handled as by the stream
+    engine: the run starts again with that column read as text, so that
+    such cells become NaN and are flagged and counted (or, with a strict
+    correction, are an error).
     """
     output_path = Path(output_path)
     out_fmt = out_format or ("csv" if output_path.suffix.lower() in (".csv", ".gz") else "parquet")
     if out_fmt not in ("csv", "parquet"):
         raise InputError(f"out_format={out_fmt!r}: the dask engine writes 'parquet' (a folder) or 'csv'")
+    partition_rows = DEFAULT_PARTITION_ROWS if partition_rows is None else partition_rows
+    for name, value in (("partition_rows", partition_rows), ("chunk_rows", chunk_rows)):
+        if not isinstance(value, int) or value < 1:
+            raise InputError(f"{name}={value!r} must be a whole number >= 1")
     existing = [p for p in glob.glob(str(input_path))] if not Path(input_path).exists() else [input_path]
     _check_targets(output_path, overwrite, existing)
     client = None
@@ -300,23 +329,24 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
             raise InputError(f"scheduler={scheduler!r} could not be reached: {exc}") from None
     with output_group() as group:  # the output and its summary appear together or not at all
         try:
-            columns = list(_dask_input(input_path, in_format, delimiter, comment, ())[0].columns)
-            keep = _keep(columns, keep_columns)
-            correction = make_correction(columns)
+            source, _ = _dask_input(input_path, in_format, delimiter, comment, partition_rows)
+            keep = _keep(source.columns, keep_columns)
+            correction = make_correction(source.columns)
             correction.written_columns(keep)
-            numeric, text = correction.numeric_columns(), ()
-            scheduler_kw = {"scheduler": client} if client is not None else {}
+            numeric, text = correction.numeric_columns(), set()
+            verbatim = source.format == "csv" and out_fmt == "csv"  # fields copied as text, as by the stream engine
+            options = {"scheduler": client} if client is not None else {}
             while True:
                 try:
-                    ddf, _ = _dask_input(input_path, in_format, delimiter, comment, numeric, text)
-                    result = correct_dask(ddf, correction, keep)
-                    summary = _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw,
-                                        group)
+                    source, _ = _dask_input(input_path, in_format, delimiter, comment, partition_rows, numeric,
+                                            text, verbatim)
+                    summary = _run_dask(source, correction, keep, output_path, out_fmt, overwrite, group,
+                                        chunk_rows=chunk_rows, delimiter=delimiter, **options)
                     break
-                except ValueError as exc:  # Dask's float parser met text: read those columns as text
-                    if "could not convert" not in str(exc) or text:
-                        raise
-                    text = numeric
+                except ColumnTypeError as exc:  # text in a CSV column read as numbers: read it as text
+                    if exc.column in text:
+                        raise InputError(f"input column {exc.column!r} could not be read") from None
+                    text.add(exc.column)
         finally:
             if client is not None:
                 client.close()
@@ -327,16 +357,43 @@ def correct_file_dask(input_path, output_path, make_correction, *, in_format=Non
     return summary
 
 
-def _run_dask(result, correction, output_path, out_fmt, overwrite, scheduler_kw, group):
-    """Write ``result`` atomically (placed with ``group``) and summarise it in the same pass."""
+def _run_dask(source, correction, keep, output_path, out_fmt, overwrite, group, **options):
+    """Run the partitions into a temporary folder; place it (Parquet), or the CSV file of its parts, with ``group``."""
+    summary = type(correction.summary)(correction.setup())
+    summary.started = correction.summary.started  # timed from the set-up, as the stream engine's run
     if out_fmt == "parquet":
         with atomic_folder(output_path, overwrite=overwrite, group=group) as tmp:
-            write = result.to_parquet(str(tmp), write_index=False, compute=False)
-            return summarise_dask(result, correction, also=[write], **scheduler_kw)
-    floats = [c for c in correction.output_columns if result[c].dtype.kind == "f"]
-    result = result.assign(**{c: result[c].map_partitions(round_for_text, meta=result[c]) for c in floats})
-    # text: computed columns rounded as by the stream engine; a named temporary, as workers may be other processes
-    with atomic_path(output_path, overwrite=overwrite, group=group, named=True) as tmp:
-        write = result.to_csv(str(tmp), single_file=True, index=False, compute=False)
-        return summarise_dask(result, correction, also=write if isinstance(write, list) else [write],
-                              **scheduler_kw)
+            with contextlib.closing(run_partitions(source, correction, keep, tmp, "parquet", **options)) as parts:
+                return add_summaries(summary, (part for part, _ in parts))
+    compress = output_path.suffix.lower() == ".gz"  # gzip members, one per part: together one gzip file
+    scratch = _temp_name(output_path, "spool")  # named after this process: removed by a later run if it is killed
+    scratch.mkdir()
+    try:
+        header = CsvText(options["delimiter"]).header([*keep, *correction.output_columns])
+        parts = run_partitions(source, correction, keep, scratch, "csv", compress=compress, **options)
+        with contextlib.closing(parts), atomic_path(output_path, overwrite=overwrite, group=group) as tmp, \
+                open(tmp, "wb") as out:
+            out.write(gzip.compress(header, mtime=0) if compress else header)
+            for part, path in parts:  # in input order, while the later partitions run
+                add_summaries(summary, [part])
+                _append(path, out)
+                path.unlink()
+    finally:
+        shutil.rmtree(scratch, ignore_errors=True)
+    return summary
+
+
+def _append(path, out):
+    """Append the file ``path`` to the open binary file ``out``: in the kernel where it can, else through a buffer."""
+    out.flush()
+    with open(path, "rb", buffering=0) as fh:
+        size, done = os.fstat(fh.fileno()).st_size, 0
+        with contextlib.suppress(AttributeError, OSError):  # no copy_file_range here, or not between these files
+            while done < size:
+                copied = os.copy_file_range(fh.fileno(), out.fileno(), size - done)
+                if not copied:
+                    break
+                done += copied
+        fh.seek(done)
+        out.seek(0, os.SEEK_END)  # past what the kernel appended
+        shutil.copyfileobj(fh, out, _COPY_BYTES)  # what is left, if anything

@@ -21,7 +21,7 @@ from redcorr.io.catalogs.formats import (
     round_for_text,
 )
 
-__all__ = ["CatalogWriter", "write_catalog"]
+__all__ = ["CatalogWriter", "CsvText", "write_catalog"]
 
 _CSV_SLICE_ROWS = 16_384
 """Rows formatted as text per task of the CSV writer (two tasks run at once)."""
@@ -159,6 +159,76 @@ def _csv_bytes(table, options):
     return buf.getvalue()
 
 
+class CsvText:
+    """Rows of Arrow tables as the CSV (or ECSV body) text :class:`CatalogWriter` writes.
+
+    The one home of that text: the writer formats its slices with it, and
+    the Dask engine (:mod:`redcorr.io.dask_engine`) its partitions, so that
+    both engines write the same rows.
+
+    Parameters
+    ----------
+    delimiter : str
+    computed : iterable of str
+        Columns whose floating-point values are rounded (:func:`round_for_text`).
+    verbatim : bool
+        Text columns read verbatim go out unquoted, except in rows where
+        some text holds the delimiter, a quote or a line end (see
+        ``verbatim`` of :class:`CatalogWriter`).
+    """
+
+    def __init__(self, delimiter=",", computed=(), verbatim=False):
+        pa = _pyarrow()
+        self.delimiter = delimiter
+        self.computed = set(computed)
+        self.verbatim = bool(verbatim)
+        self._options = pa.csv.WriteOptions(include_header=False, delimiter=delimiter)
+        self._plain_options = pa.csv.WriteOptions(include_header=False, delimiter=delimiter, quoting_style="none")
+
+    def header(self, names):
+        """The header line of ``names`` (UTF-8 bytes), quoted as the rows are."""
+        return _csv_header(names, self.delimiter).encode("utf-8")
+
+    def __call__(self, table):
+        """The rows of ``table`` as text (bytes or a pyarrow buffer), without a header."""
+        pa = _pyarrow()
+        for i, field in enumerate(table.schema):
+            if field.name in self.computed and pa.types.is_floating(field.type):
+                column = table.column(i)
+                values = round_for_text(column.to_numpy()).astype(field.type.to_pandas_dtype(), copy=False)
+                mask = column.is_null().to_numpy() if column.null_count else None
+                table = table.set_column(i, field, pa.array(values, type=field.type, mask=mask))
+        if not self.verbatim:
+            return _csv_bytes(table, self._options)
+        try:  # text copied from the input goes out unquoted, as it came in
+            return _csv_bytes(table, self._plain_options)
+        except pa.ArrowInvalid:  # some field holds the delimiter, a quote or a line end
+            return self._quote_rows_that_need_it(table)
+
+    def _quote_rows_that_need_it(self, table):
+        """CSV text of ``table`` with the text fields of rows that need quotes quoted.
+
+        Rows whose text fields are free of the delimiter, quotes and line
+        ends are written unquoted; the others with every text field quoted
+        (RFC 4180). The choice is made row by row, so the text does not
+        depend on how the rows were chunked.
+        """
+        pa = _pyarrow()
+        pc = pa.compute
+        needs = np.zeros(table.num_rows, dtype=bool)
+        for column in table.columns:
+            if pa.types.is_string(column.type):
+                for special in {self.delimiter, '"', "\n", "\r"}:
+                    found = pc.fill_null(pc.match_substring(column, special), False)
+                    needs |= found.to_numpy(zero_copy_only=False)
+        edges = np.concatenate([[0], np.flatnonzero(np.diff(needs)) + 1, [table.num_rows]])
+        parts = [
+            _csv_bytes(table.slice(a, b - a), self._options if needs[a] else self._plain_options)
+            for a, b in zip(edges[:-1], edges[1:], strict=True)
+        ]
+        return b"".join(part.to_pybytes() for part in parts)
+
+
 class CatalogWriter:
     """Write DataFrame or Arrow-table chunks to a catalog file, atomically.
 
@@ -268,12 +338,7 @@ class CatalogWriter:
                 self._sink.write(self._ecsv_header(frame).encode("utf-8"))
             else:
                 self._sink.write(_csv_header(self._schema.names, self._delimiter).encode("utf-8"))
-            self._csv_options = pa.csv.WriteOptions(
-                include_header=False, delimiter=self._delimiter if self.format == "csv" else ","
-            )
-            self._plain_options = pa.csv.WriteOptions(
-                include_header=False, delimiter=self._delimiter, quoting_style="none"
-            )
+            self._text = CsvText(self._delimiter if self.format == "csv" else ",", self._computed, self._verbatim)
             self._pool = concurrent.futures.ThreadPoolExecutor(2, thread_name_prefix="redcorr-csv")
 
     def _ecsv_header(self, frame):
@@ -287,44 +352,6 @@ class CatalogWriter:
         buf = io.StringIO()
         empty.write(buf, format="ascii.ecsv", delimiter=",")
         return buf.getvalue()  # header lines and the column-name line
-
-    def _csv_text(self, table):
-        pa = _pyarrow()
-        for i, field in enumerate(table.schema):
-            if field.name in self._computed and pa.types.is_floating(field.type):
-                column = table.column(i)
-                values = round_for_text(column.to_numpy()).astype(field.type.to_pandas_dtype(), copy=False)
-                mask = column.is_null().to_numpy() if column.null_count else None
-                table = table.set_column(i, field, pa.array(values, type=field.type, mask=mask))
-        if not self._verbatim:
-            return _csv_bytes(table, self._csv_options)
-        try:  # text copied from the input goes out unquoted, as it came in
-            return _csv_bytes(table, self._plain_options)
-        except pa.ArrowInvalid:  # some field holds the delimiter, a quote or a line end
-            return self._quote_rows_that_need_it(table)
-
-    def _quote_rows_that_need_it(self, table):
-        """CSV text of ``table`` with the text fields of rows that need quotes quoted.
-
-        Rows whose text fields are free of the delimiter, quotes and line
-        ends are written unquoted; the others with every text field quoted
-        (RFC 4180). The choice is made row by row, so the text does not
-        depend on how the rows were chunked.
-        """
-        pa = _pyarrow()
-        pc = pa.compute
-        needs = np.zeros(table.num_rows, dtype=bool)
-        for column in table.columns:
-            if pa.types.is_string(column.type):
-                for special in {self._delimiter, '"', "\n", "\r"}:
-                    found = pc.fill_null(pc.match_substring(column, special), False)
-                    needs |= found.to_numpy(zero_copy_only=False)
-        edges = np.concatenate([[0], np.flatnonzero(np.diff(needs)) + 1, [table.num_rows]])
-        parts = [
-            _csv_bytes(table.slice(a, b - a), self._csv_options if needs[a] else self._plain_options)
-            for a, b in zip(edges[:-1], edges[1:], strict=True)
-        ]
-        return b"".join(part.to_pybytes() for part in parts)
 
     def _drain(self, limit):
         """Finish the oldest tasks until at most ``limit`` are in flight (text goes to the file in order)."""
@@ -349,7 +376,7 @@ class CatalogWriter:
             self._drain(1)
         elif len(table):
             for start in range(0, table.num_rows, _CSV_SLICE_ROWS):
-                self._pending.append(self._pool.submit(self._csv_text, table.slice(start, _CSV_SLICE_ROWS)))
+                self._pending.append(self._pool.submit(self._text, table.slice(start, _CSV_SLICE_ROWS)))
                 self._drain(_CSV_PENDING)
         self.rows += len(table)
 
