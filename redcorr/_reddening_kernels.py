@@ -21,6 +21,12 @@ taken on two levels, a branch-and-bound search [1]_: coarse blocks
 (:data:`SPLIT` blocks along each axis) first, then the blocks of the
 coarse blocks that may matter.
 
+With R_V free the grid's R_V nodes are coarse (0.8 apart by default) and
+the R_V integral at each (T, E(B−V)) node is done in closed form, the
+model linear in R_V between nodes (:func:`_sweep_rv`, :func:`_segment`;
+derivation in :mod:`redcorr.photometric_reddening`); a block along R_V is
+then an interval between two nodes.
+
 References
 ----------
 .. [1] Land, A. H., & Doig, A. G. 1960, Econometrica 28, 497 (branch and
@@ -105,9 +111,21 @@ def block_deltas(model, valid, bt, be, br):
     return out
 
 
-def block_bounds(model, valid, bt, be, br):
-    """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them."""
-    return block_deltas(model, valid, bt * SPLIT, be * SPLIT, br * SPLIT), block_deltas(model, valid, bt, be, br)
+def block_bounds(model, valid, bt, be):
+    """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them.
+
+    Along R_V a block is one node when R_V is fixed, else one interval
+    between neighbouring nodes (both ends; the model is linear in R_V
+    between them, so the largest change over the interval is at a node).
+    Block rb along R_V has its centre at node rb.
+    """
+    if model.shape[0] == 1:
+        return block_deltas(model, valid, bt * SPLIT, be * SPLIT, 1), block_deltas(model, valid, bt, be, 1)
+    pairs = [model[j : j + 2] for j in range(model.shape[0] - 1)]
+    return (
+        np.concatenate([block_deltas(p, valid, bt * SPLIT, be * SPLIT, 2) for p in pairs]),
+        np.concatenate([block_deltas(p, valid, bt, be, 2) for p in pairs]),
+    )
 
 
 @njit(cache=True)
@@ -171,15 +189,16 @@ def _bimodal(g, h, share, dip):
 
 
 @njit(cache=True)
-def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, br, lower, k_r, k_t, k_e, split):
-    """Lower bounds of χ² + prior penalty in blocks (sizes bt, be, br; deltas from :func:`block_deltas`).
+def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t, k_e, split, split_r):
+    """Lower bounds of χ² + prior penalty in blocks (sizes bt, be; deltas from :func:`block_bounds`).
 
-    The blocks are those of indices k·split to (k + 1)·split − 1 along each
-    axis (k = k_r, k_t, k_e); ``lower`` receives their bounds (inf: every
-    node excluded). Returns the smallest χ² + penalty at their centres.
+    The blocks are those of indices k·split to (k + 1)·split − 1 along T and
+    E(B−V) (k = k_t, k_e) and k_r·split_r to (k_r + 1)·split_r − 1 along R_V
+    (block rb centred on node rb); ``lower`` receives their bounds (inf:
+    every node excluded). Returns the smallest χ² + penalty at their centres.
     """
     nb = idx.size
-    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
+    n_t, n_e = model.shape[1], model.shape[2]
     n_rb, n_tb, n_eb = deltas.shape[0], deltas.shape[1], deltas.shape[2]
     best = np.inf
     for tb in range(k_t * split, min((k_t + 1) * split, n_tb)):
@@ -192,11 +211,11 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, br, lower, k_r, 
             pe = np.inf
             for e in range(e0, e1):
                 pe = min(pe, pen_e[e])
-            for rb in range(k_r * split, min((k_r + 1) * split, n_rb)):
+            for rb in range(k_r * split_r, min((k_r + 1) * split_r, n_rb)):
                 if pt == np.inf or pe == np.inf:
                     lower[rb, tb, eb] = np.inf
                     continue
-                rc = _block_span(rb, br, n_r)[2]
+                rc = rb
                 if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
                     lower[rb, tb, eb] = pt + pe
                     continue
@@ -283,6 +302,306 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
     res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
 
 
+_SQRT2 = math.sqrt(2.0)
+_SQRT2PI = math.sqrt(2.0 * math.pi)
+_Y_LINEAR = 1e-3  # below this curvature (χ² units over an interval) the exponent is taken linear in u
+
+
+@njit(cache=True)
+def _tail(x):
+    """exp(x²/2) Φc(x) for x >= 0 (Φc the upper tail of the unit normal), without overflow."""
+    if x < 25.0:
+        return 0.5 * math.exp(0.5 * x * x) * math.erfc(x / _SQRT2)
+    r = 1.0 / (x * x)  # asymptotic series (Abramowitz & Stegun 1964, eq. 7.1.23): rel. error < 1e-9 here
+    return (1.0 - r * (1.0 - r * (3.0 - 15.0 * r))) / (x * _SQRT2PI)
+
+
+@njit(cache=True)
+def _segment_near0(c0, c1, y):
+    """:func:`_segment` for a χ² whose smallest value on [0, 1] is at u = 0 (or uniform); base c0.
+
+    The exponent is taken linear in u, with slope κ, where the curvature
+    cannot matter: y < :data:`_Y_LINEAR` (κ the chord's, error <= y/8), or
+    a vertex more than 1000 σ outside (κ the tangent's at u = 0; the mass
+    lies within u ≲ 1/κ, where the curvature changes it by ~ 3/a² <= 3e−6;
+    beyond, the truncated normal formulae lose digits).
+    """
+    kap = 0.5 * (c1 - c0)
+    a = 0.0
+    if y >= _Y_LINEAR:
+        a = (c1 - c0 - y) / (2.0 * math.sqrt(y))  # −u0/σ, the vertex's distance below 0 in σ
+        if a > 1000.0:
+            kap = 0.5 * (c1 - c0 - y)
+    if y < _Y_LINEAR or a > 1000.0:
+        # exponent linear in u: ∫ u^k exp(−κu) du on [0, 1], κ >= 0
+        if kap < 1e-2:  # Taylor series to κ³ (error < κ⁴/30)
+            i0 = 1.0 - kap / 2.0 + kap * kap / 6.0 - kap**3 / 24.0
+            i1 = 0.5 - kap / 3.0 + kap * kap / 8.0 - kap**3 / 30.0
+            i2 = 1.0 / 3.0 - kap / 4.0 + kap * kap / 10.0 - kap**3 / 36.0
+        else:
+            ek = math.exp(-kap)
+            i0 = (1.0 - ek) / kap
+            i1 = (1.0 - ek * (1.0 + kap)) / kap**2
+            i2 = (2.0 - ek * (kap * kap + 2.0 * kap + 2.0)) / kap**3
+        return c0, i0, i1 / i0, i2 / i0
+    s = 1.0 / math.sqrt(y)
+    u0 = 0.5 - (c1 - c0) / (2.0 * y)  # the vertex of χ²(u), here <= 0
+    a = -u0 / s
+    b = (1.0 - u0) / s
+    e = math.exp(-0.5 * (b - a) * (b + a))
+    pa = 1.0 / _SQRT2PI
+    pb = e / _SQRT2PI
+    z = _tail(a) - e * _tail(b)  # (Φ(b) − Φ(a)) exp(a²/2)
+    ratio = (pa - pb) / z
+    mean = u0 + s * ratio
+    var = s * s * max(1.0 + (a * pa - b * pb) / z - ratio * ratio, 0.0)
+    return c0, s * _SQRT2PI * z, mean, var + mean * mean
+
+
+@njit(cache=True)
+def _segment(c0, c1, y):
+    """The integral and moments over u in [0, 1] of exp(−½ χ²(u)), χ²(u) = c0 (1 − u) + c1 u − y u (1 − u).
+
+    Returns (base, mass, mean, m2): mass = ∫ exp(−½ (χ²(u) − base)) du
+    with base the smallest χ² on [0, 1] (or the smaller end), and the
+    first two moments of u under that density (a normal truncated to
+    [0, 1]; Johnson, Kotz & Balakrishnan 1994, Sect. 10.1; from memory).
+    """
+    y = max(y, 0.0)
+    if y >= _Y_LINEAR:
+        u0 = 0.5 - (c1 - c0) / (2.0 * y)
+        if 0.0 < u0 < 1.0:
+            s = 1.0 / math.sqrt(y)
+            a = -u0 / s
+            b = (1.0 - u0) / s
+            z = 0.5 * (math.erf(b / _SQRT2) - math.erf(a / _SQRT2))
+            pa = math.exp(-0.5 * a * a) / _SQRT2PI
+            pb = math.exp(-0.5 * b * b) / _SQRT2PI
+            ratio = (pa - pb) / z
+            mean = u0 + s * ratio
+            var = s * s * max(1.0 + (a * pa - b * pb) / z - ratio * ratio, 0.0)
+            return c0 - y * u0 * u0, s * _SQRT2PI * z, mean, var + mean * mean
+    if c0 <= c1:
+        return _segment_near0(c0, c1, y)
+    base, mass, mean, m2 = _segment_near0(c1, c0, y)  # u -> 1 − u
+    return base, mass, 1.0 - mean, 1.0 - 2.0 * mean + m2
+
+
+@njit(cache=True)
+def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, rv, ebv, ref,
+              g_e, g_t, g_r, av_hist, av_h, av_mom, res):  # fmt: skip
+    """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral in closed form.
+
+    Between R_V nodes r_j and r_j+1 the model is taken linear in R_V,
+    P = P_j + u (P_j+1 − P_j), so χ² is the quadratic of :func:`_segment`
+    in u, with curvature y = Δᵀ C Δ (Δ = P_j+1 − P_j, C as in
+    :func:`fit_stars`, Notes) and the integral over u is a Gaussian one.
+    ``g_e``, ``g_t`` receive the marginal densities of E(B−V) and ln T,
+    ``g_r[j]`` the mass and first two moments of u in interval j,
+    ``av_hist`` the A_V masses at 0, av_h, ... and ``av_mom`` the mass,
+    Σ A_V and Σ A_V², all relative to exp(−ref/2); an interval whose
+    smallest χ² + penalty exceeds ``limit`` is skipped (its weight is below
+    e^(−cut/2) of the best node's).
+    """
+    nb = idx.size
+    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
+    n_tb, n_eb = lower.shape[1], lower.shape[2]
+    n_a = av_hist.size
+    keep = np.zeros(n_r - 1, np.bool_)
+    need = np.zeros(n_r, np.bool_)
+    h_r = rv[1] - rv[0]
+    c = np.empty(n_r)
+    y = np.empty(n_r - 1)
+    d_prev = np.empty(nb)
+    chi_min = np.inf
+    tot_min = np.inf
+    map_t, map_e, map_r = -1, -1, -1
+    for tb in range(n_tb):
+        t0, t1, _ = _block_span(tb, bt, n_t)
+        for eb in range(n_eb):
+            any_kept = False
+            need[:] = False
+            for j in range(n_r - 1):
+                keep[j] = lower[j, tb, eb] <= limit
+                if keep[j]:
+                    any_kept = True
+                    need[j] = True
+                    need[j + 1] = True
+            if not any_kept:
+                continue
+            e0, e1, _ = _block_span(eb, be, n_e)
+            for t in range((t0 + st - 1) // st * st, t1, st):
+                p_t = pen_t[t]
+                if p_t == np.inf:
+                    continue
+                q_t = qt[t] * st
+                row_sum = 0.0
+                for e in range((e0 + se - 1) // se * se, e1, se):
+                    pen = p_t + pen_e[e]
+                    if pen == np.inf:
+                        continue
+                    s1_prev = 0.0
+                    for r in range(n_r):
+                        if not need[r]:
+                            continue
+                        s1 = 0.0
+                        s2 = 0.0
+                        sy = 0.0
+                        for k in range(nb):
+                            d = m[k] - model[r, t, e, idx[k]]
+                            a = w[k] * d
+                            s1 += a
+                            s2 += a * d
+                            if r > 0 and keep[r - 1]:
+                                dd = d_prev[k] - d
+                                sy += w[k] * dd * dd
+                            d_prev[k] = d
+                        c[r] = max(s2 - s1 * s1 / s0, 0.0)
+                        if r > 0 and keep[r - 1]:
+                            y[r - 1] = max(sy - (s1_prev - s1) ** 2 / s0, 0.0)
+                        s1_prev = s1
+                    q_e = qe[e] * se
+                    ebv_e = ebv[e]
+                    for j in range(n_r - 1):
+                        if not keep[j]:
+                            continue
+                        c0, c1, yj = c[j], c[j + 1], y[j]
+                        low = min(c0, c1)
+                        u_min = 0.0 if c0 <= c1 else 1.0
+                        if yj > 0.0:
+                            u0 = 0.5 - (c1 - c0) / (2.0 * yj)
+                            if 0.0 < u0 < 1.0:
+                                low = c0 - yj * u0 * u0
+                                u_min = u0
+                        chi_min = min(chi_min, low)
+                        tot = low + pen
+                        if tot < tot_min:
+                            tot_min = tot
+                            map_t, map_e, map_r = t, e, j + (1 if u_min > 0.5 else 0)
+                        if tot > limit or tot > tot_min + cut:
+                            continue
+                        base, mass, mu, m2 = _segment(c0, c1, yj)
+                        tot = base + pen
+                        if not ref == ref:
+                            ref = tot
+                        if tot < ref - _RESCALE:
+                            scale = math.exp(-0.5 * (ref - tot))
+                            g_e *= scale
+                            g_t *= scale
+                            g_r *= scale
+                            av_hist *= scale
+                            av_mom *= scale
+                            row_sum *= scale
+                            ref = tot
+                        f = math.exp(-0.5 * (tot - ref)) * mass * h_r
+                        g_e[e] += f * q_t
+                        row_sum += f * q_e
+                        wq = f * q_t * q_e
+                        g_r[j, 0] += wq
+                        g_r[j, 1] += wq * mu
+                        g_r[j, 2] += wq * m2
+                        r_mean = rv[j] + h_r * mu
+                        r_var = max(h_r * h_r * (m2 - mu * mu), 0.0)
+                        av_mom[0] += wq
+                        av_mom[1] += wq * ebv_e * r_mean
+                        av_mom[2] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
+                        # A_V histogram: three points matching the interval's R_V mean and variance
+                        # (Gauss-Hermite, weights 1/6, 2/3, 1/6 at mean − √3 std, mean, mean + √3 std)
+                        r_sd = math.sqrt(3.0 * r_var)
+                        for p in range(3):
+                            share = wq * (2.0 / 3.0 if p == 1 else 1.0 / 6.0)
+                            pos = ebv_e * (r_mean + (p - 1) * r_sd) / av_h
+                            jj = min(max(int(pos), 0), n_a - 2)
+                            frac = min(max(pos - jj, 0.0), 1.0)
+                            av_hist[jj] += share * (1.0 - frac)
+                            av_hist[jj + 1] += share * frac
+                    g_t[t] += row_sum
+    res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
+
+
+@njit(cache=True)
+def _rv_stats(rv, g_r, out, k):
+    """Mean, std and percentiles of R_V from each interval's mass and moments of u (:func:`_sweep_rv`).
+
+    Mean and std are exact sums of the intervals' moments. The CDF is exact
+    at the nodes; within an interval it is taken as that of a normal with
+    the interval's mean and std, truncated to the interval (exact when one
+    Gaussian in R_V dominates the interval, approximate for a mixture).
+    """
+    n_j = g_r.shape[0]
+    h = rv[1] - rv[0]
+    z = 0.0
+    s1 = 0.0
+    s2 = 0.0
+    for j in range(n_j):
+        z += g_r[j, 0]
+        s1 += g_r[j, 0] * rv[j] + h * g_r[j, 1]
+        s2 += g_r[j, 0] * rv[j] ** 2 + 2.0 * rv[j] * h * g_r[j, 1] + h * h * g_r[j, 2]
+    mean = s1 / z
+    out[k] = mean
+    out[k + 1] = math.sqrt(max(s2 / z - mean * mean, 0.0))
+    cum = 0.0
+    j = 0
+    for i in range(5):
+        target = _PROBS[i] * z
+        while j < n_j - 1 and cum + g_r[j, 0] < target:
+            cum += g_r[j, 0]
+            j += 1
+        mj = g_r[j, 0]
+        frac = min(max((target - cum) / mj, 0.0), 1.0) if mj > 0.0 else 0.5
+        mu = g_r[j, 1] / mj if mj > 0.0 else 0.5
+        sd = math.sqrt(max(g_r[j, 2] / mj - mu * mu, 0.0)) if mj > 0.0 else 0.0
+        if sd < 1e-9:
+            u = mu
+        else:
+            f0 = 0.5 * math.erfc(-(0.0 - mu) / (sd * _SQRT2))
+            f1 = 0.5 * math.erfc(-(1.0 - mu) / (sd * _SQRT2))
+            lo, hi = 0.0, 1.0
+            for _ in range(40):  # bisection of the truncated normal's CDF
+                mid = 0.5 * (lo + hi)
+                fm = 0.5 * math.erfc(-(mid - mu) / (sd * _SQRT2))
+                if f1 > f0 and (fm - f0) / (f1 - f0) < frac:
+                    lo = mid
+                else:
+                    hi = mid
+            u = 0.5 * (lo + hi) if f1 > f0 else mu
+        out[k + 2 + i] = rv[j] + h * min(max(u, 0.0), 1.0)
+
+
+@njit(cache=True)
+def _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip):
+    """Fill a fitted star's E(B−V) and T_eff summaries, χ², mode and bimodality (FITTED 0: no mass)."""
+    q_e = qe[::se] * se
+    g_es = g_e[::se].copy()
+    z = 0.0
+    for j in range(g_es.size):
+        z += q_e[j] * g_es[j]
+    if not z > 0.0:
+        return
+    row[FITTED] = 1.0
+    row[CHI2] = res[0]
+    row[MAP_T], row[MAP_E], row[MAP_R] = res[1], res[2], res[3]
+    row[ROUGH] = rough
+    _stats(0.0, h_e * se, g_es, q_e, row, EBV)
+    q_t = qt[::st] * st
+    g_ts = g_t[::st].copy()
+    _stats(ln_t0, h_t * st, g_ts, q_t, row, TEFF)
+    row[LNT_STD] = row[TEFF + 1]
+    for k in range(2, 7):
+        row[TEFF + k] = math.exp(row[TEFF + k])
+    s1 = 0.0
+    s2 = 0.0
+    zt = 0.0
+    for j in range(g_ts.size):
+        tk = teff[j * st]
+        s1 += q_t[j] * g_ts[j] * tk
+        s2 += q_t[j] * g_ts[j] * tk * tk
+        zt += q_t[j] * g_ts[j]
+    row[TEFF] = s1 / zt
+    row[TEFF + 1] = math.sqrt(max(s2 / zt - (s1 / zt) ** 2, 0.0))
+    row[BIMODAL] = 1.0 if _bimodal(g_es, h_e * se, share, dip) else 0.0
+
+
 @njit(cache=True)
 def _roughness(g, step):
     """Largest change between neighbouring samples g[0], g[step], ... relative to their largest value."""
@@ -365,7 +684,6 @@ def fit_stars(
     n_rb, n_tb, n_eb = deltas[1].shape[0], deltas[1].shape[1], deltas[1].shape[2]
     h_e = ebv[1] - ebv[0]
     h_t = math.log(teff[1] / teff[0])
-    h_r = rv[1] - rv[0] if n_r > 1 else 1.0
     ln_t0 = math.log(teff[0])
     for i in prange(n):
         row = out[i]
@@ -408,16 +726,16 @@ def fit_stars(
         # (fine) blocks of each coarse block that may matter
         coarse, fine = deltas
         c_lower = np.empty(coarse.shape[:3])
-        best = _bounds(m, w, idx, s0, model, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT, br * SPLIT,
-                       c_lower, 0, 0, 0, max(max(c_lower.shape[0], c_lower.shape[1]), c_lower.shape[2]))  # fmt: skip
+        best = _bounds(m, w, idx, s0, model, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT,
+                       c_lower, 0, 0, 0, max(c_lower.shape[1], c_lower.shape[2]), c_lower.shape[0])  # fmt: skip
         lower = np.full((n_rb, n_tb, n_eb), np.inf)
         c_limit = best + cut
         for crb in range(c_lower.shape[0]):
             for ctb in range(c_lower.shape[1]):
                 for ceb in range(c_lower.shape[2]):
                     if c_lower[crb, ctb, ceb] <= c_limit:
-                        found = _bounds(m, w, idx, s0, model, pen_t, pen_e, fine, bt, be, br, lower,
-                                        crb, ctb, ceb, SPLIT)  # fmt: skip
+                        found = _bounds(m, w, idx, s0, model, pen_t, pen_e, fine, bt, be, lower,
+                                        crb, ctb, ceb, SPLIT, 1)  # fmt: skip
                         best = min(best, found)
         limit = best + cut  # inf when no centre was allowed: then nothing is skipped
         # pass 2: sweeps of the kept blocks, each axis's stride halved until it resolves the posterior
@@ -427,6 +745,44 @@ def fit_stars(
         g_r = np.zeros(n_r)
         res = np.empty(4)
         st, se, sr = strides[0], strides[1], strides[2]
+        if n_r > 1:
+            g_u = np.zeros((n_r - 1, 3))
+            av_mom = np.zeros(3)
+            while True:
+                g_t[:] = 0.0
+                g_e[:] = 0.0
+                g_u[:, :] = 0.0
+                av_mom[:] = 0.0
+                n_a = min(int(math.ceil((n_av - 1) / se)) + 1, n_av)
+                hist = np.zeros(n_a)
+                ref = best if best < np.inf else np.nan
+                _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, rv, ebv,
+                          ref, g_e, g_t, g_u, hist, av_step * se, av_mom, res)  # fmt: skip
+                rough_e = _roughness(g_e, se)
+                rough_t = _roughness(g_t, st)
+                rough = max(rough_e, rough_t)
+                if not (st > 1 or se > 1) or (res[1] >= 0 and rough <= smooth):
+                    break
+                st_new = max(st // 2, 1) if res[1] < 0 or rough_t > smooth else st
+                se_new = max(se // 2, 1) if res[1] < 0 or rough_e > smooth else se
+                if st_new == st and se_new == se:
+                    break  # the rough axis is at its grid step already
+                st, se = st_new, se_new
+            if res[1] < 0:
+                continue
+            _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
+            if not row[FITTED] == 1.0:
+                continue
+            _rv_stats(rv, g_u, row, RV)
+            h_a = av_step * se
+            qa = np.full(n_a, h_a)
+            qa[0] = qa[-1] = 0.5 * h_a
+            for j in range(n_a):
+                hist[j] /= qa[j]
+            _stats(0.0, h_a, hist, qa, row, AV)
+            row[AV] = av_mom[1] / av_mom[0]
+            row[AV + 1] = math.sqrt(max(av_mom[2] / av_mom[0] - row[AV] ** 2, 0.0))
+            continue
         while True:
             g_re[:, :] = 0.0
             g_t[:] = 0.0
@@ -445,46 +801,21 @@ def fit_stars(
             st, se, sr = max(st // 2, 1), max(se // 2, 1), max(sr // 2, 1)
         if res[1] < 0:
             continue
-        q_e = qe[::se] * se
-        g_es = g_e[::se].copy()
-        z = 0.0
-        for j in range(g_es.size):
-            z += q_e[j] * g_es[j]
-        if not z > 0.0:
+        _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
+        if not row[FITTED] == 1.0:
             continue
-        row[FITTED] = 1.0
-        row[CHI2] = res[0]
-        row[MAP_T], row[MAP_E], row[MAP_R] = res[1], res[2], res[3]
-        row[ROUGH] = rough
-        _stats(0.0, h_e * se, g_es, q_e, row, EBV)
-        q_t = qt[::st] * st
-        g_ts = g_t[::st].copy()
-        _stats(ln_t0, h_t * st, g_ts, q_t, row, TEFF)
-        row[LNT_STD] = row[TEFF + 1]
-        for k in range(2, 7):
-            row[TEFF + k] = math.exp(row[TEFF + k])
-        s1 = 0.0
-        s2 = 0.0
-        zt = 0.0
-        for j in range(g_ts.size):
-            tk = teff[j * st]
-            s1 += q_t[j] * g_ts[j] * tk
-            s2 += q_t[j] * g_ts[j] * tk * tk
-            zt += q_t[j] * g_ts[j]
-        row[TEFF] = s1 / zt
-        row[TEFF + 1] = math.sqrt(max(s2 / zt - (s1 / zt) ** 2, 0.0))
-        if n_r > 1:
-            _stats(rv[0], h_r * sr, g_r[::sr].copy(), qr[::sr] * sr, row, RV)
         # A_V = R_V E(B−V): each (R_V, E) node's mass shared between the two nearest A_V nodes
         h_a = av_step * se
         n_a = min(int(math.ceil((n_av - 1) / se)) + 1, n_av)
         hist = np.zeros(n_a)
         s1 = 0.0
         s2 = 0.0
+        z = 0.0
         for r in range(0, n_r, sr):
             for e in range(0, n_e, se):
                 mass = qr[r] * sr * qe[e] * se * g_re[r, e]
                 a = rv[r] * ebv[e]
+                z += mass
                 s1 += mass * a
                 s2 += mass * a * a
                 pos = a / h_a
@@ -500,4 +831,4 @@ def fit_stars(
         # the exact A_V moments (the histogram smooths them by one A_V step)
         row[AV] = s1 / z
         row[AV + 1] = math.sqrt(max(s2 / z - (s1 / z) ** 2, 0.0))
-        row[BIMODAL] = 1.0 if _bimodal(g_es, h_e * se, share, dip) else 0.0
+
