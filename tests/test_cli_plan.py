@@ -98,6 +98,9 @@ def test_text_output_table_ranking_av_grid_and_caution(capsys):
     out = capsys.readouterr().out
     assert "Ranked by time needed:" in out
     assert "against A_V" in out
+    # times from a minute up carry their human form (common practice, no source: 3600 s = 1 h, 86400 s = 1 d)
+    grid = out.split("against A_V:")[1]
+    assert " min)" in grid and (" h)" in grid or " d)" in grid)
     assert out.rstrip().endswith(CAUTION)
     for band in ("kw-b", "kw-v", "kw-r", "kw-i", "kw-z"):
         assert band in out

@@ -10,6 +10,7 @@ from astropy.table import Table
 from tui_helpers import run_app, set_value, type_into, until, write
 
 from redcorr.cli import main
+from redcorr.tui.screens.dialogs import Confirm
 from redcorr.tui.widgets import BandGrid, StatusLine
 
 pytestmark = pytest.mark.usefixtures("private_config")
@@ -105,12 +106,20 @@ def test_bands_from_files_library_and_specs_export_what_the_cli_prints(tmp_path,
         assert not status.has_class("-error")
         assert screen.query_one(BandGrid).rows_shown != rows
         await set_value(pilot, "#band-output", "table.txt")
-        await pilot.click("#band-export")
+        await pilot.click("#band-export")  # the button asks first, like Ctrl+S
+        await pilot.pause()
+        assert isinstance(app.screen, Confirm)
+        await pilot.press("y")
         await pilot.pause()
         assert "must end in .ecsv or .csv" in status.message
         assert screen.query_one("#band-output").has_class("-refused")
 
         await set_value(pilot, "#band-output", str(out))
+        await pilot.click("#band-export")
+        await pilot.pause()
+        await pilot.press("escape")  # declined: nothing is written
+        await pilot.pause()
+        assert not out.exists()
         await write(pilot)
         await pilot.pause()
         assert status.message == f"wrote {out}"

@@ -243,7 +243,7 @@ def run(args):
         grid, times, a_bands = table
         print(f"\nTime (s) to reach S/N {grid_snr:g} against A_V:")
         av_rows = [{"A_V": float(a), **{b: float(times[b][i]) for b in times}} for i, a in enumerate(grid)]
-        print_table(av_rows, ["A_V", *times], formats={"A_V": ".2f", **{b: ".4g" for b in times}})
+        print_table(av_rows, ["A_V", *times], formats={"A_V": ".2f", **{b: time_cell for b in times}})
     print(CAUTION)
     return 0
 

@@ -116,7 +116,7 @@ class BandsScreen(GrainWait, Screen):
 
     def on_button_pressed(self, event):
         if event.button.id == "band-export":
-            self.export()
+            self.action_export()
 
     def action_open(self):
         """Ask for a filter file's path and add it as ``file:PATH``."""
