@@ -119,7 +119,7 @@ def _warn_implausible(names, mags):
         )
 
 
-def _check_snr(name, snr):
+def check_exposure_snr(name, snr):
     """A target S/N as a float: finite, > 0 and at most :data:`MAX_SNR`."""
     value = float(check_snr(name, snr))
     if value > MAX_SNR:
@@ -128,7 +128,7 @@ def _check_snr(name, snr):
     return value
 
 
-def _check_time(name, time):
+def check_exposure_time(name, time):
     """An exposure time as a float, s: finite, > 0 and at most :data:`MAX_EXPOSURE_S`."""
     value = float(as_seconds(name, time, positive=True))
     if value > MAX_EXPOSURE_S:
@@ -495,11 +495,11 @@ def plan_exposure(
     if (snr is None) == (time is None):
         raise InputError("give exactly one of snr (a target S/N) or time (an exposure time in s)")
     a_v = check_range("a_v", a_v, 0.0, math.inf)
-    limit_snr = _check_snr("limit_snr", limit_snr)
+    limit_snr = check_exposure_snr("limit_snr", limit_snr)
     if snr is not None:
-        snr = _check_snr("snr", snr)
+        snr = check_exposure_snr("snr", snr)
     else:
-        time = _check_time("time", time)
+        time = check_exposure_time("time", time)
     names = [instrument.channel(b).name for b in bands]
     if not names:
         raise InputError("bands is empty; give at least one band of the instrument")
@@ -549,7 +549,7 @@ def time_vs_av(instrument, bands, mag, *, curve, sed, a_v, snr, mag_band=None, e
     a_band : dict
         Band name → ndarray of A_band, mag.
     """
-    s = _check_snr("snr", snr)
+    s = check_exposure_snr("snr", snr)
     grid = np.atleast_1d(np.asarray(a_v, dtype=float))
     bad = ~(np.isfinite(grid) & (grid >= 0))
     if grid.ndim != 1 or np.any(bad):

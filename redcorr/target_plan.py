@@ -64,7 +64,7 @@ from redcorr.correction.columns import ColumnPlan, reddening_columns
 from redcorr.correction.flags import CORRECTION_FLAGS
 from redcorr.correction.rows import TableJob
 from redcorr.exceptions import InputError, OutOfRangeWarning
-from redcorr.exposure import BRIGHTEST_MAG, PLAUSIBLE_MAGS, _check_snr, _check_time, plan_channel
+from redcorr.exposure import BRIGHTEST_MAG, PLAUSIBLE_MAGS, check_exposure_snr, check_exposure_time, plan_channel
 from redcorr.extinction import band_extinction
 from redcorr.photometry import synthetic_colour
 
@@ -126,7 +126,7 @@ def target_reddening(table, source, r_v):
     """
     job = _TargetRows(table.columns, source)
     raw = np.zeros(len(table), dtype=np.int64)
-    red, _ = job._reddening(table, raw)
+    red, _ = job.reddening(table, raw)
     red = np.asarray(red, dtype=float)
     a_v = red if job.plan.red_quantity == "av" else red * float(r_v)
     flags = np.zeros(len(table), dtype=np.int64)
@@ -321,11 +321,11 @@ def plan_targets(instrument, bands, mag, *, mag_band, sed, a_v, curve, snr=None,
     """
     if (snr is None) == (time is None):
         raise InputError("give exactly one of snr (a target S/N) or time (an exposure time in s)")
-    limit_snr = _check_snr("limit_snr", limit_snr)
+    limit_snr = check_exposure_snr("limit_snr", limit_snr)
     if snr is not None:
-        snr = _check_snr("snr", snr)
+        snr = check_exposure_snr("snr", snr)
     else:
-        time = _check_time("time", time)
+        time = check_exposure_time("time", time)
     if max_time is not None:
         max_time = float(max_time)
         if not (math.isfinite(max_time) and max_time > 0):

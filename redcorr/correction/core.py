@@ -358,7 +358,7 @@ class Correction(TableJob):
             [magnitude_error(self._numeric(table, c, flags), kind) if c is not None else np.zeros(n)
              for c, kind in zip(self.err_cols, self.plan.err_kinds, strict=True)], axis=-1
         ).reshape(n, nb)
-        red, red_err = self._reddening(table, flags)
+        red, red_err = self.reddening(table, flags)
         if plan.rv_col is not None:
             rv = self._numeric(table, plan.rv_col, flags)
             flags[~np.isfinite(rv)] |= CORRECTION_FLAGS["missing"]

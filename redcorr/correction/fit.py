@@ -343,7 +343,7 @@ class CatalogFit(TableJob):
 
     def _map_prior(self, table, read, priors):
         """Put the map's prior of each row into ``priors``; return the rows left without one."""
-        ebv, err = self._reddening(table, read)
+        ebv, err = self.reddening(table, read)
         if self.plan.red_quantity == "av":
             ebv, err = ebv / self.curve.r_v, err / self.curve.r_v
         lost = CORRECTION_FLAGS["map_coverage"] | CORRECTION_FLAGS["no_distance"]

@@ -68,7 +68,26 @@ class TableJob:
             flags[bad] |= CORRECTION_FLAGS["non_numeric"]
         return values.to_numpy(dtype=float, na_value=np.nan)
 
-    def _reddening(self, table, flags):
+    def reddening(self, table, flags):
+        """Each row's E(B-V) or A_V (as the source gives it) and its 1-sigma error, from the job's source.
+
+        Parameters
+        ----------
+        table : pandas.DataFrame
+            Rows with the columns the source names.
+        flags : ndarray of int64, shape (n,)
+            Receives, in place, the bits of
+            :data:`~redcorr.correction.CORRECTION_FLAGS` for text where a
+            number is needed, rows a map does not cover, beyond its last
+            distance or without a distance.
+
+        Returns
+        -------
+        red, err : ndarray, shape (n,)
+            The quantity is ``self.plan.red_quantity`` (``"ebv"`` or
+            ``"av"``); with a distance error, ``err`` adds the map's spread
+            over the row's distances in quadrature.
+        """
         n = len(table)
         source, plan = self.source, self.plan
         spread = np.zeros(n) if plan.dist_err_col is not None else None  # σ over each row's distances
