@@ -86,25 +86,28 @@ class RedcorrApp(App):
 
         Textual inserts a character in the field at once but runs a bound key
         (Backspace, Enter, Tab) only after the key has passed up through every
-        container, so keys typed fast could be reordered or lost
-        (``Backspace 4`` giving ``94``). Here both happen on arrival, with
+        container, and a paste only once the field reads its own messages, so
+        keys typed fast could be reordered or lost (``Backspace 4`` giving
+        ``94``; a key typed after a paste landing before it). Here all of them
+        happen on arrival, with
         Textual's precedence: the app's priority keys, then a character, then
         the bindings from the field up to the app. A key that moves to another
         field (Tab) selects its text at once, so the next keys replace it.
         """
-        field = self.focused if isinstance(event, events.Key) and not event.is_forwarded else None
+        typed = isinstance(event, (events.Key, events.Paste)) and not event.is_forwarded
+        field = self.focused if typed else None
         if not isinstance(field, Input) or self.screen.maximized is not None:
             await super().on_event(event)
             return
         self.app_focus = True
+        if isinstance(event, events.Paste):  # its first line, as the field would, but in turn with the keys
+            if event.text:
+                _type_text(field, event.text.splitlines()[0])
+            return
         if await self._check_bindings(event.key, priority=True):
             return
         if event.is_printable:
-            selection = field.selection
-            if selection.is_empty:
-                field.insert_text_at_cursor(event.character)
-            else:
-                field.replace(event.character, *selection)
+            _type_text(field, event.character)
             return
         await self._check_bindings(event.key)
         if self.focused is not field and isinstance(self.focused, CommitInput):
@@ -117,3 +120,12 @@ class RedcorrApp(App):
     def action_help(self):
         if not isinstance(self.screen, HelpScreen):
             self.push_screen(HelpScreen([(name, cls.HELP) for name, cls in self.MODES.items()]))
+
+
+def _type_text(field, text):
+    """Put ``text`` in ``field`` as typing does: at the cursor, or in place of the selected text."""
+    selection = field.selection
+    if selection.is_empty:
+        field.insert_text_at_cursor(text)
+    else:
+        field.replace(text, *selection)
