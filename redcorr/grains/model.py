@@ -153,8 +153,30 @@ class Component:
             "pah": None if self.pah is None else [self.pah.ionized_fraction, self.pah.q_gra, self.pah.a_xi_um],
         }
 
-    def cross_sections(self, wave_um):
-        """C_ext, C_sca, C_abs and g·C_sca per H nucleon (cm²) at ``wave_um`` (1-d, µm)."""
+    def cross_sections_by_size(self, wave_um):
+        """Cross sections of single grains, radius by radius, and the weights of the size integral.
+
+        Parameters
+        ----------
+        wave_um : ndarray
+            Wavelengths, µm (1-d), inside the material's optical constants.
+
+        Returns
+        -------
+        a : ndarray, shape (n_sizes,)
+            Radii, µm (as :meth:`radii`).
+        w : ndarray, shape (n_sizes,)
+            Grains per H nucleon each radius stands for (as :meth:`radii`).
+        parts : dict of ndarray, shape (wave_um.size, n_sizes)
+            ``"c_abs"``, ``"c_sca"`` and ``"g_sca"`` (g·C_sca) of one grain of
+            each radius, cm², orientation-averaged and with the PAH blend applied.
+
+        Notes
+        -----
+        The one home of the size loop: :meth:`cross_sections` sums these
+        columns with the weights ``w``; :mod:`redcorr.grains.emission` heats
+        each radius on its own.
+        """
         from redcorr.mie import sphere  # noqa: PLC0415 - the kernel module is heavy; load on use
 
         lo, hi = self.material.wave_range
@@ -186,9 +208,14 @@ class Component:
             cabs = xi * pah_abs + (1 - xi) * cabs
             csca = (1 - xi) * csca
             gsca = (1 - xi) * gsca
+        return a, w, {"c_abs": cabs, "c_sca": csca, "g_sca": gsca}
+
+    def cross_sections(self, wave_um):
+        """C_ext, C_sca, C_abs and g·C_sca per H nucleon (cm²) at ``wave_um`` (1-d, µm)."""
+        _, w, parts = self.cross_sections_by_size(wave_um)
         # Σ_a per wavelength row: a row-wise sum gives each wavelength the same bits whatever
         # else is computed in the call (a matrix product may not: BLAS blocks the rows)
-        cabs, csca, gsca = (np.sum(arr * w, axis=1) for arr in (cabs, csca, gsca))
+        cabs, csca, gsca = (np.sum(parts[k] * w, axis=1) for k in ("c_abs", "c_sca", "g_sca"))
         return {"c_ext": cabs + csca, "c_sca": csca, "c_abs": cabs, "g_sca": gsca}
 
     def scattering_populations(self, wave_um):
