@@ -48,9 +48,9 @@ from redcorr.exceptions import InputError, RedcorrWarning
 __all__ = ["main", "console", "build_parser", "COMMANDS"]
 
 COMMANDS = tuple(
-    sorted(m.name for m in pkgutil.iter_modules(__path__) if not m.name.startswith("_"))
+    sorted(m.name.replace("_", "-") for m in pkgutil.iter_modules(__path__) if not m.name.startswith("_"))
 )
-"""Names of the subcommands, one module each."""
+"""Names of the subcommands, one module each (the module's name with ``-`` for ``_``)."""
 
 
 def build_parser():
@@ -61,7 +61,7 @@ def build_parser():
     )
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     for name in COMMANDS:
-        importlib.import_module(f"redcorr.cli.{name}").add_parser(sub)
+        importlib.import_module(f"redcorr.cli.{name.replace('-', '_')}").add_parser(sub)
     return parser
 
 
