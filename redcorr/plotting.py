@@ -15,6 +15,7 @@ __all__ = [
     "snr_vs_time_figure",
     "time_vs_av_figure",
     "grain_model_figure",
+    "grain_emission_figure",
 ]
 
 
@@ -216,4 +217,63 @@ def grain_model_figure(curve):
     ax4.set_title("Mie (solid) and Henyey–Greenstein with the same g (dashed)", fontsize=8)
     ax4.legend(frameon=False, fontsize=8)
     fig.suptitle(f"{model.name}: R_V = {curve.r_v:.3f}", fontsize=10)
+    return fig
+
+
+def grain_emission_figure(emission, *, fit=None, marks=None, title=""):
+    """Equilibrium temperatures against grain radius, and the emission spectrum per H nucleon.
+
+    Parameters
+    ----------
+    emission : DustEmission
+        From :func:`redcorr.grains.emission_spectrum`; its ``temperatures``
+        give the left panel, its ``lam_i_lam`` (total and by component) the right.
+    fit : ModifiedBlackbodyFit, optional
+        Drawn over the spectrum (dotted) on the wavelengths it was fitted to.
+    marks : DustEmission, optional
+        The emission at other wavelengths (e.g. those asked for), drawn as points.
+    title : str
+        Over both panels (e.g. the grain model and the radiation field).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        11 × 4.2 inches at 110 dpi, two panels. Radii whose grains are flagged
+        stochastic are drawn dashed: they do not reach the temperature shown,
+        and their emission is not in the spectrum.
+    """
+    from redcorr.grains.fields import four_pi_planck  # noqa: PLC0415
+
+    fig = _figure((11, 4.2), 110)
+    left, right = fig.subplots(1, 2)
+    lam = emission.wave_um
+    for i, (t, row) in enumerate(zip(emission.temperatures, emission.by_component, strict=True)):
+        colour = f"C{i % 10}"
+        label = t.component.strip("<>").removeprefix("Component ")
+        hot = np.where(t.stochastic, np.nan, t.temperature_k)
+        left.semilogx(t.radius_um, hot, color=colour, lw=1.6, label=label)
+        left.semilogx(t.radius_um, np.where(t.stochastic, t.temperature_k, np.nan), color=colour, lw=1.0, ls="--")
+        right.loglog(lam, row, color=colour, lw=1.0, label=label)
+    left.set_xlabel(r"grain radius $a$ [$\mu$m]")
+    left.set_ylabel(r"equilibrium temperature [K]")
+    left.set_title("dashed: stochastically heated, not at this temperature", fontsize=8)
+    left.legend(frameon=False, fontsize=7)
+    right.loglog(lam, emission.lam_i_lam, color="k", lw=1.8, label="all grains in equilibrium")
+    if fit is not None:
+        lo, hi = fit.wave_range_um
+        x = lam[(lam >= lo) & (lam <= hi)]
+        model = fit.tau_ref * (x / fit.wave_ref_um) ** -fit.beta * four_pi_planck(x, fit.temperature_k) / (4 * np.pi)
+        right.loglog(x, x * model, color="0.4", lw=1.2, ls=":",
+                     label=f"modified blackbody T = {fit.temperature_k:.1f} K, β = {fit.beta:.2f}")
+    if marks is not None:
+        right.loglog(marks.wave_um, marks.lam_i_lam, "o", color="k", ms=4, label="requested")
+    peak = np.nanmax(emission.lam_i_lam)
+    if peak > 0:
+        right.set_ylim(peak * 1e-4, peak * 3)
+    right.set_xlabel(r"$\lambda$ [$\mu$m]")
+    right.set_ylabel(r"$\lambda I_\lambda / N_H$ [erg s$^{-1}$ sr$^{-1}$ H$^{-1}$]")
+    right.set_title(f"stochastic grains left out: {100 * emission.stochastic_fraction:.3g} % of the absorbed power",
+                    fontsize=8)
+    right.legend(frameon=False, fontsize=7)
+    fig.suptitle(title, fontsize=10)
     return fig

@@ -522,3 +522,117 @@ def test_fit_cases_are_new():
 @pytest.mark.parametrize(("argv", "needles"), FIT_CASES, ids=[argv for argv, _ in FIT_CASES])
 def test_fit_refused_cleanly(workspace, capsys, argv, needles):
     test_refused_cleanly(workspace, capsys, argv, needles)  # the same checks as every case above
+
+
+# ======================================================================= emission-map: column or optical-depth maps
+# The template's m.fits serves as INPUT (a HEALPix map). Every case fails before a grain model is computed.
+EMISSION = "emission-map m.fits o.fits"
+
+EMISSION_CASES = [
+    ("emission-map", ["INPUT and OUTPUT are needed"]),
+    ("emission-map m.fits", ["INPUT and OUTPUT are needed"]),
+    ("emission-map --list m.fits", ["--list takes no INPUT"]),
+    ("emission-map nope.fits o.fits", ["'nope.fits'", "does not exist"]),
+    ("emission-map adir o.fits", ["'adir'", "folder"]),
+    ("emission-map empty.txt o.fits", ["'empty.txt'", "not a readable FITS file"]),
+    ("emission-map in.csv o.fits", ["'in.csv'", "not a readable FITS file"]),
+    ("emission-map m.fits o.txt", ["output='o.txt'", "not a FITS file name", ".fits"]),
+    ("emission-map m.fits ''", ["output=''", "empty"]),
+    ("emission-map m.fits nodir/o.fits", ["'nodir/o.fits'", "does not exist"]),
+    ("emission-map m.fits m.fits", ["output='m.fits'", "is an input file"]),
+    ("emission-map m.fits m.fits --overwrite", ["output='m.fits'", "is an input file"]),
+    (f"{EMISSION} --ratio zz", ["ratio='zz'", "choose from", "'bsd78'"]),
+    (f"{EMISSION} --ratio liszt14", ["--ratio liszt14", "N(HI)", "N_H"]),
+    (f"{EMISSION} --quantity hi --ratio bsd78", ["--ratio bsd78", "N_H", "N(HI)"]),
+    (f"{EMISSION} --quantity hi", ["--quantity hi", "liszt14"]),
+    (f"{EMISSION} --quantity tau", ["--quantity tau", "--wave"]),
+    (f"{EMISSION} --quantity tau --wave 250", ["--quantity tau", "--grain", "--per-ebv"]),
+    (f"{EMISSION} --wave 250", ["optical depth", "--grain", "--per-av"]),
+    (f"{EMISSION} --wave 250 --ratio bsd78", ["--ratio bsd78", "optical depth"]),
+    (f"{EMISSION} --wave 0 --per-ebv 1", ["--wave", "'0'", "> 0"]),
+    (f"{EMISSION} --wave -5 --per-ebv 1", ["--wave", "'-5'", "> 0"]),
+    (f"{EMISSION} --wave nan --per-ebv 1", ["--wave", "'nan'", "finite"]),
+    (f"{EMISSION} --wave x --per-ebv 1", ["--wave", "'x'", "not a number"]),
+    (f"{EMISSION} --quantity nh --wave 250 --per-ebv 1", ["--wave=250", "--quantity nh"]),
+    (f"{EMISSION} --quantity nh --grain wd01-rv3.1", ["--grain wd01-rv3.1", "column"]),
+    (f"{EMISSION} --grain wd01-rv3.1", ["--quantity tau", "--wave"]),
+    (f"{EMISSION} --grain wd01-rv3.1 --wave 250 --rv 3.1", ["--rv=3.1", "own R_V"]),
+    (f"{EMISSION} --grain zz --wave 250", ["'zz'", "not known"]),
+    (f"{EMISSION} --per-ebv 0", ["--per-ebv", "'0'", "> 0"]),
+    (f"{EMISSION} --per-av -1", ["--per-av", "'-1'", "> 0"]),
+    (f"{EMISSION} --per-ebv inf", ["--per-ebv", "'inf'", "finite"]),
+    (f"{EMISSION} --per-ebv 1 --per-av 2", ["--per-av", "not allowed with argument --per-ebv"]),
+    (f"{EMISSION} --ratio bsd78 --grain wd01-rv3.1", ["--grain", "not allowed with argument --ratio"]),
+    (f"{EMISSION} --to zz", ["--to", "'zz'", "'ebv'", "'av'"]),
+    (f"{EMISSION} --to av", ["bsd78 gives E(B-V)", "r_v", "A_V"]),
+    (f"{EMISSION} --ratio guver-ozel09", ["guver-ozel09 gives A_V", "r_v", "E(B-V)"]),
+    (f"{EMISSION} --rv 3.1", ["r_v=3.1", "not used", "E(B-V) directly"]),
+    (f"{EMISSION} --to av --rv 0", ["--rv", "'0'", "> 0"]),
+    (f"{EMISSION} --scale 0", ["--scale", "'0'", "> 0"]),
+    (f"{EMISSION} --scale nan", ["--scale", "'nan'", "finite"]),
+    (f"{EMISSION} --negative zz", ["--negative", "'zz'", "'mask'"]),
+    (f"{EMISSION} --quantity zz", ["--quantity", "'zz'", "'tau'"]),
+    (f"{EMISSION} --column zz", ["column='zz'", "not in", "'m.fits'"]),
+    (f"{EMISSION} --column 5", ["column='5'", "columns 0-0"]),
+    (f"{EMISSION} --hdu 7", ["hdu=7", "has 2 HDUs"]),
+]
+
+
+def test_emission_cases_are_new():
+    assert len({argv for argv, _ in EMISSION_CASES}) == len(EMISSION_CASES)
+    assert not {argv for argv, _ in EMISSION_CASES} & {argv for argv, _ in CASES}
+
+
+@pytest.mark.parametrize(("argv", "needles"), EMISSION_CASES, ids=[argv for argv, _ in EMISSION_CASES])
+def test_emission_refused_cleanly(workspace, capsys, argv, needles):
+    test_refused_cleanly(workspace, capsys, argv, needles)  # the same checks as every case above
+
+
+# ======================================================================= thermal: grain temperatures and emission
+# Every case fails before a grain is heated: options first, then the model's name or file, then the wavelengths
+# (refused by the optical constants' range before any Mie sum).
+THERMAL = "thermal mrn77"
+
+THERMAL_CASES = [
+    ("thermal", ["MODEL", "missing"]),
+    ("thermal ''", ["MODEL", "missing"]),
+    ("thermal zz", ["grain model='zz'", "'mrn77'"]),
+    ("thermal mrn7", ["grain model='mrn7'", "did you mean 'mrn77'"]),
+    ("thermal grain:nope.toml", ["'nope.toml'", "does not exist"]),
+    ("thermal grain:adir", ["'adir'", "folder"]),
+    ("thermal grain:empty.txt", ["'empty.txt'", "[[component]]"]),
+    (f"{THERMAL} --scale 0", ["--scale", "'0'", "> 0"]),
+    (f"{THERMAL} --scale -2", ["--scale", "'-2'", "> 0"]),
+    (f"{THERMAL} --scale nan", ["--scale", "'nan'", "finite"]),
+    (f"{THERMAL} --scale x", ["--scale", "'x'", "not a number"]),
+    (f"{THERMAL} --star-temp 5000", ["--star-temp=5000", "--dilution", "(0, 1]"]),
+    (f"{THERMAL} --dilution 0.5", ["--dilution=0.5", "--star-temp"]),
+    (f"{THERMAL} --star-temp 5000 --dilution 2", ["dilution=2.0", "(0, 1]"]),
+    (f"{THERMAL} --star-temp 5000 --dilution 0", ["dilution=0.0", "(0, 1]"]),
+    (f"{THERMAL} --star-temp 5000 --dilution=-1e-3", ["dilution=-0.001", "(0, 1]"]),
+    (f"{THERMAL} --star-temp 5000 --dilution inf", ["--dilution", "'inf'", "finite"]),
+    (f"{THERMAL} --star-temp 0 --dilution 0.1", ["--star-temp", "'0'", "> 0"]),
+    (f"{THERMAL} --star-temp x --dilution 0.1", ["--star-temp", "'x'", "not a number"]),
+    (f"{THERMAL} --scale 2 --star-temp 5000 --dilution 0.1", ["--scale=2", "--star-temp", "one or the other"]),
+    (f"{THERMAL} --wave 0", ["--wave=0", "> 0"]),
+    (f"{THERMAL} --wave -100", ["--wave=-100", "> 0"]),
+    (f"{THERMAL} --wave 100 0 --unit 1/um", ["--wave=0 1/um", "> 0"]),
+    (f"{THERMAL} --wave x", ["--wave", "'x'", "not a number"]),
+    (f"{THERMAL} --wave nan", ["--wave", "'nan'", "finite"]),
+    (f"{THERMAL} --wave 1e9", ["wave=1e+09", "[0.001, 1000]"]),
+    (f"{THERMAL} --wave 100 --unit pc", ["--unit", "'pc'", "'um'"]),
+    (f"{THERMAL} --plot nodir/x.png", ["--plot='nodir/x.png'", "folder 'nodir' does not exist"]),
+    (f"{THERMAL} --plot adir", ["--plot='adir'", "folder"]),
+    (f"{THERMAL} --plot ''", ["--plot=''", "empty"]),
+    (f"{THERMAL} --bogus", ["--bogus"]),
+]
+
+
+def test_thermal_cases_are_new():
+    assert len({argv for argv, _ in THERMAL_CASES}) == len(THERMAL_CASES)
+    assert not {argv for argv, _ in THERMAL_CASES} & {argv for argv, _ in CASES}
+
+
+@pytest.mark.parametrize(("argv", "needles"), THERMAL_CASES, ids=[argv for argv, _ in THERMAL_CASES])
+def test_thermal_refused_cleanly(workspace, capsys, argv, needles):
+    test_refused_cleanly(workspace, capsys, argv, needles)  # the same checks as every case above

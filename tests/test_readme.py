@@ -7,7 +7,8 @@ They run in one temporary folder, so an example that writes a file a later one w
 breaks the later one, as it would for a reader. That folder holds links to the project's
 ``demo/`` and ``filters/`` and the small input files the examples name (``stars.csv``,
 ``stars.fits``, ``mycurve.csv``, ``qe.ecsv``, ``star.ecsv``, ``my_camera.toml``), made below
-from invented Brume Field values, and ``mydust.toml``, the README's own TOML grain model.
+from invented Brume Field values (also ``nh.fits``, ``hi.fits``, ``tau353.fits``, made from the demo's
+map), and ``mydust.toml``, the README's own TOML grain model.
 
 What does not run, visibly so:
 
@@ -34,6 +35,7 @@ import numpy as np
 import pandas as pd
 import pytest
 from astropy import units as u
+from astropy.io import fits
 from astropy.table import Table
 
 from redcorr.cli import main
@@ -118,6 +120,15 @@ def folder(tmp_path_factory):
     scale = 10 ** (-0.4 * (17.0 - synthetic_ab(blackbody(5800), load_band("kw-v"))))  # AB 17 in kw-v: a plausible star
     Table({"wavelength": lam * u.um, "flux": flam * scale * u.erg / u.s / u.cm**2 / u.AA}).write(where / "star.ecsv")
     shutil.copy(ROOT / "demo" / "instrument.toml", where / "my_camera.toml")
+    # column and optical-depth maps for `redcorr emission-map`: the demo's A_V image (R_V 4.3) as N_H at
+    # 5.8e21 cm-2 per mag of E(B-V) (Bohlin, Savage & Drake 1978), as N(HI) in units of 1e20 cm-2 (an
+    # invented atomic share of 0.6), and as tau at 353 um (an invented 1.2e-4 per mag of E(B-V))
+    with fits.open(ROOT / "demo" / "brume_av_zea.fits") as hdul:
+        image, header = hdul[0].data.astype(np.float64), hdul[0].header.copy()
+    ebv = image / 4.3
+    maps = {"nh.fits": ebv * 5.8e21, "hi.fits": ebv * 0.6 * 5.8e21 / 1e20, "tau353.fits": ebv * 1.2e-4}
+    for name, values in maps.items():
+        fits.PrimaryHDU(values, header).writeto(where / name)
     text = README.read_text(encoding="utf-8")
     (model,) = [b for b in re.findall(r"^```toml\n(.*?)^```", text, flags=re.S | re.M) if 'name = "mydust"' in b]
     (where / "mydust.toml").write_text(model, encoding="utf-8")  # the README's own grain model

@@ -75,6 +75,8 @@ KEYS = (
         {"dust": "focus('#dust-picker .picker-search')", "bands": "focus('#bands-picker .picker-search')"}),
     Key("ctrl+r", "R_V", "to the R_V field", "focus", {"dust": "focus('#r-v')"}),
     Key("ctrl+g", "A_V", "to the dust column field (A_V or E(B-V))", "focus", {"dust": "focus('#amount')"}),
+    Key("ctrl+l", "Emission", "show the grain model's temperatures and emission in the interstellar field "
+        "times U, and to the U field; again: back to the curve", "edit", {"dust": "toggle_emission"}),
     Key("ctrl+b", "Bands", "to the bands field (Bands: a band to add; Plan: the band of the magnitude)", "focus",
         {"bands": "focus('#band-spec')", "catalog": "focus('#cat-bands')", "plan": "focus('#plan-mag-band')"}),
     Key("ctrl+y", "Source", "to the source spectrum field (Catalog: its temperature)", "focus",

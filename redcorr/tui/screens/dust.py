@@ -1,20 +1,30 @@
-"""The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ."""
+"""The Dust screen: choose a law, R_V and a dust column; see A(λ)/A(V) against 1/λ.
+
+Its emission view (Ctrl+L) shows, for a grain model, the equilibrium
+temperatures of its grains and their emission in the interstellar field times
+U: the numbers of ``redcorr thermal``, computed in a worker thread.
+"""
+
+import contextlib
 
 import numpy as np
 from astropy import units as u
+from textual import work
 from textual.app import ComposeResult
-from textual.containers import Horizontal, VerticalScroll
+from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Header, Input, Select, Static
 
 from redcorr.curves import list_curves
-from redcorr.io.grains import list_grain_models
+from redcorr.grains.fields import MMP83Field
+from redcorr.io.grains import default_cache, list_grain_models
+from redcorr.thermal_summary import stochastic_caution, thermal_summary
 from redcorr.tui import _cache
-from redcorr.tui._guard import combine, guarded
+from redcorr.tui._guard import Outcome, combine, guarded
 from redcorr.tui._inputs import band_rows, dust_state, fixed_r_v, is_grain
 from redcorr.tui.keys import bindings
 from redcorr.tui.screens._grain import GrainWait
-from redcorr.tui.widgets import BandGrid, CommitInput, CurvePlot, Field, NamePicker, StatusLine
+from redcorr.tui.widgets import BandGrid, CommitInput, CurvePlot, Field, NamePicker, StatusLine, XYPlot
 
 __all__ = ["DustScreen", "dust_entries"]
 
@@ -22,6 +32,9 @@ AMOUNT_KINDS = ("A_V", "E(B-V)")
 _FIELDS = {"r-v": "r_v", "amount": "amount"}
 ACCEPTS = ("law", "r_v", "amount", "amount_kind")
 """The session fields this screen checks: remembered once its view is computed from them."""
+SPECTRUM_DEPTH = 1e-4
+"""The emission view draws λI_λ down to this fraction of its peak (the log axis would otherwise span
+hundreds of decades where grains in equilibrium barely emit)."""
 
 
 def dust_entries():
@@ -48,6 +61,12 @@ class DustScreen(GrainWait, Screen):
         self.curve = None
         self.a_v = None
         self.ebv = None
+        self.field_u = "1"
+        """The emission view's U as committed (not remembered between runs)."""
+        self.heat = None
+        """What the emission view shows: `redcorr.thermal_summary.thermal_summary`'s 4-tuple."""
+        self._heat_key = None  # (grain model, U) shown or being computed
+        self._heat_status = ("", "information")
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -69,6 +88,14 @@ class DustScreen(GrainWait, Screen):
                 yield CurvePlot(id="dust-plot")
                 yield Static(id="dust-bands-source", classes="section")
                 yield BandGrid(id="dust-bands")
+                with Vertical(id="dust-heat"):
+                    with Horizontal(id="dust-heat-form", classes="form"):
+                        yield Field("field scale U", self.field_u, input_id="field-u", placeholder="> 0")
+                    yield StatusLine(id="dust-heat-status")
+                    yield Static(id="dust-heat-info", classes="info")
+                    with Horizontal(id="dust-heat-plots"):
+                        yield XYPlot(id="dust-heat-temps")
+                        yield XYPlot(id="dust-heat-spectrum")
         yield Footer()
 
     def on_mount(self):
@@ -81,6 +108,10 @@ class DustScreen(GrainWait, Screen):
             self.refresh_view()
 
     def on_commit_input_committed(self, event):
+        if event.input.id == "field-u":
+            self.field_u = event.value
+            self.refresh_emission()
+            return
         attr = _FIELDS.get(event.input.id)
         if attr is not None and not event.input.disabled:
             setattr(self.session, attr, event.value)
@@ -114,6 +145,7 @@ class DustScreen(GrainWait, Screen):
         self._seen = self._shared()
         s = self.session
         fixed = self._sync_r_v_field()
+        self.refresh_emission()
         if self.grain_pending(s.law):
             return
         outcome = guarded(dust_state, s.law, "" if fixed else s.r_v, s.amount, s.amount_kind)
@@ -150,3 +182,97 @@ class DustScreen(GrainWait, Screen):
         inside = [r for r in rows if lo_um <= r["lambda_eff_um"] <= hi_um]
         marks = [(r["band"], 1.0 / r["lambda_eff_um"], curve(r["lambda_eff_um"])) for r in inside]
         self.query_one(CurvePlot).draw(f"{curve.name} R_V={curve.r_v:g}", x, y, marks, title=curve.citation)
+
+    # -- the emission view (Ctrl+L) ---------------------------------------------------------------
+    def action_toggle_emission(self):
+        """Show the emission view instead of the curve and the band table, and go to its U field; or back."""
+        on = not self.has_class("-emission")
+        self.set_class(on, "-emission")
+        if on:
+            self.query_one("#field-u", Input).focus()
+            self.refresh_emission()
+        else:
+            self.query_one("#dust-picker .picker-search").focus()
+
+    def _heat_show(self, message, severity="information"):
+        self._heat_status = (message, severity)
+        self.query_one("#dust-heat-status", StatusLine).show(message, severity)
+
+    def refresh_emission(self):
+        """While the emission view is shown: compute it for the grain model and U, in a worker thread."""
+        if not self.has_class("-emission"):
+            return
+        law = self.session.law
+        field = guarded(MMP83Field, self.field_u)
+        self.query_one("#field-u", Input).set_class(not field.ok, "-refused")
+        if not is_grain(law):
+            self._heat_key, self.heat = None, None
+            for plot in self.query("#dust-heat-plots XYPlot").results(XYPlot):
+                plot.draw([])
+            self.query_one("#dust-heat-info", Static).update("")
+            self._heat_show(f"{law} is an extinction curve, not a grain model: pick one (e.g. wd01-rv3.1) to see "
+                            "the temperatures and emission of its grains", "warning")
+        elif not field.ok:
+            self.query_one("#dust-heat-status", StatusLine).show_outcome(field)  # the last view stays
+        elif (law, field.value.scale) == self._heat_key:
+            self._heat_show(*self._heat_status)  # shown, or on its way, already
+        elif not _cache.grain_ready(law):
+            self._heat_show(f"waiting for grain model {law} …", "warning")
+        else:
+            self._heat_key = (law, field.value.scale)
+            self._heat_show(f"computing the temperatures and emission of {law} in {field.value.name} … "
+                            "(the screen stays usable)", "warning")
+            self.compute_emission(self._heat_key, field.value)
+
+    @work(thread=True, exclusive=True, group="emission")
+    def compute_emission(self, key, field):
+        """`redcorr.thermal_summary.thermal_summary` off the UI thread, then hand over to `_emission_done`."""
+        outcome = guarded(_heat, key[0], field)
+        with contextlib.suppress(RuntimeError):  # the app may have closed meanwhile
+            self.app.call_from_thread(self._emission_done, key, outcome)
+
+    def _emission_done(self, key, outcome):
+        if key != self._heat_key:  # the model or U changed meanwhile: a newer result is on its way
+            return
+        if not outcome.ok:
+            self._heat_show(outcome.error, "error")
+            return
+        drawn = guarded(self._draw_emission, key[0], outcome.value)
+        caution = stochastic_caution(outcome.value[1])
+        done = combine(outcome, drawn, Outcome(warnings=[caution] if caution else []))
+        if done.error:
+            self._heat_show(done.error, "error")
+        elif done.warnings:
+            self._heat_show("warning: " + "; ".join(done.warnings), "warning")
+        else:
+            self._heat_show("")
+
+    def _draw_emission(self, law, result):
+        out, emission, _, fit = result
+        self.heat = result
+        model = _cache.grain_curve(law).model
+        labels = [f"{i + 1}: {c.material.name}" for i, c in enumerate(model.components)]
+        temps = []
+        for label, t in zip(labels, emission.temperatures, strict=True):
+            temps.append((label, t.radius_um, t.temperature_k, False))
+            temps.append((f"{label} stochastic", t.radius_um[t.stochastic], t.temperature_k[t.stochastic], True))
+        self.query_one("#dust-heat-temps", XYPlot).draw(
+            temps, xlabel="radius [µm]", ylabel="T [K]", title="equilibrium temperature (dots: stochastic)", xlog=True
+        )
+        floor = SPECTRUM_DEPTH * np.nanmax(emission.lam_i_lam)
+        shown = [("all", emission.lam_i_lam)] + list(zip(labels, emission.by_component, strict=True))
+        self.query_one("#dust-heat-spectrum", XYPlot).draw(
+            [(label, emission.wave_um, np.where(y >= floor, y, np.nan)) for label, y in shown],
+            xlabel="λ [µm]", ylabel="λI_λ/N_H [erg/s/sr/H]", title="emission of the grains in equilibrium",
+            xlog=True, ylog=True,
+        )
+        lo, hi = fit.wave_range_um
+        self.query_one("#dust-heat-info", Static).update(
+            f"[b]{law}[/] in {out['field']}: absorbs {emission.absorbed:.3e} erg s⁻¹ per H   modified blackbody "
+            f"over {lo:g}–{hi:g} µm: T = {fit.temperature_k:.2f} K, β = {fit.beta:.3f}"
+        )
+
+
+def _heat(law, field):
+    """`redcorr.thermal_summary.thermal_summary` for the grain model ``law`` on the default wavelengths."""
+    return thermal_summary(_cache.grain_curve(law).model, field, None, cache=default_cache())
