@@ -2,8 +2,8 @@
 
 Run from the repository root:  python docs/make_screenshots.py [FOLDER]
 (default docs/screenshots). The app runs headless with a throw-away
-configuration folder; the catalog output goes to a temporary folder. The
-last one shows the Dust screen in an 80x24 terminal.
+configuration folder; the catalog output goes to a temporary folder. Two
+more show the Dust screen in an 80x24 terminal and its emission view.
 """
 
 import asyncio
@@ -72,6 +72,17 @@ async def shoot(folder, scratch):
         await pilot.press("escape", "f2")
         await pilot.resize_terminal(80, 24)
         await save("dust_80x24")
+        # Dust, emission view (Ctrl+L): the WD01 R_V = 3.1 grain model in the interstellar field
+        await pilot.resize_terminal(*SIZE)
+        app.screen.query_one("#dust-picker .picker-search").value = "wd01-rv3.1"
+        await pilot.click("#dust-picker .picker-search")
+        await pilot.press("enter", "enter")
+        while app.screen.grain_pending("wd01-rv3.1"):  # its cross sections, computed once
+            await pilot.pause(0.2)
+        await pilot.press("ctrl+l")
+        while app.screen.heat is None:
+            await pilot.pause(0.2)
+        await save("dust_emission")
 
 
 def main():
