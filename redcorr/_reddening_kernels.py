@@ -240,8 +240,10 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
 
     ``g_re`` (R_V × E(B−V)) and ``g_t`` (T) receive the marginal densities
     relative to exp(−ref/2) (a sub-grid's trapezoid weights are the fine
-    ones times the stride); ``ref`` NaN means the first node's value.
-    ``res`` receives χ²_min and the mode's indices (−1: no node).
+    ones times the stride); ``ref`` NaN means the first node's value. A
+    node whose χ² + penalty exceeds ``limit`` is left out, as the nodes of
+    a skipped block are. ``res`` receives χ²_min and the mode's indices
+    (−1: no node).
     """
     nb = idx.size
     every = nb == model.shape[3]  # every band used: idx[k] = k
@@ -283,6 +285,8 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
                                     s2 += w[k] * d * d
                             c = max(s2 - s1 * s1 / s0, 0.0)
                             tot = c + p_t + pen_e[e]
+                            if tot > limit:  # weighs < e^(−cut/2) of the best node, as a skipped block's
+                                continue
                             chi_min = min(chi_min, c)
                             if tot < tot_min:
                                 tot_min = tot
