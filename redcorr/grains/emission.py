@@ -45,7 +45,6 @@ from redcorr.exceptions import FitWarning, InputError, OutOfRangeWarning
 from redcorr.grains.fields import LYMAN_LIMIT_UM, four_pi_planck
 from redcorr.grains.model import CACHE_VERSION, GrainModel, _check_cache, r_v_from_cross_sections
 from redcorr.grains.sizes import M_C_G
-from redcorr.sed import _HC_OVER_K_UM_K
 
 __all__ = [
     "HEATING_RANGE_UM",
@@ -78,6 +77,7 @@ T_BRACKET_K = (0.1, 1.0e4)
 
 _K_B = float(const.k_B.to_value(u.erg / u.K))
 _HC_ERG_UM = float((const.h * const.c).to_value(u.erg * u.um))
+_HC_OVER_K_UM_K = _HC_ERG_UM / _K_B  # hc/k, µm K
 _AMU_G = float(const.u.to_value(u.g))
 _MAG_PER_TAU = 2.5 * math.log10(math.e)
 
