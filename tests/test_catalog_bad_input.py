@@ -14,13 +14,15 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.csv as pacsv
 import pytest
 from astropy.table import Table
 
 from redcorr.cli import main
 from redcorr.correction import CORRECTION_FLAGS
 from redcorr.exceptions import InputError
-from redcorr.io.catalogs import csv_readers, read_catalog
+from redcorr.io.catalogs import csv_readers, numeric_as_float, read_catalog
 from redcorr.io.correction import correction_options
 
 DEMO_MAP = Path(__file__).resolve().parent.parent / "demo" / "brume_ebv_healpix.fits"
@@ -162,7 +164,7 @@ def test_no_reddening_source_is_an_input_error(tmp_path, capsys):
 
 
 def test_a_field_longer_than_a_block_is_read(tmp_path, capsys):
-    """A 5 MB text field (the reader's block is 1 MB): the block grows."""
+    """A 5 MB text field (the reader's block is 256 kB): the block grows."""
     src = tmp_path / "long.csv"
     src.write_text("id,kw_v,ebv,note\n1,15.0,0.1," + "x" * 5_000_000 + "\n2,16.0,0.2,short\n")
     rc, err = _run([src, tmp_path / "o.parquet", "--band", "kw-v"], capsys)
@@ -184,6 +186,25 @@ def test_a_long_row_after_many_blocks_keeps_every_row_once(tmp_path, monkeypatch
     frame = read_catalog(src, chunk_rows=333)
     assert frame["id"].tolist() == list(range(2000))
     assert len(frame["note"].iloc[1500]) == 10_000
+
+
+def test_text_read_verbatim_is_cast_as_the_typed_reader_reads_it():
+    """Missing-value words become missing, numbers float64, a column with other text stays text.
+
+    Reference: pyarrow's own CSV reader on the same text with the columns typed as float64
+    (its default missing-value words); for the column holding a word, its conversion error.
+    """
+    text = b"kw_v,ebv,note\n15.0,0.1,bright\nNA,0.2,x\n,N/A,y\nnull,1e-3,z\n"
+    as_text = pacsv.ConvertOptions(column_types=dict.fromkeys(["kw_v", "ebv", "note"], pa.string()),
+                                   strings_can_be_null=False)
+    verbatim = pacsv.read_csv(pa.py_buffer(text), convert_options=as_text)
+    cast = numeric_as_float(verbatim, ["kw_v", "ebv", "note", "absent"])
+    typed = pacsv.read_csv(pa.py_buffer(text), convert_options=pacsv.ConvertOptions(
+        column_types={"kw_v": pa.float64(), "ebv": pa.float64()}))
+    assert cast.select(["kw_v", "ebv"]).equals(typed.select(["kw_v", "ebv"]))
+    with pytest.raises(pa.ArrowInvalid):
+        pacsv.read_csv(pa.py_buffer(text), convert_options=pacsv.ConvertOptions(column_types={"note": pa.float64()}))
+    assert cast.column("note").equals(verbatim.column("note"))  # left as text, for the correction to flag
 
 
 def test_latitude_off_the_sphere_is_a_flagged_row(tmp_path, capsys):

@@ -24,16 +24,13 @@ import copy
 import gzip
 import json
 import math
-import types
 import warnings
 from pathlib import Path
 
 from redcorr.exceptions import InputError
-from redcorr.io.catalogs import ColumnTypeError, PandasLikeColumns, open_catalog
-from redcorr.io.catalogs._base import _rebatch
-from redcorr.io.catalogs.csv_readers import _CsvReader
-from redcorr.io.catalogs.formats import _pyarrow
-from redcorr.io.catalogs.writers import CsvText
+from redcorr.io.catalogs import ColumnTypeError, PandasLikeColumns, numeric_as_float, open_catalog, rebatch
+from redcorr.io.catalogs.formats import load_pyarrow
+from redcorr.io.catalogs.writers import CsvText, release_free_memory
 
 __all__ = ["DEFAULT_PARTITION_ROWS", "add_summaries", "correct_dask", "plan_csv", "plan_parquet", "run_partitions",
            "summarise_dask"]
@@ -42,7 +39,9 @@ DEFAULT_PARTITION_ROWS = 131_072
 """Rows per partition (one Dask task, one part file), two chunks of the default size: small
 enough that the partitions balance the workers and that a CSV output is assembled while the
 last ones run (measured 1 M rows, 2 workers: 1.4x the stream engine's time with 250 000 rows,
-0.85-1.1x with 125 000), large enough that a task's overhead stays small."""
+0.85-1.1x with 125 000; 4 M rows of Parquet in row groups of 65 536: 1.11x with 65 536, 0.86x
+with 131 072, 0.93x with 262 144), large enough that a task's overhead stays small (a part
+file's writer opened and closed, about 1.3 ms; a row-group scan set up, about 3 ms)."""
 
 _CSV_BLOCK_BYTES = 1 << 20
 """Bytes per block of a partition's CSV reader (doubled for a row longer than a block)."""
@@ -98,7 +97,7 @@ def plan_parquet(path, partition_rows):
     -------
     _Source
     """
-    pa = _pyarrow()
+    pa = load_pyarrow()
     path = Path(path)
     with open_catalog(path, fmt="parquet"):  # the stream engine's checks: one schema, unique names
         pass
@@ -135,7 +134,7 @@ def plan_csv(files, partition_rows, *, delimiter=",", comment="#", numeric=(), t
     -------
     _Source
     """
-    pa = _pyarrow()
+    pa = load_pyarrow()
     schema, pieces = None, []
     for path in map(str, files):
         with open_catalog(path, fmt="csv", delimiter=delimiter, comment=comment, chunk_rows=1,
@@ -298,7 +297,7 @@ def _run_partition(number, piece, plan):
         try:
             with _PartWriter(plan, number) as writer:
                 for table in _tables(piece, plan, number, block):
-                    typed = _typed(table, plan.source) if plan.source.verbatim else table
+                    typed = numeric_as_float(table, plan.source.numeric) if plan.source.verbatim else table
                     writer.write(carry.table(table, job.correct_arrays(typed)))
             return job.summary
         except _LongRow:
@@ -314,7 +313,7 @@ def _tables(piece, plan, number, block):
     source = plan.source
     batches = _csv_batches(piece, source, block) if source.format == "csv" else _parquet_batches(piece, source, plan)
     empty = number == 0
-    for table in _rebatch(batches, plan.chunk_rows):
+    for table in rebatch(batches, plan.chunk_rows):
         empty = False
         yield table
     if empty:  # an input without rows still gives an output with its columns
@@ -322,7 +321,7 @@ def _tables(piece, plan, number, block):
 
 
 def _parquet_batches(fragment, source, plan):
-    pa = _pyarrow()
+    pa = load_pyarrow()
     scan = pa.dataset.ParquetFragmentScanOptions(use_buffered_stream=True, buffer_size=_READ_BUFFER,
                                                  pre_buffer=False)
     return fragment.to_batches(schema=source.schema, batch_size=plan.chunk_rows, batch_readahead=1,
@@ -330,7 +329,7 @@ def _parquet_batches(fragment, source, plan):
 
 
 def _csv_batches(piece, source, block):
-    pa = _pyarrow()
+    pa = load_pyarrow()
     path, start, stop, compressed = piece
     names = source.columns
     if source.verbatim:
@@ -372,23 +371,17 @@ def _read_error(exc, piece, names):
     return InputError(f"input {path!r}{where} could not be read as CSV: {text.splitlines()[0]}")
 
 
-def _typed(table, source):
-    """A chunk read verbatim with its numeric columns as float64: the stream reader's own casting."""
-    pa = _pyarrow()
-    reader = types.SimpleNamespace(_numeric=source.numeric,
-                                   _missing_words=pa.array(pa.csv.ConvertOptions().null_values, pa.string()))
-    return _CsvReader.typed(reader, table)
-
-
 class _PartWriter:
     """One part file: Parquet as :class:`~redcorr.io.catalogs.CatalogWriter` writes it, or CSV rows.
 
     As in that writer, the encoding runs beside the caller, which meanwhile
     reads and corrects the next chunk: a Parquet chunk in one thread, CSV
     text in slices of :data:`_CSV_SLICE_ROWS` rows by two threads (at most
-    :data:`_PENDING` tasks in flight; the text is written in order). No temporary name: the part lives in the
-    engine's temporary folder, placed (or dropped) as a whole; a task run
-    again writes it anew.
+    :data:`_PENDING` tasks in flight; the text is written in order); after each
+    chunk the memory pyarrow holds free goes back to the system
+    (:func:`~redcorr.io.catalogs.writers.release_free_memory`). No temporary
+    name: the part lives in the engine's temporary folder, placed (or
+    dropped) as a whole; a task run again writes it anew.
     """
 
     def __init__(self, plan, number):
@@ -408,10 +401,11 @@ class _PartWriter:
         if self._writer is not None:
             self._pending.append(self._pool.submit(self._writer.write_table, table))
             self._drain(1)
-            return
-        for start in range(0, table.num_rows, _CSV_SLICE_ROWS):
-            self._pending.append(self._pool.submit(self._text, table.slice(start, _CSV_SLICE_ROWS)))
-            self._drain(_PENDING)
+        else:
+            for start in range(0, table.num_rows, _CSV_SLICE_ROWS):
+                self._pending.append(self._pool.submit(self._text, table.slice(start, _CSV_SLICE_ROWS)))
+                self._drain(_PENDING)
+        release_free_memory()
 
     def _drain(self, limit):
         """Finish the oldest tasks until at most ``limit`` are in flight (CSV text goes to the file in order)."""
@@ -421,7 +415,7 @@ class _PartWriter:
                 self._sink.write(done)
 
     def _open(self, schema):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         plan = self.plan
         if plan.out_format == "parquet":
             self._schema = schema.with_metadata({"redcorr": json.dumps(plan.meta, default=str)})

@@ -6,9 +6,9 @@ from pathlib import Path
 import pandas as pd
 
 from redcorr.exceptions import InputError
-from redcorr.io.catalogs.formats import _pyarrow
+from redcorr.io.catalogs.formats import load_pyarrow
 
-__all__ = ["CatalogReader"]
+__all__ = ["CatalogReader", "rebatch"]
 
 
 def _check_unique(names, path):
@@ -24,9 +24,22 @@ def _check_unique(names, path):
 
 
 
-def _rebatch(batches, chunk_rows):
-    """Regroup Arrow record batches into tables of exactly ``chunk_rows`` rows (the last may be shorter)."""
-    pa = _pyarrow()
+def rebatch(batches, chunk_rows):
+    """Regroup Arrow record batches into tables of exactly ``chunk_rows`` rows (the last may be shorter).
+
+    Parameters
+    ----------
+    batches : iterable of pyarrow.RecordBatch
+        With one schema; empty batches are skipped.
+    chunk_rows : int
+
+    Yields
+    ------
+    pyarrow.Table
+        The rows of ``batches`` in order (no copy: the tables refer to the
+        batches' buffers); none when there are no rows.
+    """
+    pa = load_pyarrow()
     pending, size = [], 0
     for batch in batches:
         if batch.num_rows == 0:
@@ -104,7 +117,7 @@ class CatalogReader(abc.ABC):
         """
         if not self.arrow:
             raise TypeError(f"{self.format} is read as DataFrames only; iterate the reader instead")
-        pa = _pyarrow()
+        pa = load_pyarrow()
         empty = True
         for table in self._tables():
             empty = False

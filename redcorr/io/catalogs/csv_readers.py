@@ -9,16 +9,18 @@ import sys
 import zlib
 
 from redcorr.exceptions import InputError
-from redcorr.io.catalogs._base import CatalogReader, _check_unique, _rebatch
-from redcorr.io.catalogs.formats import _int_as_nullable, _pyarrow
+from redcorr.io.catalogs._base import CatalogReader, _check_unique, rebatch
+from redcorr.io.catalogs.formats import _int_as_nullable, load_pyarrow
 
-__all__ = ["ColumnTypeError"]
+__all__ = ["ColumnTypeError", "numeric_as_float"]
 
-_CSV_BLOCK_BYTES = 1 << 20
-"""Bytes per block of the CSV reader. Its read-ahead holds tens of blocks (about 250 MB with
-8 MB blocks, 35 MB with 1 MB), and parsing measured no slower with 1 MB blocks. Column types
-are inferred from the first block; a later cell that does not fit is handled by
-:class:`ColumnTypeError`."""
+_CSV_BLOCK_BYTES = 1 << 18
+"""Bytes per block of the CSV reader. pyarrow's streaming reader reads 32 blocks ahead of the
+rows taken from it, however slowly they are taken (measured: 34 MB held with 1 MB blocks, 8 MB
+with 256 kB), and parses them no slower (1 M rows, 15 columns: 1.34 s with 256 kB blocks,
+1.35 s with 1 MB). How full that read-ahead is depends on timing alone, so smaller blocks make
+the peak memory of a run steadier as well as lower. Column types are inferred from the first
+block; a later cell that does not fit is handled by :class:`ColumnTypeError`."""
 
 
 _TEXT_CHECK_BYTES = 1 << 16
@@ -76,13 +78,53 @@ class ColumnTypeError(Exception):
 
 
 
+def numeric_as_float(table, columns):
+    """``table``, read verbatim (every column as text), with ``columns`` as float64 for computing.
+
+    The words the typed CSV reader takes for missing values (pyarrow's
+    defaults: empty, ``NA``, ``null``, ...) become missing; a column with
+    other text stays text, for the correction to flag those cells as the
+    typed reader's text fallback (:class:`ColumnTypeError`) would. The
+    stream engine's verbatim reader (``typed`` of a reader opened with
+    ``verbatim``) and the Dask engine's partitions both cast with this.
+
+    Parameters
+    ----------
+    table : pyarrow.Table
+    columns : iterable of str
+        Columns to cast; those that are not in ``table`` or not text are left as they are.
+
+    Returns
+    -------
+    pyarrow.Table
+    """
+    pa = load_pyarrow()
+    pc = pa.compute
+    for name in columns:
+        i = table.schema.get_field_index(name)
+        if i < 0 or not pa.types.is_string(table.schema.field(i).type):
+            continue
+        column = table.column(i)
+        try:
+            column = pc.cast(column, pa.float64())
+        except pa.ArrowInvalid:  # missing-value words or text: the slower, careful way
+            missing = pa.array(pa.csv.ConvertOptions().null_values, pa.string())
+            column = pc.if_else(pc.is_in(column, value_set=missing), pa.scalar(None, pa.string()), column)
+            try:
+                column = pc.cast(column, pa.float64())
+            except pa.ArrowInvalid:
+                pass
+        table = table.set_column(i, name, column)
+    return table
+
+
 class _CsvReader(CatalogReader):
     arrow = True
 
     def __init__(self, path, fmt, chunk_rows, *, delimiter, comment, numeric_columns, text_columns,
                  skip_lines=0, column_names=None, verbatim=False, **_):
         super().__init__(path, fmt, chunk_rows)
-        pa = _pyarrow()
+        pa = load_pyarrow()
         self._delimiter = delimiter
         self._comment = comment
         self._column_names = self._given_names = column_names
@@ -104,7 +146,6 @@ class _CsvReader(CatalogReader):
             types = {c: pa.string() for c in text_columns}
             types.update(dict.fromkeys(self._numeric, pa.float64()))
             convert = pa.csv.ConvertOptions(column_types=types, strings_can_be_null=True)
-        self._missing_words = pa.array(pa.csv.ConvertOptions().null_values, pa.string())
         self._compressed, self._block = compressed, _CSV_BLOCK_BYTES
         self._convert = convert
         self._undecodable = False
@@ -169,7 +210,7 @@ class _CsvReader(CatalogReader):
         Returns ``(raw file, reader)``. Memory is thus bounded by the longest
         row, not the file.
         """
-        pa = _pyarrow()
+        pa = load_pyarrow()
         parse = pa.csv.ParseOptions(delimiter=self._delimiter, invalid_row_handler=self._invalid_row)
         while True:
             raw = pa.OSFile(str(self.path), "rb")
@@ -192,7 +233,7 @@ class _CsvReader(CatalogReader):
         already yielded (counting them is exact, whereas pyarrow's
         ``skip_rows_after_names`` also counts skipped comment lines).
         """
-        pa = _pyarrow()
+        pa = load_pyarrow()
         schema = self._reader.schema
         self._raw.close()
         self._convert = pa.csv.ConvertOptions(
@@ -263,35 +304,12 @@ class _CsvReader(CatalogReader):
         return "error"
 
     def typed(self, table):
-        """A chunk read verbatim with its ``numeric_columns`` as float64, for computing.
-
-        The words the typed reader takes for missing values (pyarrow's
-        defaults: empty, ``NA``, ``null``, ...) become missing; a column with
-        other text stays text, for the correction to flag those cells as the
-        typed reader's text fallback (:class:`ColumnTypeError`) would.
-        """
-        pa = _pyarrow()
-        pc = pa.compute
-        for name in self._numeric:
-            i = table.schema.get_field_index(name)
-            if i < 0 or not pa.types.is_string(table.schema.field(i).type):
-                continue
-            column = table.column(i)
-            try:
-                column = pc.cast(column, pa.float64())
-            except pa.ArrowInvalid:  # missing-value words or text: the slower, careful way
-                column = pc.if_else(pc.is_in(column, value_set=self._missing_words),
-                                    pa.scalar(None, pa.string()), column)
-                try:
-                    column = pc.cast(column, pa.float64())
-                except pa.ArrowInvalid:
-                    pass
-            table = table.set_column(i, name, column)
-        return table
+        """A chunk read verbatim with its ``numeric_columns`` as float64, for computing (:func:`numeric_as_float`)."""
+        return numeric_as_float(table, self._numeric)
 
     def _header_names(self):
         """Column names from the header line alone (for verbatim reading, or when the first block failed to convert)."""
-        pa = _pyarrow()
+        pa = load_pyarrow()
         opener = gzip.open if _is_gzip(self.path) else open
         with opener(self.path, "rb") as fh:
             for _ in range(self._skip_lines):
@@ -336,7 +354,7 @@ class _CsvReader(CatalogReader):
             return None
 
     def _batches(self):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         done, skip = 0, 0  # rows yielded; rows of a reopened reader already yielded
         while True:
             try:
@@ -356,7 +374,7 @@ class _CsvReader(CatalogReader):
             yield batch
 
     def _tables(self):
-        return _rebatch(self._batches(), self.chunk_rows)
+        return rebatch(self._batches(), self.chunk_rows)
 
     def _frames(self):
         for table in self._tables():

@@ -12,7 +12,7 @@ import pandas as pd
 
 from redcorr.exceptions import InputError
 
-__all__ = ["FORMATS", "TEXT_DECIMALS", "PandasLikeColumns", "detect_format", "round_for_text"]
+__all__ = ["FORMATS", "TEXT_DECIMALS", "PandasLikeColumns", "detect_format", "load_pyarrow", "round_for_text"]
 
 FORMATS = ("csv", "ecsv", "fits", "parquet")
 """Catalog formats redcorr reads and writes."""
@@ -54,7 +54,16 @@ def round_for_text(values):
     return np.round(np.asarray(values, dtype=float), TEXT_DECIMALS)
 
 
-def _pyarrow():
+def load_pyarrow():
+    """The ``pyarrow`` module with the parts the catalogs use (csv, dataset, parquet) imported.
+
+    Imported when a catalog is opened, not with redcorr.
+
+    Raises
+    ------
+    InputError
+        If pyarrow is not installed.
+    """
     try:
         import pyarrow  # noqa: PLC0415 - imported when a catalog is opened
         import pyarrow.csv  # noqa: F401, PLC0415
@@ -98,7 +107,7 @@ def detect_format(path, fmt=None):
 
 def _int_as_nullable(pa_type):
     """types_mapper for Arrow → pandas: integers become nullable, so missing values stay integers."""
-    pa = _pyarrow()
+    pa = load_pyarrow()
     if pa.types.is_integer(pa_type):
         return pd.Int64Dtype() if pa.types.is_signed_integer(pa_type) else pd.UInt64Dtype()
     return None
@@ -110,7 +119,7 @@ def _is_text(series):
 
 
 def _arrow_schema(frame):
-    pa = _pyarrow()
+    pa = load_pyarrow()
     schema = pa.Schema.from_pandas(frame, preserve_index=False)
     fields = []
     for field in schema:
@@ -142,7 +151,7 @@ class PandasLikeColumns:
         self._other_schema = None
 
     def _column(self, column):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         kind = column.type
         if pa.types.is_floating(kind):
             if any(np.isnan(chunk.to_numpy(zero_copy_only=False)).any() for chunk in column.chunks):
@@ -158,7 +167,7 @@ class PandasLikeColumns:
 
     def table(self, table, arrays):
         """The kept columns of ``table`` followed by ``arrays`` (name → numpy array), as one Arrow table."""
-        pa = _pyarrow()
+        pa = load_pyarrow()
         columns, other = {}, []
         for name in self.names:
             columns[name] = self._column(table.column(name))

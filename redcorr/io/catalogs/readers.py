@@ -8,9 +8,9 @@ import pandas as pd
 
 from redcorr._constants import DEFAULT_CHUNK_ROWS
 from redcorr.exceptions import InputError
-from redcorr.io.catalogs._base import CatalogReader, _check_unique, _rebatch
+from redcorr.io.catalogs._base import CatalogReader, _check_unique, rebatch
 from redcorr.io.catalogs.csv_readers import _CsvReader, _EcsvReader
-from redcorr.io.catalogs.formats import _int_as_nullable, _pyarrow, detect_format
+from redcorr.io.catalogs.formats import _int_as_nullable, detect_format, load_pyarrow
 
 __all__ = ["check_csv_marks", "open_catalog", "read_catalog"]
 
@@ -94,7 +94,7 @@ class _ParquetReader(CatalogReader):
     arrow = True
 
     def __init__(self, path, fmt, chunk_rows, **_):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         super().__init__(path, fmt, chunk_rows)
         try:
             if self.path.is_dir():
@@ -136,7 +136,7 @@ class _ParquetReader(CatalogReader):
         and whole column chunks are read at once without a buffer): memory stays bounded by the
         chunk size, whatever the size of the file or of its row groups.
         """
-        with _pyarrow().parquet.ParquetFile(path, pre_buffer=False, buffer_size=_READ_BUFFER) as file:
+        with load_pyarrow().parquet.ParquetFile(path, pre_buffer=False, buffer_size=_READ_BUFFER) as file:
             yield from file.iter_batches(batch_size=self.chunk_rows)
 
     def _folder_batches(self):
@@ -146,7 +146,7 @@ class _ParquetReader(CatalogReader):
         and reads files ahead, so its memory grew with the folder); hive partition columns are
         added with the value of the file's partition.
         """
-        pa = _pyarrow()
+        pa = load_pyarrow()
         schema = self._dataset.schema
         for fragment in self._dataset.get_fragments():
             keys = pa.dataset.get_partition_keys(fragment.partition_expression)
@@ -158,7 +158,7 @@ class _ParquetReader(CatalogReader):
 
     def _tables(self):
         batches = self._folder_batches() if self.path.is_dir() else self._file_batches(str(self.path))
-        for table in _rebatch(batches, self.chunk_rows):
+        for table in rebatch(batches, self.chunk_rows):
             self._done += table.num_rows
             yield table
 

@@ -16,12 +16,12 @@ from redcorr.io.catalogs.formats import (
     _arrow_schema,
     _int_as_nullable,
     _is_text,
-    _pyarrow,
     detect_format,
+    load_pyarrow,
     round_for_text,
 )
 
-__all__ = ["CatalogWriter", "CsvText", "write_catalog"]
+__all__ = ["CatalogWriter", "CsvText", "release_free_memory", "write_catalog"]
 
 _CSV_SLICE_ROWS = 16_384
 """Rows formatted as text per task of the CSV writer (two tasks run at once)."""
@@ -41,7 +41,7 @@ class _FitsSpool:
     """
 
     def __init__(self, target, schema):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         self.dir = _temp_name(target, "spool")  # names its owner, removed by a later run if this one is killed
         self.dir.mkdir()
         self.schema = schema
@@ -51,7 +51,7 @@ class _FitsSpool:
         self.int_nulls = set()
 
     def add(self, table):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         if not table.num_rows:
             return
         for name in self.widths:
@@ -66,7 +66,7 @@ class _FitsSpool:
         self.rows += table.num_rows
 
     def _formats(self):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         formats = {}
         for f in self.schema:
             if f.name in self.widths:
@@ -84,7 +84,7 @@ class _FitsSpool:
     def _hdu(self, table, formats):
         from astropy.io import fits  # noqa: PLC0415
 
-        pa = _pyarrow()
+        pa = load_pyarrow()
         columns = []
         for name, fmt in formats.items():
             col = table[name]
@@ -104,7 +104,7 @@ class _FitsSpool:
         """Write the spooled chunks as one FITS binary table to ``path`` (an empty file)."""
         from astropy.io import fits  # noqa: PLC0415
 
-        pa = _pyarrow()
+        pa = load_pyarrow()
         formats = self._formats()
         comments = [f"redcorr {k}: {json.dumps(v, default=str)}" for k, v in meta.items()]
         if not self.files:
@@ -134,6 +134,21 @@ class _FitsSpool:
         shutil.rmtree(self.dir, ignore_errors=True)
 
 
+def release_free_memory():
+    """Give the memory that pyarrow's allocator holds free back to the system; call it after each chunk.
+
+    pyarrow's default allocator on Linux (mimalloc) keeps freed pages for a
+    while before it returns them, and how many it keeps depends on the
+    timing of the threads that read, correct and write. Measured (CSV to
+    Parquet, 65 536-row chunks, 15 columns in, 33 out, 256 kB CSV blocks):
+    42-55 MB kept beside about 40 MB in use, at times 77 MB; peak RSS
+    331-389 MB over four runs of 5 M rows. With this call after each chunk:
+    23-34 MB kept; peak RSS 330-344 MB over four runs of 5 M rows (319-334 MB
+    for 1 M rows). It takes about 2 µs.
+    """
+    load_pyarrow().default_memory_pool().release_unused()
+
+
 def _csv_header(names, delimiter):
     """The CSV header line of ``names``: a name is quoted only where RFC 4180 needs it, as the rows are.
 
@@ -153,7 +168,7 @@ def _csv_header(names, delimiter):
 
 def _csv_bytes(table, options):
     """``table`` as CSV text (a pyarrow buffer)."""
-    pa = _pyarrow()
+    pa = load_pyarrow()
     buf = pa.BufferOutputStream()
     pa.csv.write_csv(table, buf, write_options=options)
     return buf.getvalue()
@@ -178,7 +193,7 @@ class CsvText:
     """
 
     def __init__(self, delimiter=",", computed=(), verbatim=False):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         self.delimiter = delimiter
         self.computed = set(computed)
         self.verbatim = bool(verbatim)
@@ -191,7 +206,7 @@ class CsvText:
 
     def __call__(self, table):
         """The rows of ``table`` as text (bytes or a pyarrow buffer), without a header."""
-        pa = _pyarrow()
+        pa = load_pyarrow()
         for i, field in enumerate(table.schema):
             if field.name in self.computed and pa.types.is_floating(field.type):
                 column = table.column(i)
@@ -213,7 +228,7 @@ class CsvText:
         (RFC 4180). The choice is made row by row, so the text does not
         depend on how the rows were chunked.
         """
-        pa = _pyarrow()
+        pa = load_pyarrow()
         pc = pa.compute
         needs = np.zeros(table.num_rows, dtype=bool)
         for column in table.columns:
@@ -241,6 +256,9 @@ class CatalogWriter:
     Parquet chunks are encoded by one worker thread while the caller prepares
     the next chunk (pyarrow releases the GIL for both). At most a few chunks
     are in flight, so memory stays bounded.
+
+    After each chunk, the memory pyarrow holds free goes back to the system
+    (:func:`release_free_memory`).
 
     Parameters
     ----------
@@ -311,7 +329,7 @@ class CatalogWriter:
         return self
 
     def _open(self, chunk):
-        pa = _pyarrow()
+        pa = load_pyarrow()
         if isinstance(chunk, pd.DataFrame):
             frame, self._schema = chunk, _arrow_schema(chunk)
         else:
@@ -362,7 +380,7 @@ class CatalogWriter:
 
     def write(self, chunk):
         """Append one chunk: a DataFrame, or an Arrow table, with the same columns as the first."""
-        pa = _pyarrow()
+        pa = load_pyarrow()
         if self._schema is None:
             self._open(chunk)
         if isinstance(chunk, pd.DataFrame):
@@ -379,6 +397,7 @@ class CatalogWriter:
                 self._pending.append(self._pool.submit(self._text, table.slice(start, _CSV_SLICE_ROWS)))
                 self._drain(_CSV_PENDING)
         self.rows += len(table)
+        release_free_memory()
 
     def _finish(self, failed):
         """Write what is in flight (or drop it after a failure), then close the file."""
