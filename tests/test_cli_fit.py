@@ -160,6 +160,32 @@ def test_output_feeds_correct(work, fitted):
     np.testing.assert_array_equal(result["ebv_used"], out["ebv_fit"])
 
 
+
+def test_fit_then_correct_in_one_run_equals_the_two_commands(tmp_path, catalog, fitted, monkeypatch):
+    """What the terminal UI's "from the photometry" runs: the same rows as `fit` then `correct`, nothing left over."""
+    import tempfile
+
+    monkeypatch.setattr(tempfile, "tempdir", str(tmp_path / "none"))  # a system temporary folder that can't be used
+    from redcorr.correction import CatalogFit
+    from redcorr.exceptions import FitWarning
+    from redcorr.io.batch import fit_and_correct_file
+    from redcorr.io.correction import correction_options, fit_options
+
+    bands = list(VIZIER.values())
+    fit = fit_options(bands)
+    options = correction_options(["bessell-B", "bessell-V"], mag_columns={"bessell-B": "Bmag", "bessell-V": "Vmag"},
+                                 ebv_column="ebv_fit", reddening_error_column="ebv_fit_err")
+    out = tmp_path / "final.parquet"
+    with pytest.warns(FitWarning):  # the flags of the fit, as `redcorr fit` prints them
+        fit_summary, summary = fit_and_correct_file(catalog[1], out, lambda columns: CatalogFit(columns, fit), options)
+    assert fit_summary.rows == summary.rows == len(catalog[0])
+    result = pd.read_parquet(out)
+    # the fit is spooled in the input's format, CSV here, whose numbers carry TEXT_DECIMALS decimals
+    np.testing.assert_allclose(result["ebv_used"], fitted[0]["ebv_fit"], rtol=0, atol=0.5 * 10.0**-TEXT_DECIMALS)
+    # the fitted table was spooled beside the output, not in the system's temporary folder (which may be too
+    # small for a catalog), and removed: only the output and its summary remain
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["final.parquet", "final.parquet.summary.json"]
+
 # --------------------------------------------------------------------------------------- 3. chunks, engines
 def test_chunk_rows_do_not_matter(work, catalog, fitted):
     status, _, err = run(["fit", catalog[1], work / "chunked.parquet", *BAND_ARGS, "--chunk-rows", "7", "--quiet"])

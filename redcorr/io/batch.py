@@ -20,7 +20,6 @@ import gzip
 import os
 import queue
 import shutil
-import tempfile
 import threading
 from pathlib import Path
 
@@ -128,8 +127,9 @@ def fit_and_correct_file(input_path, output_path, make_fit, options, *, overwrit
     """Fit a catalog file, then correct it with the fitted E(B-V): the output appears whole or not at all.
 
     The fit (`redcorr.io.batch.correct_file` with ``make_fit(columns) ->
-    CatalogFit``) is written in the input's format to a temporary folder,
-    removed afterwards; the correction of that table (``options``: a
+    CatalogFit``) is written in the input's format to a temporary folder
+    beside the output (not the system's temporary folder, which may be too
+    small for a catalog), removed afterwards; the correction of that table (``options``: a
     :class:`~redcorr.correction.CorrectionOptions` reading the fit's
     ``ebv_fit`` and ``ebv_fit_err``) is written atomically to ``output_path``
     with its summary, as :func:`correct_file` writes. ``progress(rows,
@@ -148,12 +148,16 @@ def fit_and_correct_file(input_path, output_path, make_fit, options, *, overwrit
     def step(name):
         return None if progress is None else (lambda rows, fraction: progress(rows, fraction, name))
 
-    with tempfile.TemporaryDirectory(prefix="redcorr-fit-") as folder:
-        fitted = Path(folder) / "fitted"
+    scratch = _temp_name(Path(output_path), "spool")  # beside the output, where there is room for a catalog;
+    scratch.mkdir()  # named after this process: removed by a later run if this one is killed
+    try:
+        fitted = scratch / "fitted"
         fit_summary = correct_file(input_path, fitted, make_fit, out_format=fmt, summary_file=False,
                                    progress=step("fit"))
         summary = correct_file(fitted, output_path, lambda columns: Correction(columns, options), in_format=fmt,
                                overwrite=overwrite, progress=step("correct"))
+    finally:
+        shutil.rmtree(scratch, ignore_errors=True)
     return fit_summary, summary
 
 
