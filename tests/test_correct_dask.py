@@ -134,6 +134,29 @@ def test_keep_with_the_dask_engine_on_the_command_line(tmp_path):
     pd.testing.assert_frame_equal(_sorted(got), _sorted(want), check_exact=True)
 
 
+
+def test_a_dask_run_reports_its_own_time_and_writes_the_stream_header(tmp_path):
+    """The summary's time is the run's (it once said 0.00 s for a run of seconds); the header is not quoted."""
+    import json
+    import time
+
+    from redcorr.cli import main
+
+    write_catalog(intrinsic(20000, seed=26), tmp_path / "in.csv")
+    bands = [x for b in KW for x in ("--band", b)]
+    start = time.perf_counter()
+    assert main(["correct", str(tmp_path / "in.csv"), str(tmp_path / "out.csv"), *bands, "--engine", "dask",
+                 "--quiet"]) == 0
+    wall = time.perf_counter() - start
+    summary = json.loads((tmp_path / "out.csv.summary.json").read_text())
+    # timed from the set-up of the correction to the last row written: a good part of the command's wall time
+    # (the rest: imports, the scheduler's start); 0.2 is a loose bound, far above the old zero
+    assert 0.2 * wall <= summary["seconds"] <= wall
+    assert summary["rows_per_second"] == pytest.approx(20000 / summary["seconds"], rel=0.01)
+    assert main(["correct", str(tmp_path / "in.csv"), str(tmp_path / "stream.csv"), *bands, "--quiet"]) == 0
+    header = (tmp_path / "out.csv").read_text().splitlines()[0]
+    assert header == (tmp_path / "stream.csv").read_text().splitlines()[0] and '"' not in header
+
 def test_distance_resolved_map_on_two_worker_processes(tmp_path, cluster):
     """The map and the parallax posteriors travel to the workers: the stream engine's rows and counts."""
     from test_correct_distance import stars, write_cube
