@@ -78,9 +78,10 @@ E(B−V), A_V and R_V by ≤ 0.06 std and the E(B−V) percentiles by ≤ 0.04
 std); the A_V percentiles share each interval's mass between three points
 with its R_V mean and variance (Gauss–Hermite). With R_V steps of 0.2
 summed on nodes instead, the fit cost 14–17× the R_V-fixed one; now
-≈ 12× (benchmarks/bench_fit.py, one thread): the (T_eff, E(B−V)) region
-of the posterior is wider with R_V free, and each of its nodes costs the
-χ² at every R_V node the pruning keeps.
+≈ 18× (benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file):
+the (T_eff, E(B−V)) region of the posterior is about 3× wider with R_V
+free, and each of its nodes costs the χ² at every R_V node the pruning
+keeps (5 from 2.3 to 5.5), about 5× a node's cost with R_V fixed.
 
 The prior is flat in ln T_eff (the locus' own parameter: every part of
 the locus gets the same weight per unit ln T), flat in E(B−V) ≥ 0 up to
