@@ -4,6 +4,7 @@ What is drawn must be exactly what :mod:`redcorr.grains.emission` returns (the s
 with the same inputs, so equality is exact); the physics is checked in the core's own tests.
 """
 
+import asyncio
 import threading
 
 import numpy as np
@@ -15,6 +16,7 @@ from redcorr.grains.emission import emission_spectrum, fit_modified_blackbody
 from redcorr.grains.fields import MMP83Field
 from redcorr.io.grains import default_cache, get_grain_model
 from redcorr.thermal_summary import default_wave_um, stochastic_caution
+from redcorr.tui import RedcorrApp
 from redcorr.tui.screens import dust
 from redcorr.tui.screens.dust import SPECTRUM_DEPTH
 from redcorr.tui.widgets import StatusLine, XYPlot
@@ -167,3 +169,24 @@ def test_emission_view_controls_are_reachable_and_plots_fit(size):
 
     unreached, hidden, plots = run_app(script, size=size)
     assert not unreached and not hidden and plots == [True, True]
+
+
+def test_a_valid_u_is_remembered_and_a_refused_one_is_not():
+    async def first():
+        app = RedcorrApp()
+        async with app.run_test(size=(140, 44)) as pilot:
+            await pilot.pause()
+            await pilot.press("ctrl+l")
+            await pilot.pause()
+            await type_into(pilot, "#field-u", "3.5")
+            await type_into(pilot, "#field-u", "0")  # refused: U > 0
+            assert app.screen.query_one("#field-u").has_class("-refused")
+
+    async def second():
+        app = RedcorrApp()
+        async with app.run_test(size=(140, 44)) as pilot:
+            await pilot.pause()
+            return app.screen.query_one("#field-u").value
+
+    asyncio.run(first())
+    assert asyncio.run(second()) == "3.5"

@@ -27,6 +27,8 @@ class Session:
         The dust column as typed, in the unit ``amount_kind``.
     amount_kind : str
         ``"A_V"`` or ``"E(B-V)"``.
+    dust_u : str
+        The Dust screen's emission view: U, the scale of the interstellar radiation field, as typed.
     bands : list of str
         Band specs for `redcorr.io.filters.load_band` (default: the demo's KW-CAM set).
     sed : str
@@ -60,6 +62,7 @@ class Session:
     r_v: str = "3.1"
     amount: str = "1.0"
     amount_kind: str = "A_V"
+    dust_u: str = "1"
     bands: list = dataclasses.field(default_factory=lambda: ["kw-b", "kw-v", "kw-r", "kw-i", "kw-z"])
     sed: str = "blackbody:5800"
     band_output: str = "band_table.ecsv"

@@ -61,8 +61,6 @@ class DustScreen(GrainWait, Screen):
         self.curve = None
         self.a_v = None
         self.ebv = None
-        self.field_u = "1"
-        """The emission view's U as committed (not remembered between runs)."""
         self.heat = None
         """What the emission view shows: `redcorr.thermal_summary.thermal_summary`'s 4-tuple."""
         self._heat_key = None  # (grain model, U) shown or being computed
@@ -90,7 +88,7 @@ class DustScreen(GrainWait, Screen):
                 yield BandGrid(id="dust-bands")
                 with Vertical(id="dust-heat"):
                     with Horizontal(id="dust-heat-form", classes="form"):
-                        yield Field("field scale U", self.field_u, input_id="field-u", placeholder="> 0")
+                        yield Field("field scale U", self.session.dust_u, input_id="field-u", placeholder="> 0")
                     yield StatusLine(id="dust-heat-status")
                     yield Static(id="dust-heat-info", classes="info")
                     with Horizontal(id="dust-heat-plots"):
@@ -109,7 +107,7 @@ class DustScreen(GrainWait, Screen):
 
     def on_commit_input_committed(self, event):
         if event.input.id == "field-u":
-            self.field_u = event.value
+            self.session.dust_u = event.value
             self.refresh_emission()
             return
         attr = _FIELDS.get(event.input.id)
@@ -203,8 +201,10 @@ class DustScreen(GrainWait, Screen):
         if not self.has_class("-emission"):
             return
         law = self.session.law
-        field = guarded(MMP83Field, self.field_u)
+        field = guarded(MMP83Field, self.session.dust_u)
         self.query_one("#field-u", Input).set_class(not field.ok, "-refused")
+        if field.ok:
+            self.app.accept("dust_u")  # a valid U is remembered; a refused one never is
         if not is_grain(law):
             self._heat_key, self.heat = None, None
             for plot in self.query("#dust-heat-plots XYPlot").results(XYPlot):
