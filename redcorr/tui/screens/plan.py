@@ -27,8 +27,8 @@ PLAN_COLUMNS = {
     "band": ("band", "{}"),
     "mag": ("AB mag", "{:.3f}"),
     "A_band": ("A_b", "{:.3f}"),
-    "t_clear_s": ("t no dust [s]", "{:.4g}"),
-    "t_dust_s": ("t dust [s]", "{:.4g}"),
+    "t_clear_s": ("t no dust [s]", time_cell),
+    "t_dust_s": ("t dust [s]", time_cell),
     "time_factor": ("factor", "{:.3g}"),
     "snr": ("S/N", "{:.1f}"),
     "limiting_mag": ("limit mag", "{:.2f}"),
@@ -306,7 +306,7 @@ class PlanScreen(GrainWait, Screen):
             cells = []
             for key, (_, fmt) in LIST_COLUMNS.items():
                 value = rows[key][i]
-                cells.append(SortCell(fmt(value) if callable(fmt) else fmt.format(value), value))
+                cells.append(SortCell(_cell(fmt, value), value))
             table.add_row(*cells)
         if self._sort is not None:
             table.sort(self._sort[0], key=SortCell.key, reverse=self._sort[1])
@@ -368,7 +368,7 @@ class PlanScreen(GrainWait, Screen):
         table = self.query_one("#plan-table", DataTable)
         table.clear()
         for p in self.plans:
-            table.add_row(*(fmt.format(getattr(p, key)) for key, (_, fmt) in PLAN_COLUMNS.items()))
+            table.add_row(*(_cell(fmt, getattr(p, key)) for key, (_, fmt) in PLAN_COLUMNS.items()))
         target = float(s.plan_goal_value) if s.plan_goal == GOALS[0] else None
         self.query_one(XYPlot).draw(
             [(name, t, dusty) for name, (_, dusty) in snr.items()],
@@ -387,10 +387,10 @@ class PlanScreen(GrainWait, Screen):
         table = self.query_one("#plan-av", DataTable)
         table.clear(columns=True)
         table.add_column("A_V", width=4)
-        for band in times:  # fixed widths: ".4g" takes at most 9 characters (1.234e+05)
-            table.add_column(band, width=max(len(band), 9))
+        for band in times:  # fixed widths: a time cell takes at most 19 characters (1.234e+08 (3.91 yr))
+            table.add_column(band, width=max(len(band), 19))
         for i, value in enumerate(a_v):
-            table.add_row(f"{value:.2f}", *(f"{t[i]:.4g}" for t in times.values()))
+            table.add_row(f"{value:.2f}", *(time_cell(t[i]) for t in times.values()))
 
     def _mark_refused(self, error):
         """Colour the field the core's message names (its messages start with the argument)."""
@@ -424,3 +424,8 @@ def summary_text(summary, goal):
         lines.append("no plan (no magnitude or no reddening): " + escape(", ".join(summary["no_plan"])))
     lines.append("flags: " + ", ".join(f"{bit} {name}" for name, bit in TARGET_FLAGS.items()))
     return "\n".join(lines)
+
+
+def _cell(fmt, value):
+    """A table cell: ``fmt`` is a format string or a function (:func:`redcorr._format.time_cell`)."""
+    return fmt(value) if callable(fmt) else fmt.format(value)
