@@ -519,7 +519,7 @@ def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt,
                             frac = min(max(pos - jj, 0.0), 1.0)
                             av_hist[jj] += share * (1.0 - frac)
                             av_hist[jj + 1] += share * frac
-                    g_t[t] += row_sum
+                g_t[t] += row_sum
     res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
 
 
