@@ -25,7 +25,14 @@ With R_V free the grid's R_V nodes are coarse (0.8 apart by default) and
 the R_V integral at each (T, E(B−V)) node is done in closed form, the
 model linear in R_V between nodes (:func:`_sweep_rv`, :func:`_segment`;
 derivation in :mod:`redcorr.photometric_reddening`); a block along R_V is
-then an interval between two nodes.
+then a part of an interval between two nodes (:data:`R_SPLIT` per
+interval), centred on the part's middle, so that the bound's radius holds
+a quarter of the interval's change rather than all of it.
+
+Sweeps at halved strides (:func:`fit_stars`, ``smooth``) visit only the
+nodes the sweeps before did not: the sums so far are reweighted for the
+finer trapezoid rule (a node's weight is the fine one times the stride)
+and the new nodes added.
 
 References
 ----------
@@ -39,7 +46,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["block_bounds", "block_deltas", "fit_stars", "N_OUT", "SPLIT"]
+__all__ = ["block_bounds", "block_deltas", "fit_stars", "N_OUT", "R_SPLIT", "SPLIT"]
 
 # Columns of fit_stars' output rows.
 STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
@@ -56,6 +63,7 @@ N_OUT = 37
 _PROBS = (0.025, 0.15865525393145707, 0.5, 0.8413447460685429, 0.975)  # 2.5 %, Φ(−1), Φ(0), Φ(1), 97.5 %
 _RESCALE = 200.0  # rescale the running sums when a node beats the reference by this much χ²
 SPLIT = 4  # a coarse block of the pruning holds SPLIT blocks along each axis
+R_SPLIT = 2  # blocks of the pruning per R_V interval (R_V free)
 
 
 @njit(cache=True)
@@ -66,11 +74,34 @@ def _block_span(k, size, n):
 
 
 @njit(cache=True)
-def block_deltas(model, valid, bt, be, br):
-    """Largest squared change of each band's model within each block, from the block's centre node.
+def _at(model, j, u, t, e, b):
+    """The model at fraction u of R_V interval j (u = 0: node j, the only one when R_V is fixed)."""
+    if u == 0.0:
+        return model[j, t, e, b]
+    return (1.0 - u) * model[j, t, e, b] + u * model[j + 1, t, e, b]
 
-    The change is taken relative to a common shift: at each node, the mean
-    change of the bands the locus covers there (any shift would do; see
+
+@njit(cache=True)
+def _r_block(rb, n_r):
+    """Block rb along R_V: its interval j, the fractions u0 < u1 of the interval it covers and its centre uc."""
+    if n_r == 1:
+        return 0, 0.0, 0.0, 0.0
+    j = rb // R_SPLIT
+    s = rb % R_SPLIT
+    return j, s / R_SPLIT, (s + 1.0) / R_SPLIT, (s + 0.5) / R_SPLIT
+
+
+@njit(cache=True)
+def block_deltas(model, valid, bt, be):
+    """Largest squared change of each band's model within each block, from the block's centre.
+
+    Along T and E(B−V) a block is ``bt`` × ``be`` nodes, centred on its
+    middle node. Along R_V (more than one node) each interval between
+    neighbouring nodes is cut into :data:`R_SPLIT` blocks, each centred on
+    its middle; the model is linear in R_V there (:func:`_sweep_rv`), so
+    the largest change is at one of the block's two ends. The change is
+    taken relative to a common shift: at each node, the mean change of the
+    bands the locus covers there (any shift would do; see
     :func:`fit_stars`, Notes).
 
     Parameters
@@ -78,54 +109,45 @@ def block_deltas(model, valid, bt, be, br):
     model : ndarray, shape (n_r, n_t, n_e, n_b)
     valid : ndarray of bool, shape (n_t, n_b)
         Whether the locus covers band b at T node t (else ``model`` there is ignored).
-    bt, be, br : int
-        Block sizes along T, E(B−V) and R_V.
+    bt, be : int
+        Block sizes along T and E(B−V).
 
     Returns
     -------
     ndarray, shape (n_rb, n_tb, n_eb, n_b)
+        n_rb = 1 with one R_V node, else (n_r − 1) · :data:`R_SPLIT`.
     """
     n_r, n_t, n_e, n_b = model.shape
-    n_rb, n_tb, n_eb = -(-n_r // br), -(-n_t // bt), -(-n_e // be)
+    n_rb = 1 if n_r == 1 else (n_r - 1) * R_SPLIT
+    n_tb, n_eb = -(-n_t // bt), -(-n_e // be)
     out = np.zeros((n_rb, n_tb, n_eb, n_b))
-    for rb in range(n_rb):
-        r0, r1, rc = _block_span(rb, br, n_r)
-        for tb in range(n_tb):
-            t0, t1, tc = _block_span(tb, bt, n_t)
+    for tb in range(n_tb):
+        t0, t1, tc = _block_span(tb, bt, n_t)
+        for rb in range(n_rb):
+            j, u0, u1, uc = _r_block(rb, n_r)
             for eb in range(n_eb):
                 e0, e1, ec = _block_span(eb, be, n_e)
-                for r in range(r0, r1):
+                for end in range(1 if n_r == 1 else 2):
+                    u = u0 if end == 0 else u1
                     for t in range(t0, t1):
                         for e in range(e0, e1):
                             shift = 0.0
                             n_valid = 0
                             for b in range(n_b):
                                 if valid[t, b] and valid[tc, b]:
-                                    shift += model[r, t, e, b] - model[rc, tc, ec, b]
+                                    shift += _at(model, j, u, t, e, b) - _at(model, j, uc, tc, ec, b)
                                     n_valid += 1
                             shift = shift / n_valid if n_valid > 0 else 0.0
                             for b in range(n_b):
                                 if valid[t, b]:
-                                    d = model[r, t, e, b] - model[rc, tc, ec, b] - shift
+                                    d = _at(model, j, u, t, e, b) - _at(model, j, uc, tc, ec, b) - shift
                                     out[rb, tb, eb, b] = max(out[rb, tb, eb, b], d * d)
     return out
 
 
 def block_bounds(model, valid, bt, be):
-    """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them.
-
-    Along R_V a block is one node when R_V is fixed, else one interval
-    between neighbouring nodes (both ends; the model is linear in R_V
-    between them, so the largest change over the interval is at a node).
-    Block rb along R_V has its centre at node rb.
-    """
-    if model.shape[0] == 1:
-        return block_deltas(model, valid, bt * SPLIT, be * SPLIT, 1), block_deltas(model, valid, bt, be, 1)
-    pairs = [model[j : j + 2] for j in range(model.shape[0] - 1)]
-    return (
-        np.concatenate([block_deltas(p, valid, bt * SPLIT, be * SPLIT, 2) for p in pairs]),
-        np.concatenate([block_deltas(p, valid, bt, be, 2) for p in pairs]),
-    )
+    """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them."""
+    return block_deltas(model, valid, bt * SPLIT, be * SPLIT), block_deltas(model, valid, bt, be)
 
 
 @njit(cache=True)
@@ -194,11 +216,11 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t,
 
     The blocks are those of indices k·split to (k + 1)·split − 1 along T and
     E(B−V) (k = k_t, k_e) and k_r·split_r to (k_r + 1)·split_r − 1 along R_V
-    (block rb centred on node rb); ``lower`` receives their bounds (inf:
-    every node excluded). Returns the smallest χ² + penalty at their centres.
+    (:func:`_r_block`); ``lower`` receives their bounds (inf: every node
+    excluded). Returns the smallest χ² + penalty at their centres.
     """
     nb = idx.size
-    n_t, n_e = model.shape[1], model.shape[2]
+    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
     n_rb, n_tb, n_eb = deltas.shape[0], deltas.shape[1], deltas.shape[2]
     best = np.inf
     for tb in range(k_t * split, min((k_t + 1) * split, n_tb)):
@@ -215,7 +237,7 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t,
                 if pt == np.inf or pe == np.inf:
                     lower[rb, tb, eb] = np.inf
                     continue
-                rc = rb
+                j, _, _, uc = _r_block(rb, n_r)
                 if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
                     lower[rb, tb, eb] = pt + pe
                     continue
@@ -223,7 +245,7 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t,
                 s2 = 0.0
                 rad = 0.0
                 for k in range(nb):
-                    d = m[k] - model[rc, tc, ec, idx[k]]
+                    d = m[k] - _at(model, j, uc, tc, ec, idx[k])
                     s1 += w[k] * d
                     s2 += w[k] * d * d
                     rad += w[k] * deltas[rb, tb, eb, idx[k]]
@@ -235,23 +257,26 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t,
 
 
 @njit(cache=True)
-def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, ref, g_re, g_t, qe, qr, res):
+def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, old, ref, g_re, g_t, qe, qr,
+           res):  # fmt: skip
     """Accumulate the posterior over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se), r ≡ 0 (mod sr) of the kept blocks.
 
     ``g_re`` (R_V × E(B−V)) and ``g_t`` (T) receive the marginal densities
     relative to exp(−ref/2) (a sub-grid's trapezoid weights are the fine
     ones times the stride); ``ref`` NaN means the first node's value. A
     node whose χ² + penalty exceeds ``limit`` is left out, as the nodes of
-    a skipped block are. ``res`` receives χ²_min and the mode's indices
-    (−1: no node).
+    a skipped block are. The nodes of an earlier sweep at the strides
+    ``old`` (zeros: none), already in the sums, are not visited again.
+    ``res`` holds χ²_min, the mode's indices (−1: no node) and its
+    χ² + penalty, and is updated. Returns ``ref``.
     """
     nb = idx.size
     every = nb == model.shape[3]  # every band used: idx[k] = k
     n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
     n_rb, n_tb, n_eb = lower.shape
-    chi_min = np.inf
-    tot_min = np.inf
-    map_t, map_e, map_r = -1, -1, -1
+    chi_min, tot_min = res[0], res[4]
+    map_t, map_e, map_r = int(res[1]), int(res[2]), int(res[3])
+    st_o, se_o, sr_o = old[0], old[1], old[2]
     for rb in range(n_rb):
         r0, r1, _ = _block_span(rb, br, n_r)
         for tb in range(n_tb):
@@ -262,14 +287,16 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
                 e0, e1, _ = _block_span(eb, be, n_e)
                 for r in range((r0 + sr - 1) // sr * sr, r1, sr):
                     q_r = qr[r] * sr
+                    r_old = sr_o > 0 and r % sr_o == 0
                     for t in range((t0 + st - 1) // st * st, t1, st):
                         p_t = pen_t[t]
                         if p_t == np.inf:
                             continue
+                        t_old = r_old and t % st_o == 0
                         q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
                         row_sum = 0.0
                         for e in range((e0 + se - 1) // se * se, e1, se):
-                            if pen_e[e] == np.inf:
+                            if pen_e[e] == np.inf or (t_old and e % se_o == 0):
                                 continue
                             s1 = 0.0
                             s2 = 0.0
@@ -303,7 +330,8 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st,
                             g_re[r, e] += f * q_t
                             row_sum += f * qe[e] * se
                         g_t[t] += row_sum * q_r
-    res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
+    res[0], res[1], res[2], res[3], res[4] = chi_min, map_t, map_e, map_r, tot_min
+    return ref
 
 
 _SQRT2 = math.sqrt(2.0)
@@ -392,7 +420,7 @@ def _segment(c0, c1, y):
 
 
 @njit(cache=True)
-def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, rv, ebv, ref,
+def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, rv, ebv, ref,
               g_e, g_t, g_r, av_hist, av_h, av_mom, res):  # fmt: skip
     """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral in closed form.
 
@@ -405,65 +433,67 @@ def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt,
     ``av_hist`` the A_V masses at 0, av_h, ... and ``av_mom`` the mass,
     Σ A_V and Σ A_V², all relative to exp(−ref/2); an interval whose
     smallest χ² + penalty exceeds ``limit`` is skipped (its weight is below
-    e^(−cut/2) of the best node's).
+    e^(−cut/2) of the best node's). ``old``, ``res`` and the returned
+    ``ref`` as in :func:`_sweep`.
     """
     nb = idx.size
     n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
     n_tb, n_eb = lower.shape[1], lower.shape[2]
     n_a = av_hist.size
     keep = np.zeros(n_r - 1, np.bool_)
-    need = np.zeros(n_r, np.bool_)
     h_r = rv[1] - rv[0]
     c = np.empty(n_r)
     y = np.empty(n_r - 1)
-    d_prev = np.empty(nb)
-    chi_min = np.inf
-    tot_min = np.inf
-    map_t, map_e, map_r = -1, -1, -1
+    dev = np.empty((n_r, nb))  # m − P at each R_V node
+    sum_wd = np.empty(n_r)  # Σ w (m − P) at each R_V node
+    chi_min, tot_min = res[0], res[4]
+    map_t, map_e, map_r = int(res[1]), int(res[2]), int(res[3])
+    st_o, se_o = old[0], old[1]
     for tb in range(n_tb):
         t0, t1, _ = _block_span(tb, bt, n_t)
         for eb in range(n_eb):
-            any_kept = False
-            need[:] = False
+            r_lo, r_hi = n_r, -1  # the first and last nodes of the kept intervals
             for j in range(n_r - 1):
-                keep[j] = lower[j, tb, eb] <= limit
+                keep[j] = False
+                for part in range(R_SPLIT):
+                    keep[j] = keep[j] or lower[j * R_SPLIT + part, tb, eb] <= limit
                 if keep[j]:
-                    any_kept = True
-                    need[j] = True
-                    need[j + 1] = True
-            if not any_kept:
+                    r_lo = min(r_lo, j)
+                    r_hi = j + 1
+            if r_hi < 0:
                 continue
             e0, e1, _ = _block_span(eb, be, n_e)
             for t in range((t0 + st - 1) // st * st, t1, st):
                 p_t = pen_t[t]
                 if p_t == np.inf:
                     continue
+                t_old = st_o > 0 and t % st_o == 0
+                if t_old and se_o == se:
+                    continue
                 q_t = qt[t] * st
                 row_sum = 0.0
                 for e in range((e0 + se - 1) // se * se, e1, se):
                     pen = p_t + pen_e[e]
-                    if pen == np.inf:
+                    if pen == np.inf or (t_old and e % se_o == 0):
                         continue
-                    s1_prev = 0.0
-                    for r in range(n_r):
-                        if not need[r]:
-                            continue
+                    for r in range(r_lo, r_hi + 1):
                         s1 = 0.0
                         s2 = 0.0
-                        sy = 0.0
                         for k in range(nb):
                             d = m[k] - model[r, t, e, idx[k]]
+                            dev[r, k] = d
                             a = w[k] * d
                             s1 += a
                             s2 += a * d
-                            if r > 0 and keep[r - 1]:
-                                dd = d_prev[k] - d
-                                sy += w[k] * dd * dd
-                            d_prev[k] = d
                         c[r] = max(s2 - s1 * s1 / s0, 0.0)
-                        if r > 0 and keep[r - 1]:
-                            y[r - 1] = max(sy - (s1_prev - s1) ** 2 / s0, 0.0)
-                        s1_prev = s1
+                        sum_wd[r] = s1
+                    for j in range(r_lo, r_hi):
+                        if keep[j]:
+                            sy = 0.0
+                            for k in range(nb):
+                                dd = dev[j, k] - dev[j + 1, k]
+                                sy += w[k] * dd * dd
+                            y[j] = max(sy - (sum_wd[j] - sum_wd[j + 1]) ** 2 / s0, 0.0)
                     q_e = qe[e] * se
                     ebv_e = ebv[e]
                     for j in range(n_r - 1):
@@ -520,7 +550,8 @@ def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt,
                             av_hist[jj] += share * (1.0 - frac)
                             av_hist[jj + 1] += share * frac
                 g_t[t] += row_sum
-    res[0], res[1], res[2], res[3] = chi_min, map_t, map_e, map_r
+    res[0], res[1], res[2], res[3], res[4] = chi_min, map_t, map_e, map_r, tot_min
+    return ref
 
 
 @njit(cache=True)
@@ -607,6 +638,15 @@ def _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, sh
 
 
 @njit(cache=True)
+def _refine_histogram(hist, factor, n, scale):
+    """``hist`` on a step ``factor`` times finer (``n`` nodes), its masses × ``scale``: node j becomes node j·factor."""
+    out = np.zeros(n)
+    for j in range(hist.size):
+        out[min(j * factor, n - 1)] += hist[j] * scale
+    return out
+
+
+@njit(cache=True)
 def _roughness(g, step):
     """Largest change between neighbouring samples g[0], g[step], ... relative to their largest value."""
     big = 0.0
@@ -630,7 +670,8 @@ def fit_stars(
     mag, weight : ndarray, shape (n, n_b)
         Magnitudes and weights 1/σ² (0 marks an unusable band).
     model : ndarray, shape (n_r, n_t, n_e, n_b)
-        Predicted magnitudes up to the free offset.
+        Predicted magnitudes up to the free offset (float32 or float64; the
+        sums are float64).
     valid : ndarray of bool, shape (n_t, n_b)
     teff, ebv, rv : ndarray
         The axes (T_eff in K on a uniform ln T grid; E(B−V) and R_V uniform),
@@ -747,21 +788,17 @@ def fit_stars(
         g_t = np.zeros(n_t)
         g_e = np.zeros(n_e)
         g_r = np.zeros(n_r)
-        res = np.empty(4)
+        res = np.array([np.inf, -1.0, -1.0, -1.0, np.inf])  # χ²_min, the mode's indices, its χ² + penalty
+        ref = best if best < np.inf else np.nan
         st, se, sr = strides[0], strides[1], strides[2]
+        old = np.zeros(3, np.int64)  # the strides of the sweep before (zeros: none); its nodes stay in the sums
         if n_r > 1:
             g_u = np.zeros((n_r - 1, 3))
             av_mom = np.zeros(3)
+            hist = np.zeros(min(int(math.ceil((n_av - 1) / se)) + 1, n_av))
             while True:
-                g_t[:] = 0.0
-                g_e[:] = 0.0
-                g_u[:, :] = 0.0
-                av_mom[:] = 0.0
-                n_a = min(int(math.ceil((n_av - 1) / se)) + 1, n_av)
-                hist = np.zeros(n_a)
-                ref = best if best < np.inf else np.nan
-                _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, rv, ebv,
-                          ref, g_e, g_t, g_u, hist, av_step * se, av_mom, res)  # fmt: skip
+                ref = _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old,
+                                rv, ebv, ref, g_e, g_t, g_u, hist, av_step * se, av_mom, res)  # fmt: skip
                 rough_e = _roughness(g_e, se)
                 rough_t = _roughness(g_t, st)
                 rough = max(rough_e, rough_t)
@@ -771,7 +808,17 @@ def fit_stars(
                 se_new = max(se // 2, 1) if res[1] < 0 or rough_e > smooth else se
                 if st_new == st and se_new == se:
                     break  # the rough axis is at its grid step already
+                # the sums hold the nodes so far with the trapezoid weights of their strides: reweight
+                # them for the new strides (and the A_V histogram for its new step), then add the new nodes
+                g_e *= st_new / st
+                g_t *= se_new / se
+                both = (st_new * se_new) / (st * se)
+                g_u *= both
+                av_mom *= both
+                hist = _refine_histogram(hist, se // se_new, min(int(math.ceil((n_av - 1) / se_new)) + 1, n_av), both)
+                old[0], old[1] = st, se
                 st, se = st_new, se_new
+            n_a = hist.size
             if res[1] < 0:
                 continue
             _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
@@ -788,10 +835,8 @@ def fit_stars(
             row[AV + 1] = math.sqrt(max(av_mom[2] / av_mom[0] - row[AV] ** 2, 0.0))
             continue
         while True:
-            g_re[:, :] = 0.0
-            g_t[:] = 0.0
-            _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr,
-                   best if best < np.inf else np.nan, g_re, g_t, qe, qr, res)  # fmt: skip
+            ref = _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, old, ref,
+                         g_re, g_t, qe, qr, res)  # fmt: skip
             g_e[:] = 0.0
             g_r[:] = 0.0
             for r in range(0, n_r, sr):
@@ -802,7 +847,11 @@ def fit_stars(
             coarse = st > 1 or se > 1 or sr > 1
             if not coarse or (res[1] >= 0 and rough <= smooth):
                 break  # (a sweep that found no node is repeated finer: the kept blocks may lie between its nodes)
-            st, se, sr = max(st // 2, 1), max(se // 2, 1), max(sr // 2, 1)
+            st_new, se_new, sr_new = max(st // 2, 1), max(se // 2, 1), max(sr // 2, 1)
+            g_re *= st_new / st  # reweight the nodes so far for the new strides (g_re holds their T weights)
+            g_t *= (se_new * sr_new) / (se * sr)
+            old[0], old[1], old[2] = st, se, sr
+            st, se, sr = st_new, se_new, sr_new
         if res[1] < 0:
             continue
         _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)

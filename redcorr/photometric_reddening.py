@@ -78,10 +78,11 @@ E(B−V), A_V and R_V by ≤ 0.06 std and the E(B−V) percentiles by ≤ 0.04
 std); the A_V percentiles share each interval's mass between three points
 with its R_V mean and variance (Gauss–Hermite). With R_V steps of 0.2
 summed on nodes instead, the fit cost 14–17× the R_V-fixed one; now
-≈ 18× (benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file):
-the (T_eff, E(B−V)) region of the posterior is about 3× wider with R_V
-free, and each of its nodes costs the χ² at every R_V node the pruning
-keeps (5 from 2.3 to 5.5), about 5× a node's cost with R_V fixed.
+≈ 7.5× (benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file):
+the (T_eff, E(B−V)) region of the posterior is wider with R_V free, and
+each of its nodes costs the χ² at every R_V node the pruning keeps (5
+from 2.3 to 5.5) and the closed-form integral over each interval that
+holds mass (about a third of the time).
 
 The prior is flat in ln T_eff (the locus' own parameter: every part of
 the locus gets the same weight per unit ln T), flat in E(B−V) ≥ 0 up to
@@ -93,10 +94,15 @@ in E(B−V) (e.g. from a dust map).
 The posterior is integrated with the trapezoid rule on the grid; the
 2.5/16/50/84/97.5 % points are read from the marginal taken linear between
 nodes. Each star's posterior is first summed over every 4th node along
-each axis, and again at half that spacing while a marginal is not smooth
-(down to the grid's own steps; with R_V free, only along the axis whose
-marginal is not smooth), and blocks of the grid that cannot matter
-are skipped with a rigorous bound (:func:`redcorr._reddening_kernels.fit_stars`).
+each axis (with R_V free up to every 16th, as far as the axis' number of
+steps allows), and again at half that spacing while a
+marginal is not smooth (down to the grid's own steps; with R_V free, only
+along the axis whose marginal is not smooth); a finer sweep adds only the
+nodes the coarser ones did not visit, the sums so far reweighted for the
+finer spacing (the same sums as a new sweep; the A_V histogram keeps the
+coarser sweeps' nodes on their coarser A_V step). Blocks of the grid that
+cannot matter are skipped with a rigorous bound
+(:func:`redcorr._reddening_kernels.fit_stars`).
 A posterior ridge thinner than a step across it (small errors, strongly
 correlated T_eff and E(B−V)) leaves the marginals slightly jagged: the
 sums stay right on average (the coverage tests), single percentiles move
@@ -294,7 +300,7 @@ class ReddeningFitGrid:
     The locus is interpolated linearly in ln T_eff; a T_eff node between
     two locus nodes of which one lacks a band has no model for that band,
     and a star with a magnitude in that band gives those nodes no weight.
-    Memory: the grid holds n_R · n_T · n_E · n_band float64 (9 MB for 6
+    Memory: the grid holds n_R · n_T · n_E · n_band float32 (4.5 MB for 6
     bands, R_V fixed and the defaults over 2300–50000 K; × the number of R_V
     nodes, 5 for 2.3–5.5, when R_V is free).
 
@@ -363,7 +369,8 @@ class ReddeningFitGrid:
         self.valid = np.isfinite(intrinsic)
         intrinsic = np.where(self.valid, intrinsic, 0.0)
 
-        model = np.empty((self.r_v.size, self.teff.size, self.ebv.size, n_band))
+        # float32: 1e-6 mag at 20 mag, far below any error, and half the memory traffic of the fit's sweeps
+        model = np.empty((self.r_v.size, self.teff.size, self.ebv.size, n_band), dtype=np.float32)
         for r, (r_v, crv) in enumerate(zip(self.r_v, curves, strict=True)):
             grid = coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate)
             a_b = grid.ratio * (r_v * self.ebv)  # (band, T, E)

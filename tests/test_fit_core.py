@@ -554,7 +554,7 @@ def test_posterior_moments_match_a_direct_sum_over_the_grid(bands, locus, grid_f
 
     Source: the posterior of the module docstring summed directly (_direct_moments: every node, R_V
     every 0.1 with the model linear between the grid's nodes; numpy, independent of the kernel's
-    pruning, strides and closed-form R_V integral). Tolerance 0.1 posterior std
+    pruning, strides, closed-form R_V integral and reuse of coarser sweeps). Tolerance 0.1 posterior std
     on the means and 10 % on the stds: the fit's trapezoid sums at strides of up to 0.58 std (module
     docstring) against the direct sum (measured differences up to 0.03 std on 30 such stars).
     """
