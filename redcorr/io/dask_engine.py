@@ -18,8 +18,6 @@ Dask DataFrames (:func:`correct_dask`, :func:`summarise_dask`)
 Dask is optional and imported only when a run starts.
 """
 
-import collections
-import concurrent.futures
 import copy
 import gzip
 import json
@@ -30,7 +28,7 @@ from pathlib import Path
 from redcorr.exceptions import InputError
 from redcorr.io.catalogs import ColumnTypeError, PandasLikeColumns, numeric_as_float, open_catalog, rebatch
 from redcorr.io.catalogs.formats import load_pyarrow
-from redcorr.io.catalogs.writers import CsvText, release_free_memory
+from redcorr.io.catalogs.writers import CsvText, EncodingQueue, open_parquet, release_free_memory
 
 __all__ = ["DEFAULT_PARTITION_ROWS", "add_summaries", "correct_dask", "plan_csv", "plan_parquet", "run_partitions",
            "summarise_dask"]
@@ -46,15 +44,6 @@ file's writer opened and closed, about 1.3 ms; a row-group scan set up, about 3 
 _CSV_BLOCK_BYTES = 1 << 20
 """Bytes per block of a partition's CSV reader (doubled for a row longer than a block)."""
 
-_CSV_SLICE_ROWS = 16_384
-"""Rows turned into CSV text per task of a part's writer (two run at once, as in CatalogWriter)."""
-
-_PENDING = 4
-"""Text slices of a part's writer in flight, at most."""
-
-_CSV_THREADS = 2
-"""Threads turning a part's rows into CSV text (measured, 1 M rows on 2 workers: 1.08x the stream
-engine's time with two, 1.21x with one thread formatting whole chunks)."""
 
 _SAMPLE_BYTES = 1 << 20
 """Bytes of a CSV file read to estimate its bytes per row (and so a partition's byte range)."""
@@ -375,10 +364,9 @@ class _PartWriter:
     """One part file: Parquet as :class:`~redcorr.io.catalogs.CatalogWriter` writes it, or CSV rows.
 
     As in that writer, the encoding runs beside the caller, which meanwhile
-    reads and corrects the next chunk: a Parquet chunk in one thread, CSV
-    text in slices of :data:`_CSV_SLICE_ROWS` rows by two threads (at most
-    :data:`_PENDING` tasks in flight; the text is written in order); after each
-    chunk the memory pyarrow holds free goes back to the system
+    reads and corrects the next chunk
+    (:class:`~redcorr.io.catalogs.writers.EncodingQueue`); after each chunk
+    the memory pyarrow holds free goes back to the system
     (:func:`~redcorr.io.catalogs.writers.release_free_memory`). No temporary
     name: the part lives in the engine's temporary folder, placed (or
     dropped) as a whole; a task run again writes it anew.
@@ -387,9 +375,7 @@ class _PartWriter:
     def __init__(self, plan, number):
         self.plan, self.path = plan, plan.part(number)
         self._writer = self._sink = self._schema = None
-        threads = 1 if plan.out_format == "parquet" else _CSV_THREADS
-        self._pool = concurrent.futures.ThreadPoolExecutor(threads, thread_name_prefix="redcorr-part")
-        self._pending = collections.deque()
+        self._tasks = EncodingQueue(plan.out_format == "parquet", "redcorr-part")
 
     def __enter__(self):
         return self
@@ -399,48 +385,29 @@ class _PartWriter:
             self._open(table.schema.remove_metadata())
         table = table.cast(self._schema)
         if self._writer is not None:
-            self._pending.append(self._pool.submit(self._writer.write_table, table))
-            self._drain(1)
+            self._tasks.add_parquet(self._writer, table)
         else:
-            for start in range(0, table.num_rows, _CSV_SLICE_ROWS):
-                self._pending.append(self._pool.submit(self._text, table.slice(start, _CSV_SLICE_ROWS)))
-                self._drain(_PENDING)
+            self._tasks.add_text(self._text, table)
         release_free_memory()
-
-    def _drain(self, limit):
-        """Finish the oldest tasks until at most ``limit`` are in flight (CSV text goes to the file in order)."""
-        while len(self._pending) > limit:
-            done = self._pending.popleft().result()
-            if self._sink is not None:
-                self._sink.write(done)
 
     def _open(self, schema):
         pa = load_pyarrow()
         plan = self.plan
         if plan.out_format == "parquet":
             self._schema = schema.with_metadata({"redcorr": json.dumps(plan.meta, default=str)})
-            text = [f.name for f in schema if pa.types.is_string(f.type) or pa.types.is_large_string(f.type)]
-            computed = set(plan.job.output_columns)
-            codecs = {f.name: "none" if f.name in computed and pa.types.is_floating(f.type) else "snappy"
-                      for f in schema}
-            self._writer = pa.parquet.ParquetWriter(str(self.path), self._schema, use_dictionary=text or False,
-                                                    compression=codecs)
+            self._writer = open_parquet(self.path, self._schema, set(plan.job.output_columns))
         else:
             self._schema = schema
             self._sink = pa.OSFile(str(self.path), "wb")
             if plan.compress:
                 self._sink = pa.CompressedOutputStream(self._sink, "gzip")
+            self._tasks.sink = self._sink
             self._text = CsvText(plan.delimiter, plan.job.output_columns, plan.source.verbatim)
 
     def __exit__(self, exc_type, *exc):
         try:
-            if exc_type is not None:
-                for task in self._pending:
-                    task.cancel()
-                self._pending.clear()
-            self._drain(0)
+            self._tasks.close(exc_type is not None)
         finally:
-            self._pool.shutdown(wait=True, cancel_futures=True)
             if self._writer is not None:
                 self._writer.close()
             if self._sink is not None:
