@@ -29,7 +29,7 @@ _CSV_SLICE_ROWS = 16_384
 _CSV_PENDING = 4
 """Formatted CSV slices waiting to be written, at most (about 10 MB each for 33 columns)."""
 
-CSV_THREADS = 2
+_CSV_THREADS = 2
 """Threads turning rows into CSV text (measured, Dask engine, 1 M rows on 2 workers: 1.08x the stream
 engine's time with two, 1.21x with one thread formatting whole chunks)."""
 
@@ -158,7 +158,7 @@ class EncodingQueue:
 
     Parquet chunks go to one worker thread (:meth:`add_parquet`); CSV rows are
     turned into text in slices of :data:`_CSV_SLICE_ROWS` rows by
-    :data:`CSV_THREADS` threads and written to ``sink`` in order
+    :data:`_CSV_THREADS` threads and written to ``sink`` in order
     (:meth:`add_text`). pyarrow releases the GIL for both, so the caller
     meanwhile reads and corrects the next chunk; memory stays bounded.
 
@@ -168,10 +168,15 @@ class EncodingQueue:
         Whether the chunks go to a Parquet writer (one thread) or become text.
     name : str
         Prefix of the threads' names.
+
+    Attributes
+    ----------
+    sink : file-like or None
+        Where :meth:`add_text` writes the text (set by the owner once the file is open).
     """
 
     def __init__(self, parquet, name):
-        threads = 1 if parquet else CSV_THREADS
+        threads = 1 if parquet else _CSV_THREADS
         self._pool = concurrent.futures.ThreadPoolExecutor(threads, thread_name_prefix=name)
         self._pending = collections.deque()
         self.sink = None
