@@ -23,6 +23,7 @@ Usage::
 """
 
 import argparse
+import contextlib
 import hashlib
 import subprocess
 import sys
@@ -213,13 +214,18 @@ def sizes(sd):
     write(t, TEST_DATA / "wd01_sizes.ecsv")
 
 
-def main(argv=None):
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+@contextlib.contextmanager
+def sdist_from_command_line(argv, description):
+    """The :class:`Sdist` that ``--sdist`` names in ``argv``, else one downloaded with pip for the block."""
+    parser = argparse.ArgumentParser(description=description)
     parser.add_argument("--sdist", help="path to hyperion-dust-0.1.0.tar.gz (downloaded with pip if omitted)")
     args = parser.parse_args(argv)
     with tempfile.TemporaryDirectory() as tmp:
-        path = Path(args.sdist) if args.sdist else fetch_sdist(tmp)
-        sd = Sdist(path)
+        yield Sdist(Path(args.sdist) if args.sdist else fetch_sdist(tmp))
+
+
+def main(argv=None):
+    with sdist_from_command_line(argv, __doc__.splitlines()[0]) as sd:
         optical(sd)
         table1(sd)
         d03_tables(sd)

@@ -23,9 +23,7 @@ Usage::
     python scripts/make_emission_reference.py          # pip download into a temp dir
 """
 
-import argparse
 import sys
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -33,7 +31,7 @@ from astropy import units as u
 from astropy.table import Table
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from make_data import SDIST, TEST_DATA, Sdist, fetch_sdist, write  # noqa: E402
+from make_data import SDIST, TEST_DATA, sdist_from_command_line, write  # noqa: E402
 
 MEMBER = "input/d03/d03_3.1_6.0_A.orig"
 WAVE_RANGE_UM = (1.0, 1000.0)
@@ -86,12 +84,8 @@ def reference_table(sd):
 
 
 def main(argv=None):
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--sdist", help="path to hyperion-dust-0.1.0.tar.gz (downloaded with pip if omitted)")
-    args = parser.parse_args(argv)
-    with tempfile.TemporaryDirectory() as tmp:
-        path = Path(args.sdist) if args.sdist else fetch_sdist(tmp)
-        write(reference_table(Sdist(path)), OUT)
+    with sdist_from_command_line(argv, __doc__.splitlines()[0]) as sd:
+        write(reference_table(sd), OUT)
     return 0
 
 
