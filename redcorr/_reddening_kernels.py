@@ -5,29 +5,31 @@ cached on disk (``cache=True``); :func:`fit_stars` runs over the stars of
 one chunk in parallel threads (``prange``), one star at a time, with
 scratch arrays the size of the grid's axes (never of the whole grid).
 
-The grid is P[r, t, e, b]: the predicted magnitude of band b, up to the
-free offset μ, at R_V node r, ln T_eff node t and E(B−V) node e. For one
-star with magnitudes m_b and weights w_b = 1/σ_b² (0 for an unusable
-band) the χ² minimised over μ is
+The grid is Q[k, t, e, b] at ln T_eff node t and E(B−V) node e. With R_V
+fixed it holds one term (k = 0): the predicted magnitude of band b up to
+the free offset μ. With R_V free it holds the four coefficients of a cubic
+in x, R_V = r_c + r_h x over the range (x in [−1, 1]):
+P_b(x) = Σ_k Q[k, t, e, b] x^k. For one star with magnitudes m_b and
+weights w_b = 1/σ_b² (0 for an unusable band) the χ² minimised over μ is
 
-    χ²(θ) = Σ w d² − (Σ w d)² / Σ w,   d_b = m_b − P_b(θ)
+    χ² = dᵀ C d = Σ w d² − (Σ w d)² / Σ w,   d_b = m_b − P_b,   C = W − w wᵀ / Σ w
 
 (see :mod:`redcorr.photometric_reddening` for why this is the marginal
-likelihood). The grid is cut into blocks; a block whose smallest possible
-χ² + prior penalty exceeds the best value found at the blocks' centres
-by more than ``cut`` carries at most e^(−cut/2) of the best node's
-weight per node and is skipped (:func:`fit_stars`, Notes). The bounds are
-taken on two levels, a branch-and-bound search [1]_: coarse blocks
-(:data:`SPLIT` blocks along each axis) first, then the blocks of the
-coarse blocks that may matter.
+likelihood). With R_V free, χ² at a (T, E(B−V)) node is a polynomial of
+degree 6 in x whose coefficients are ten bilinear forms uᵀ C v of the
+vectors m − Q_0, Q_1, Q_2, Q_3 (:func:`_rv_poly`), all summed in one pass
+over the bands; the R_V integral of exp(−χ²/2) is that of its second-order
+expansion about its smallest value on the range, a Gaussian in x cut to
+[−1, 1] (Laplace's method [1]_; :func:`_rv_node`), or a Simpson sum over
+the range where the polynomial is not close enough to that Gaussian.
 
-With R_V free the grid's R_V nodes are coarse (0.8 apart by default) and
-the R_V integral at each (T, E(B−V)) node is done in closed form, the
-model linear in R_V between nodes (:func:`_sweep_rv`, :func:`_segment`;
-derivation in :mod:`redcorr.photometric_reddening`); a block along R_V is
-then a part of an interval between two nodes (:data:`R_SPLIT` per
-interval), centred on the part's middle, so that the bound's radius holds
-a quarter of the interval's change rather than all of it.
+The grid is cut into blocks of (T, E(B−V)) nodes; a block whose smallest
+possible χ² + prior penalty (over its nodes and, with R_V free, the whole
+R_V range) exceeds the best value found at the blocks' centres by more than
+``cut`` carries at most e^(−cut/2) of the best node's weight per node and
+is skipped (:func:`fit_stars`, Notes). The bounds are taken on two levels,
+a branch-and-bound search [2]_: coarse blocks (:data:`SPLIT` blocks along
+each axis) first, then the blocks of the coarse blocks that may matter.
 
 Sweeps at halved strides (:func:`fit_stars`, ``smooth``) visit only the
 nodes the sweeps before did not: the sums so far are reweighted for the
@@ -36,7 +38,9 @@ and the new nodes added.
 
 References
 ----------
-.. [1] Land, A. H., & Doig, A. G. 1960, Econometrica 28, 497 (branch and
+.. [1] Tierney, L., & Kadane, J. B. 1986, J. Am. Stat. Assoc. 81, 82
+   (Laplace's method for posterior integrals; from memory).
+.. [2] Land, A. H., & Doig, A. G. 1960, Econometrica 28, 497 (branch and
    bound: skip a region whose lower bound exceeds the best value found;
    from memory).
 """
@@ -46,7 +50,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["block_bounds", "block_deltas", "fit_stars", "N_OUT", "R_SPLIT", "SPLIT"]
+__all__ = ["block_bounds", "block_deltas", "fit_stars", "N_OUT", "SPLIT"]
 
 # Columns of fit_stars' output rows.
 STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
@@ -54,16 +58,18 @@ EBV, AV, TEFF, RV = 0, 7, 14, 21  # each: the STATS
 LNT_STD = 28
 CHI2 = 29
 NBANDS = 30
-MAP_T, MAP_E, MAP_R = 31, 32, 33
-BIMODAL = 34
-FITTED = 35
-ROUGH = 36
-N_OUT = 37
+MAP_T = 31
+BIMODAL = 32
+FITTED = 33
+N_OUT = 34
 
 _PROBS = (0.025, 0.15865525393145707, 0.5, 0.8413447460685429, 0.975)  # 2.5 %, Φ(−1), Φ(0), Φ(1), 97.5 %
 _RESCALE = 200.0  # rescale the running sums when a node beats the reference by this much χ²
 SPLIT = 4  # a coarse block of the pruning holds SPLIT blocks along each axis
-R_SPLIT = 2  # blocks of the pruning per R_V interval (R_V free)
+R_NODES = 129  # nodes of the R_V marginal over the range (for its percentiles)
+_FAR = 6.0  # a Gaussian whose centre lies this many σ inside both ends of the range is not cut (2e−9 lost)
+_LAPLACE_TOL = 0.02  # largest departure (χ² units) of χ²(x) from its expansion within 3 σ for Laplace's method
+_SIMPSON = 64  # intervals of the Simpson sum over the R_V range where Laplace's method is not used
 
 
 @njit(cache=True)
@@ -74,39 +80,19 @@ def _block_span(k, size, n):
 
 
 @njit(cache=True)
-def _at(model, j, u, t, e, b):
-    """The model at fraction u of R_V interval j (u = 0: node j, the only one when R_V is fixed)."""
-    if u == 0.0:
-        return model[j, t, e, b]
-    return (1.0 - u) * model[j, t, e, b] + u * model[j + 1, t, e, b]
-
-
-@njit(cache=True)
-def _r_block(rb, n_r):
-    """Block rb along R_V: its interval j, the fractions u0 < u1 of the interval it covers and its centre uc."""
-    if n_r == 1:
-        return 0, 0.0, 0.0, 0.0
-    j = rb // R_SPLIT
-    s = rb % R_SPLIT
-    return j, s / R_SPLIT, (s + 1.0) / R_SPLIT, (s + 0.5) / R_SPLIT
-
-
-@njit(cache=True)
 def block_deltas(model, valid, bt, be):
-    """Largest squared change of each band's model within each block, from the block's centre.
+    """Largest squared change of each band's model within each block of ``bt`` × ``be`` nodes, from its centre.
 
-    Along T and E(B−V) a block is ``bt`` × ``be`` nodes, centred on its
-    middle node. Along R_V (more than one node) each interval between
-    neighbouring nodes is cut into :data:`R_SPLIT` blocks, each centred on
-    its middle; the model is linear in R_V there (:func:`_sweep_rv`), so
-    the largest change is at one of the block's two ends. The change is
-    taken relative to a common shift: at each node, the mean change of the
-    bands the locus covers there (any shift would do; see
-    :func:`fit_stars`, Notes).
+    A block is centred on its middle node. The change at x is
+    Σ_k x^k ΔQ_k (ΔQ_k the change of term k; one term with R_V fixed),
+    taken relative to a common shift Σ_k x^k s_k, s_k the mean ΔQ_k of
+    the bands the locus covers at both nodes (any shift would do; see
+    :func:`fit_stars`, Notes). For |x| <= 1 its size is at most
+    Σ_k |ΔQ_k − s_k|, the value used: one bound for the whole R_V range.
 
     Parameters
     ----------
-    model : ndarray, shape (n_r, n_t, n_e, n_b)
+    model : ndarray, shape (n_c, n_t, n_e, n_b)
     valid : ndarray of bool, shape (n_t, n_b)
         Whether the locus covers band b at T node t (else ``model`` there is ignored).
     bt, be : int
@@ -114,34 +100,32 @@ def block_deltas(model, valid, bt, be):
 
     Returns
     -------
-    ndarray, shape (n_rb, n_tb, n_eb, n_b)
-        n_rb = 1 with one R_V node, else (n_r − 1) · :data:`R_SPLIT`.
+    ndarray, shape (n_tb, n_eb, n_b)
     """
-    n_r, n_t, n_e, n_b = model.shape
-    n_rb = 1 if n_r == 1 else (n_r - 1) * R_SPLIT
+    n_t, n_e, n_b, n_c = model.shape
     n_tb, n_eb = -(-n_t // bt), -(-n_e // be)
-    out = np.zeros((n_rb, n_tb, n_eb, n_b))
+    out = np.zeros((n_tb, n_eb, n_b))
+    size = np.empty(n_b)
     for tb in range(n_tb):
         t0, t1, tc = _block_span(tb, bt, n_t)
-        for rb in range(n_rb):
-            j, u0, u1, uc = _r_block(rb, n_r)
-            for eb in range(n_eb):
-                e0, e1, ec = _block_span(eb, be, n_e)
-                for end in range(1 if n_r == 1 else 2):
-                    u = u0 if end == 0 else u1
-                    for t in range(t0, t1):
-                        for e in range(e0, e1):
-                            shift = 0.0
-                            n_valid = 0
-                            for b in range(n_b):
-                                if valid[t, b] and valid[tc, b]:
-                                    shift += _at(model, j, u, t, e, b) - _at(model, j, uc, tc, ec, b)
-                                    n_valid += 1
-                            shift = shift / n_valid if n_valid > 0 else 0.0
-                            for b in range(n_b):
-                                if valid[t, b]:
-                                    d = _at(model, j, u, t, e, b) - _at(model, j, uc, tc, ec, b) - shift
-                                    out[rb, tb, eb, b] = max(out[rb, tb, eb, b], d * d)
+        for eb in range(n_eb):
+            e0, e1, ec = _block_span(eb, be, n_e)
+            for t in range(t0, t1):
+                for e in range(e0, e1):
+                    size[:] = 0.0
+                    for k in range(n_c):
+                        shift = 0.0
+                        n_valid = 0
+                        for b in range(n_b):
+                            if valid[t, b] and valid[tc, b]:
+                                shift += model[t, e, b, k] - model[tc, ec, b, k]
+                                n_valid += 1
+                        shift = shift / n_valid if n_valid > 0 else 0.0
+                        for b in range(n_b):
+                            size[b] += abs(model[t, e, b, k] - model[tc, ec, b, k] - shift)
+                    for b in range(n_b):
+                        if valid[t, b]:
+                            out[tb, eb, b] = max(out[tb, eb, b], size[b] * size[b])
     return out
 
 
@@ -210,18 +194,107 @@ def _bimodal(g, h, share, dip):
     return False
 
 
+@njit(cache=True, inline="always")
+def _rv_poly(m, w, idx, s0, model, t, e, a):
+    """χ² at node (t, e) as a polynomial in x (R_V free): ``a[j]`` the coefficient of x^j, j = 0…6.
+
+    With v_0 = m − Q_0 and v_k = Q_k, d(x) = v_0 − x v_1 − x² v_2 − x³ v_3
+    and χ²(x) = Σ_kl c_k c_l G_kl, c = (1, −x, −x², −x³), G_kl = v_kᵀ C v_l.
+    Also ``a[7]``, ``a[8]`` = G_11, G_22 (for :func:`_rv_floor`).
+    """
+    s_0 = s_1 = s_2 = s_3 = 0.0
+    s00 = s01 = s02 = s03 = s11 = s12 = s13 = s22 = s23 = s33 = 0.0
+    every = idx.size == model.shape[2]  # every band used: idx[k] = k
+    for k in range(idx.size):
+        b = k if every else idx[k]
+        v0 = m[k] - model[t, e, b, 0]
+        v1 = model[t, e, b, 1]
+        v2 = model[t, e, b, 2]
+        v3 = model[t, e, b, 3]
+        w0 = w[k] * v0
+        w1 = w[k] * v1
+        w2 = w[k] * v2
+        s_0 += w0
+        s_1 += w1
+        s_2 += w2
+        s_3 += w[k] * v3
+        s00 += w0 * v0
+        s01 += w0 * v1
+        s02 += w0 * v2
+        s03 += w0 * v3
+        s11 += w1 * v1
+        s12 += w1 * v2
+        s13 += w1 * v3
+        s22 += w2 * v2
+        s23 += w2 * v3
+        s33 += w[k] * v3 * v3
+    r = 1.0 / s0
+    g11 = s11 - s_1 * s_1 * r
+    g22 = s22 - s_2 * s_2 * r
+    a[0] = s00 - s_0 * s_0 * r
+    a[1] = -2.0 * (s01 - s_0 * s_1 * r)
+    a[2] = g11 - 2.0 * (s02 - s_0 * s_2 * r)
+    a[3] = 2.0 * ((s12 - s_1 * s_2 * r) - (s03 - s_0 * s_3 * r))
+    a[4] = g22 + 2.0 * (s13 - s_1 * s_3 * r)
+    a[5] = 2.0 * (s23 - s_2 * s_3 * r)
+    a[6] = s33 - s_3 * s_3 * r
+    a[7] = g11
+    a[8] = g22
+
+
+@njit(cache=True, inline="always")
+def _poly(a, x):
+    """Value, first and second derivative at x of Σ_j a[j] x^j, j = 0…6 (Horner)."""
+    p = a[6]
+    d1 = 0.0
+    d2 = 0.0
+    for j in range(5, -1, -1):
+        d2 = d2 * x + d1
+        d1 = d1 * x + p
+        p = p * x + a[j]
+    return p, d1, 2.0 * d2
+
+
+@njit(cache=True, inline="always")
+def _rv_vertex(a):
+    """The vertex of the quadratic part a[0] + a[1] x + a[2] x² of χ²(x) (:func:`_rv_poly`), kept in [−1, 1]."""
+    return min(max(-a[1] / (2.0 * a[2]), -1.0), 1.0) if a[2] > 0.0 else 0.0
+
+
+@njit(cache=True, inline="always")
+def _rv_floor(a):
+    """A lower bound of χ²(x) of :func:`_rv_poly` on [−1, 1]: (‖v_0 − x v_1‖_min − ‖v_2‖ − ‖v_3‖)².
+
+    √χ² is a seminorm of d(x) = v_0 − x v_1 − x² v_2 − x³ v_3, so by the
+    triangle inequality (|x| <= 1) √χ²(x) >= ‖v_0 − x v_1‖ − ‖v_2‖ − ‖v_3‖,
+    whose first term's smallest square on the range is that of the quadratic
+    G_00 − 2 x G_01 + x² G_11 (``a[0]``, ``a[1]``, ``a[7]``).
+    """
+    g11 = a[7]
+    x = 0.0
+    if g11 > 0.0:
+        x = min(max(-a[1] / (2.0 * g11), -1.0), 1.0)
+    lin = min(a[0] + x * (a[1] + x * g11), a[0] - abs(a[1]) + g11)
+    gap = math.sqrt(max(lin, 0.0)) - math.sqrt(max(a[8], 0.0)) - math.sqrt(max(a[6], 0.0))
+    return gap * gap if gap > 0.0 else 0.0
+
+
 @njit(cache=True)
-def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t, k_e, split, split_r):
+def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e, split):
     """Lower bounds of χ² + prior penalty in blocks (sizes bt, be; deltas from :func:`block_bounds`).
 
     The blocks are those of indices k·split to (k + 1)·split − 1 along T and
-    E(B−V) (k = k_t, k_e) and k_r·split_r to (k_r + 1)·split_r − 1 along R_V
-    (:func:`_r_block`); ``lower`` receives their bounds (inf: every node
-    excluded). Returns the smallest χ² + penalty at their centres.
+    E(B−V) (k = k_t, k_e); ``lower`` receives their bounds (inf: every node
+    excluded). With R_V free the bound holds over the whole R_V range
+    (:func:`_rv_floor` at the centre) and the value found at a centre is χ²
+    at the vertex of its quadratic part (:func:`_rv_vertex`). Returns the
+    smallest χ² + penalty found at their centres.
     """
     nb = idx.size
-    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
-    n_rb, n_tb, n_eb = deltas.shape[0], deltas.shape[1], deltas.shape[2]
+    n_t, n_e = model.shape[0], model.shape[1]
+    n_tb, n_eb = deltas.shape[0], deltas.shape[1]
+    free = model.shape[3] > 1
+    a = np.empty(9)
     best = np.inf
     for tb in range(k_t * split, min((k_t + 1) * split, n_tb)):
         t0, t1, tc = _block_span(tb, bt, n_t)
@@ -233,104 +306,183 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_r, k_t,
             pe = np.inf
             for e in range(e0, e1):
                 pe = min(pe, pen_e[e])
-            for rb in range(k_r * split_r, min((k_r + 1) * split_r, n_rb)):
-                if pt == np.inf or pe == np.inf:
-                    lower[rb, tb, eb] = np.inf
-                    continue
-                j, _, _, uc = _r_block(rb, n_r)
-                if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
-                    lower[rb, tb, eb] = pt + pe
-                    continue
+            if pt == np.inf or pe == np.inf:
+                lower[tb, eb] = np.inf
+                continue
+            if pen_t[tc] == np.inf or pen_e[ec] == np.inf:  # centre excluded: no bound
+                lower[tb, eb] = pt + pe
+                continue
+            rad = 0.0
+            for k in range(nb):
+                rad += w[k] * deltas[tb, eb, idx[k]]
+            if free:  # χ² at the vertex of the quadratic part (a value reached), and a lower bound
+                _rv_poly(m, w, idx, s0, model, tc, ec, a)
+                c = _poly(a, _rv_vertex(a))[0]
+                low = _rv_floor(a)
+            else:
                 s1 = 0.0
                 s2 = 0.0
-                rad = 0.0
                 for k in range(nb):
-                    d = m[k] - _at(model, j, uc, tc, ec, idx[k])
+                    d = m[k] - model[tc, ec, idx[k], 0]
                     s1 += w[k] * d
                     s2 += w[k] * d * d
-                    rad += w[k] * deltas[rb, tb, eb, idx[k]]
-                c = max(s2 - s1 * s1 / s0, 0.0)
-                best = min(best, c + pen_t[tc] + pen_e[ec])
-                gap = max(math.sqrt(c) - math.sqrt(rad), 0.0)
-                lower[rb, tb, eb] = gap * gap + pt + pe
+                c = low = max(s2 - s1 * s1 / s0, 0.0)
+            best = min(best, c + pen_t[tc] + pen_e[ec])
+            gap = max(math.sqrt(max(low, 0.0)) - math.sqrt(rad), 0.0)
+            lower[tb, eb] = gap * gap + pt + pe
     return best
 
 
 @njit(cache=True)
-def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, old, ref, g_re, g_t, qe, qr,
-           res):  # fmt: skip
-    """Accumulate the posterior over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se), r ≡ 0 (mod sr) of the kept blocks.
+def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref, g_e, g_t, res):
+    """Accumulate the posterior (R_V fixed) over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se) of the kept blocks.
 
-    ``g_re`` (R_V × E(B−V)) and ``g_t`` (T) receive the marginal densities
+    ``g_e`` and ``g_t`` receive the marginal densities of E(B−V) and ln T
     relative to exp(−ref/2) (a sub-grid's trapezoid weights are the fine
     ones times the stride); ``ref`` NaN means the first node's value. A
     node whose χ² + penalty exceeds ``limit`` is left out, as the nodes of
     a skipped block are. The nodes of an earlier sweep at the strides
     ``old`` (zeros: none), already in the sums, are not visited again.
-    ``res`` holds χ²_min, the mode's indices (−1: no node) and its
+    ``res`` holds χ²_min, the mode's T index (−1: no node) and its
     χ² + penalty, and is updated. Returns ``ref``.
     """
     nb = idx.size
-    every = nb == model.shape[3]  # every band used: idx[k] = k
-    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
-    n_rb, n_tb, n_eb = lower.shape
-    chi_min, tot_min = res[0], res[4]
-    map_t, map_e, map_r = int(res[1]), int(res[2]), int(res[3])
-    st_o, se_o, sr_o = old[0], old[1], old[2]
-    for rb in range(n_rb):
-        r0, r1, _ = _block_span(rb, br, n_r)
-        for tb in range(n_tb):
-            t0, t1, _ = _block_span(tb, bt, n_t)
-            for eb in range(n_eb):
-                if not lower[rb, tb, eb] <= limit:
+    every = nb == model.shape[2]  # every band used: idx[k] = k
+    n_t, n_e = model.shape[0], model.shape[1]
+    n_tb, n_eb = lower.shape
+    chi_min, map_t, tot_min = res[0], int(res[1]), res[2]
+    st_o, se_o = old[0], old[1]
+    for tb in range(n_tb):
+        t0, t1, _ = _block_span(tb, bt, n_t)
+        for eb in range(n_eb):
+            if not lower[tb, eb] <= limit:
+                continue
+            e0, e1, _ = _block_span(eb, be, n_e)
+            for t in range((t0 + st - 1) // st * st, t1, st):
+                p_t = pen_t[t]
+                if p_t == np.inf:
                     continue
-                e0, e1, _ = _block_span(eb, be, n_e)
-                for r in range((r0 + sr - 1) // sr * sr, r1, sr):
-                    q_r = qr[r] * sr
-                    r_old = sr_o > 0 and r % sr_o == 0
-                    for t in range((t0 + st - 1) // st * st, t1, st):
-                        p_t = pen_t[t]
-                        if p_t == np.inf:
-                            continue
-                        t_old = r_old and t % st_o == 0
-                        q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
-                        row_sum = 0.0
-                        for e in range((e0 + se - 1) // se * se, e1, se):
-                            if pen_e[e] == np.inf or (t_old and e % se_o == 0):
-                                continue
-                            s1 = 0.0
-                            s2 = 0.0
-                            if every:
-                                for k in range(nb):
-                                    d = m[k] - model[r, t, e, k]
-                                    s1 += w[k] * d
-                                    s2 += w[k] * d * d
-                            else:
-                                for k in range(nb):
-                                    d = m[k] - model[r, t, e, idx[k]]
-                                    s1 += w[k] * d
-                                    s2 += w[k] * d * d
-                            c = max(s2 - s1 * s1 / s0, 0.0)
-                            tot = c + p_t + pen_e[e]
-                            if tot > limit:  # weighs < e^(−cut/2) of the best node, as a skipped block's
-                                continue
-                            chi_min = min(chi_min, c)
-                            if tot < tot_min:
-                                tot_min = tot
-                                map_t, map_e, map_r = t, e, r
-                            if not ref == ref:
-                                ref = tot
-                            if tot < ref - _RESCALE:
-                                scale = math.exp(-0.5 * (ref - tot))
-                                g_re *= scale
-                                g_t *= scale
-                                row_sum *= scale
-                                ref = tot
-                            f = math.exp(-0.5 * (tot - ref))
-                            g_re[r, e] += f * q_t
-                            row_sum += f * qe[e] * se
-                        g_t[t] += row_sum * q_r
-    res[0], res[1], res[2], res[3], res[4] = chi_min, map_t, map_e, map_r, tot_min
+                t_old = st_o > 0 and t % st_o == 0
+                q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
+                row_sum = 0.0
+                for e in range((e0 + se - 1) // se * se, e1, se):
+                    if pen_e[e] == np.inf or (t_old and e % se_o == 0):
+                        continue
+                    s1 = 0.0
+                    s2 = 0.0
+                    if every:
+                        for k in range(nb):
+                            d = m[k] - model[t, e, k, 0]
+                            s1 += w[k] * d
+                            s2 += w[k] * d * d
+                    else:
+                        for k in range(nb):
+                            d = m[k] - model[t, e, idx[k], 0]
+                            s1 += w[k] * d
+                            s2 += w[k] * d * d
+                    c = max(s2 - s1 * s1 / s0, 0.0)
+                    tot = c + p_t + pen_e[e]
+                    if tot > limit:  # weighs < e^(−cut/2) of the best node, as a skipped block's
+                        continue
+                    chi_min = min(chi_min, c)
+                    if tot < tot_min:
+                        tot_min = tot
+                        map_t = t
+                    if not ref == ref:
+                        ref = tot
+                    if tot < ref - _RESCALE:
+                        scale = math.exp(-0.5 * (ref - tot))
+                        g_e *= scale
+                        g_t *= scale
+                        row_sum *= scale
+                        ref = tot
+                    f = math.exp(-0.5 * (tot - ref))
+                    g_e[e] += f * q_t
+                    row_sum += f * qe[e] * se
+                g_t[t] += row_sum
+    res[0], res[1], res[2] = chi_min, map_t, tot_min
+    return ref
+
+
+@njit(cache=True)
+def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, r_range, ebv,
+              ref, g_e, g_t, r_hist, av_hist, av_h, mom, res):  # fmt: skip
+    """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral (:func:`_rv_node`).
+
+    ``g_e``, ``g_t`` receive the marginal densities of E(B−V) and ln T,
+    ``r_hist`` the R_V masses at :data:`R_NODES` nodes over ``r_range``,
+    ``av_hist`` the A_V masses at 0, av_h, ... and ``mom`` the mass,
+    Σ R_V, Σ R_V², Σ A_V and Σ A_V², all relative to exp(−ref/2). A node
+    whose smallest χ² + penalty exceeds ``limit``, or the best so far by
+    more than ``cut``, is left out. ``old``, ``res`` and the returned
+    ``ref`` as in :func:`_sweep`.
+    """
+    n_t, n_e = model.shape[0], model.shape[1]
+    n_tb, n_eb = lower.shape
+    r_c = 0.5 * (r_range[0] + r_range[1])
+    r_h = 0.5 * (r_range[1] - r_range[0])
+    h_r = (r_range[1] - r_range[0]) / (r_hist.size - 1)
+    a = np.empty(9)
+    chi_min, map_t, tot_min = res[0], int(res[1]), res[2]
+    st_o, se_o = old[0], old[1]
+    for tb in range(n_tb):
+        t0, t1, _ = _block_span(tb, bt, n_t)
+        for eb in range(n_eb):
+            if not lower[tb, eb] <= limit:
+                continue
+            e0, e1, _ = _block_span(eb, be, n_e)
+            for t in range((t0 + st - 1) // st * st, t1, st):
+                p_t = pen_t[t]
+                if p_t == np.inf:
+                    continue
+                t_old = st_o > 0 and t % st_o == 0
+                if t_old and se_o == se:
+                    continue
+                q_t = qt[t] * st
+                row_sum = 0.0
+                for e in range((e0 + se - 1) // se * se, e1, se):
+                    pen = p_t + pen_e[e]
+                    if pen == np.inf or (t_old and e % se_o == 0):
+                        continue
+                    _rv_poly(m, w, idx, s0, model, t, e, a)
+                    if _rv_floor(a) + pen > limit:  # (as a skipped block's nodes)
+                        continue
+                    base, mass, mx, mx2 = _rv_node(a)
+                    chi_min = min(chi_min, base)
+                    tot = base + pen
+                    if tot < tot_min:
+                        tot_min = tot
+                        map_t = t
+                    if tot > limit or tot > tot_min + cut:
+                        continue
+                    if not ref == ref:
+                        ref = tot
+                    if tot < ref - _RESCALE:
+                        scale = math.exp(-0.5 * (ref - tot))
+                        g_e *= scale
+                        g_t *= scale
+                        r_hist *= scale
+                        av_hist *= scale
+                        mom *= scale
+                        row_sum *= scale
+                        ref = tot
+                    f = math.exp(-0.5 * (tot - ref)) * mass
+                    q_e = qe[e] * se
+                    g_e[e] += f * q_t
+                    row_sum += f * q_e
+                    wq = f * q_t * q_e
+                    r_mean = r_c + r_h * mx
+                    r_var = r_h * r_h * max(mx2 - mx * mx, 0.0)
+                    ebv_e = ebv[e]
+                    mom[0] += wq
+                    mom[1] += wq * r_mean
+                    mom[2] += wq * (r_var + r_mean * r_mean)
+                    mom[3] += wq * ebv_e * r_mean
+                    mom[4] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
+                    _spread(r_hist, r_range[0], h_r, r_mean, r_var, wq)
+                    _spread(av_hist, 0.0, av_h, ebv_e * r_mean, ebv_e * ebv_e * r_var, wq)
+                g_t[t] += row_sum
+    res[0], res[1], res[2] = chi_min, map_t, tot_min
     return ref
 
 
@@ -420,191 +572,83 @@ def _segment(c0, c1, y):
 
 
 @njit(cache=True)
-def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, rv, ebv, ref,
-              g_e, g_t, g_r, av_hist, av_h, av_mom, res):  # fmt: skip
-    """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral in closed form.
-
-    Between R_V nodes r_j and r_j+1 the model is taken linear in R_V,
-    P = P_j + u (P_j+1 − P_j), so χ² is the quadratic of :func:`_segment`
-    in u, with curvature y = Δᵀ C Δ (Δ = P_j+1 − P_j, C as in
-    :func:`fit_stars`, Notes) and the integral over u is a Gaussian one.
-    ``g_e``, ``g_t`` receive the marginal densities of E(B−V) and ln T,
-    ``g_r[j]`` the mass and first two moments of u in interval j,
-    ``av_hist`` the A_V masses at 0, av_h, ... and ``av_mom`` the mass,
-    Σ A_V and Σ A_V², all relative to exp(−ref/2); an interval whose
-    smallest χ² + penalty exceeds ``limit`` is skipped (its weight is below
-    e^(−cut/2) of the best node's). ``old``, ``res`` and the returned
-    ``ref`` as in :func:`_sweep`.
-    """
-    nb = idx.size
-    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
-    n_tb, n_eb = lower.shape[1], lower.shape[2]
-    n_a = av_hist.size
-    keep = np.zeros(n_r - 1, np.bool_)
-    h_r = rv[1] - rv[0]
-    c = np.empty(n_r)
-    y = np.empty(n_r - 1)
-    dev = np.empty((n_r, nb))  # m − P at each R_V node
-    sum_wd = np.empty(n_r)  # Σ w (m − P) at each R_V node
-    chi_min, tot_min = res[0], res[4]
-    map_t, map_e, map_r = int(res[1]), int(res[2]), int(res[3])
-    st_o, se_o = old[0], old[1]
-    for tb in range(n_tb):
-        t0, t1, _ = _block_span(tb, bt, n_t)
-        for eb in range(n_eb):
-            r_lo, r_hi = n_r, -1  # the first and last nodes of the kept intervals
-            for j in range(n_r - 1):
-                keep[j] = False
-                for part in range(R_SPLIT):
-                    keep[j] = keep[j] or lower[j * R_SPLIT + part, tb, eb] <= limit
-                if keep[j]:
-                    r_lo = min(r_lo, j)
-                    r_hi = j + 1
-            if r_hi < 0:
-                continue
-            e0, e1, _ = _block_span(eb, be, n_e)
-            for t in range((t0 + st - 1) // st * st, t1, st):
-                p_t = pen_t[t]
-                if p_t == np.inf:
-                    continue
-                t_old = st_o > 0 and t % st_o == 0
-                if t_old and se_o == se:
-                    continue
-                q_t = qt[t] * st
-                row_sum = 0.0
-                for e in range((e0 + se - 1) // se * se, e1, se):
-                    pen = p_t + pen_e[e]
-                    if pen == np.inf or (t_old and e % se_o == 0):
-                        continue
-                    for r in range(r_lo, r_hi + 1):
-                        s1 = 0.0
-                        s2 = 0.0
-                        for k in range(nb):
-                            d = m[k] - model[r, t, e, idx[k]]
-                            dev[r, k] = d
-                            a = w[k] * d
-                            s1 += a
-                            s2 += a * d
-                        c[r] = max(s2 - s1 * s1 / s0, 0.0)
-                        sum_wd[r] = s1
-                    for j in range(r_lo, r_hi):
-                        if keep[j]:
-                            sy = 0.0
-                            for k in range(nb):
-                                dd = dev[j, k] - dev[j + 1, k]
-                                sy += w[k] * dd * dd
-                            y[j] = max(sy - (sum_wd[j] - sum_wd[j + 1]) ** 2 / s0, 0.0)
-                    q_e = qe[e] * se
-                    ebv_e = ebv[e]
-                    for j in range(n_r - 1):
-                        if not keep[j]:
-                            continue
-                        c0, c1, yj = c[j], c[j + 1], y[j]
-                        low = min(c0, c1)
-                        u_min = 0.0 if c0 <= c1 else 1.0
-                        if yj > 0.0:
-                            u0 = 0.5 - (c1 - c0) / (2.0 * yj)
-                            if 0.0 < u0 < 1.0:
-                                low = c0 - yj * u0 * u0
-                                u_min = u0
-                        chi_min = min(chi_min, low)
-                        tot = low + pen
-                        if tot < tot_min:
-                            tot_min = tot
-                            map_t, map_e, map_r = t, e, j + (1 if u_min > 0.5 else 0)
-                        if tot > limit or tot > tot_min + cut:
-                            continue
-                        base, mass, mu, m2 = _segment(c0, c1, yj)
-                        tot = base + pen
-                        if not ref == ref:
-                            ref = tot
-                        if tot < ref - _RESCALE:
-                            scale = math.exp(-0.5 * (ref - tot))
-                            g_e *= scale
-                            g_t *= scale
-                            g_r *= scale
-                            av_hist *= scale
-                            av_mom *= scale
-                            row_sum *= scale
-                            ref = tot
-                        f = math.exp(-0.5 * (tot - ref)) * mass * h_r
-                        g_e[e] += f * q_t
-                        row_sum += f * q_e
-                        wq = f * q_t * q_e
-                        g_r[j, 0] += wq
-                        g_r[j, 1] += wq * mu
-                        g_r[j, 2] += wq * m2
-                        r_mean = rv[j] + h_r * mu
-                        r_var = max(h_r * h_r * (m2 - mu * mu), 0.0)
-                        av_mom[0] += wq
-                        av_mom[1] += wq * ebv_e * r_mean
-                        av_mom[2] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
-                        # A_V histogram: three points matching the interval's R_V mean and variance
-                        # (Gauss-Hermite, weights 1/6, 2/3, 1/6 at mean − √3 std, mean, mean + √3 std)
-                        r_sd = math.sqrt(3.0 * r_var)
-                        for p in range(3):
-                            share = wq * (2.0 / 3.0 if p == 1 else 1.0 / 6.0)
-                            pos = ebv_e * (r_mean + (p - 1) * r_sd) / av_h
-                            jj = min(max(int(pos), 0), n_a - 2)
-                            frac = min(max(pos - jj, 0.0), 1.0)
-                            av_hist[jj] += share * (1.0 - frac)
-                            av_hist[jj + 1] += share * frac
-                g_t[t] += row_sum
-    res[0], res[1], res[2], res[3], res[4] = chi_min, map_t, map_e, map_r, tot_min
-    return ref
-
-
-@njit(cache=True)
-def _rv_stats(rv, g_r, out, k):
-    """Mean, std and percentiles of R_V from each interval's mass and moments of u (:func:`_sweep_rv`).
-
-    Mean and std are exact sums of the intervals' moments. The CDF is exact
-    at the nodes; within an interval it is taken as that of a normal with
-    the interval's mean and std, truncated to the interval (exact when one
-    Gaussian in R_V dominates the interval, approximate for a mixture).
-    """
-    n_j = g_r.shape[0]
-    h = rv[1] - rv[0]
+def _rv_simpson(a):
+    """(base, mass, mean, m2) of exp(−½ χ²(x)) over [−1, 1] by Simpson's rule on :data:`_SIMPSON` intervals."""
+    n = _SIMPSON
+    h = 2.0 / n
+    base = np.inf
+    for i in range(n + 1):
+        base = min(base, _poly(a, -1.0 + i * h)[0])
     z = 0.0
     s1 = 0.0
     s2 = 0.0
-    for j in range(n_j):
-        z += g_r[j, 0]
-        s1 += g_r[j, 0] * rv[j] + h * g_r[j, 1]
-        s2 += g_r[j, 0] * rv[j] ** 2 + 2.0 * rv[j] * h * g_r[j, 1] + h * h * g_r[j, 2]
-    mean = s1 / z
-    out[k] = mean
-    out[k + 1] = math.sqrt(max(s2 / z - mean * mean, 0.0))
-    cum = 0.0
-    j = 0
-    for i in range(5):
-        target = _PROBS[i] * z
-        while j < n_j - 1 and cum + g_r[j, 0] < target:
-            cum += g_r[j, 0]
-            j += 1
-        mj = g_r[j, 0]
-        frac = min(max((target - cum) / mj, 0.0), 1.0) if mj > 0.0 else 0.5
-        mu = g_r[j, 1] / mj if mj > 0.0 else 0.5
-        sd = math.sqrt(max(g_r[j, 2] / mj - mu * mu, 0.0)) if mj > 0.0 else 0.0
-        if sd < 1e-9:
-            u = mu
-        else:
-            f0 = 0.5 * math.erfc(-(0.0 - mu) / (sd * _SQRT2))
-            f1 = 0.5 * math.erfc(-(1.0 - mu) / (sd * _SQRT2))
-            lo, hi = 0.0, 1.0
-            for _ in range(40):  # bisection of the truncated normal's CDF
-                mid = 0.5 * (lo + hi)
-                fm = 0.5 * math.erfc(-(mid - mu) / (sd * _SQRT2))
-                if f1 > f0 and (fm - f0) / (f1 - f0) < frac:
-                    lo = mid
-                else:
-                    hi = mid
-            u = 0.5 * (lo + hi) if f1 > f0 else mu
-        out[k + 2 + i] = rv[j] + h * min(max(u, 0.0), 1.0)
+    for i in range(n + 1):
+        x = -1.0 + i * h
+        q = 1.0 if i == 0 or i == n else (4.0 if i % 2 else 2.0)
+        f = q * math.exp(-0.5 * (_poly(a, x)[0] - base))
+        z += f
+        s1 += f * x
+        s2 += f * x * x
+    return base, z * h / 3.0, s1 / z, s2 / z
 
 
 @njit(cache=True)
-def _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip):
+def _rv_node(a):
+    """The R_V integral at one node: (base, mass, mean, m2) of exp(−½ χ²(x)) over x in [−1, 1].
+
+    base is the smallest χ² on the range, mass = ∫ exp(−½ (χ²(x) − base)) dx
+    over it, and mean, m2 the first two moments of x under that density.
+    Laplace's method: χ² expanded to second order about the vertex of its
+    quadratic part (kept in the range), i.e. a Newton step from there
+    toward its smallest value, a Gaussian cut to the range (:func:`_segment`
+    in u = (x + 1)/2; not cut when it lies :data:`_FAR` σ inside both ends).
+    Used where the terms of degree 3 to 6 about that point stay below
+    :data:`_LAPLACE_TOL` (χ² units) within 3 σ (at most the range's width):
+    bounded by Σ_j ρ^j Σ_i≥j C(i, j) |a_i| (|x| <= 1, ρ the reach);
+    elsewhere Simpson's rule (:func:`_rv_simpson`).
+    """
+    x = _rv_vertex(a)
+    f, g, h = _poly(a, x)
+    big_h = max(h, 0.0)
+    sd = math.sqrt(2.0 / big_h) if big_h > 0.0 else np.inf
+    reach = min(3.0 * sd, 2.0)
+    a3, a4, a5, a6 = abs(a[3]), abs(a[4]), abs(a[5]), abs(a[6])
+    dev = reach * reach * reach * (a3 + 4.0 * a4 + 10.0 * a5 + 20.0 * a6 + reach * (
+        a4 + 5.0 * a5 + 15.0 * a6 + reach * (a5 + 6.0 * a6 + reach * a6)))  # fmt: skip
+    if dev > _LAPLACE_TOL:
+        return _rv_simpson(a)
+    if big_h > 0.0:
+        v = x - g / big_h
+        if v - _FAR * sd > -1.0 and v + _FAR * sd < 1.0:
+            return f - 0.5 * g * g / big_h, sd * _SQRT2PI, v, v * v + sd * sd
+    c0 = f - g * (1.0 + x) + 0.5 * big_h * (1.0 + x) ** 2
+    c1 = f + g * (1.0 - x) + 0.5 * big_h * (1.0 - x) ** 2
+    base, mass, mu, m2 = _segment(c0, c1, 2.0 * big_h)
+    return base, 2.0 * mass, 2.0 * mu - 1.0, 4.0 * (m2 - mu) + 1.0
+
+
+@njit(cache=True, inline="always")
+def _spread(hist, x0, h, mean, var, mass):
+    """Add ``mass`` with its ``mean`` and variance to a histogram at x0, x0 + h, ... (three points, linear shares).
+
+    The points are mean − √3 sd, mean, mean + √3 sd with weights 1/6, 2/3,
+    1/6 (Gauss–Hermite: the mean, variance and kurtosis of a Gaussian kept),
+    each shared between the two nearest nodes; points beyond the ends go to
+    the end nodes.
+    """
+    n = hist.size
+    sd = math.sqrt(3.0 * var)
+    for p in range(3):
+        share = mass * (2.0 / 3.0 if p == 1 else 1.0 / 6.0)
+        pos = min(max((mean + (p - 1) * sd - x0) / h, 0.0), n - 1.0)
+        j = min(int(pos), n - 2)
+        frac = pos - j
+        hist[j] += share * (1.0 - frac)
+        hist[j + 1] += share * frac
+
+
+@njit(cache=True)
+def _finish(row, res, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip):
     """Fill a fitted star's E(B−V) and T_eff summaries, χ², mode and bimodality (FITTED 0: no mass)."""
     q_e = qe[::se] * se
     g_es = g_e[::se].copy()
@@ -615,8 +659,7 @@ def _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, sh
         return
     row[FITTED] = 1.0
     row[CHI2] = res[0]
-    row[MAP_T], row[MAP_E], row[MAP_R] = res[1], res[2], res[3]
-    row[ROUGH] = rough
+    row[MAP_T] = res[1]
     _stats(0.0, h_e * se, g_es, q_e, row, EBV)
     q_t = qt[::st] * st
     g_ts = g_t[::st].copy()
@@ -635,6 +678,17 @@ def _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, sh
     row[TEFF] = s1 / zt
     row[TEFF + 1] = math.sqrt(max(s2 / zt - (s1 / zt) ** 2, 0.0))
     row[BIMODAL] = 1.0 if _bimodal(g_es, h_e * se, share, dip) else 0.0
+
+
+@njit(cache=True)
+def _histogram_stats(hist, x0, h, mean, second, row, k):
+    """Percentiles of a histogram of masses at x0, x0 + h, ... (:func:`_spread`) and the exact mean and std."""
+    n = hist.size
+    q = np.full(n, h)
+    q[0] = q[-1] = 0.5 * h
+    _stats(x0, h, hist / q, q, row, k)
+    row[k] = mean
+    row[k + 1] = math.sqrt(max(second - mean * mean, 0.0))
 
 
 @njit(cache=True)
@@ -660,7 +714,7 @@ def _roughness(g, step):
 
 @njit(cache=True, parallel=True)
 def fit_stars(
-    mag, weight, model, valid, teff, ebv, rv, qt, qe, qr, av_step, n_av, deltas, bt, be, br,
+    mag, weight, model, valid, teff, ebv, rv, qt, qe, av_step, n_av, deltas, bt, be,
     t_mean, t_sigma, e_mean, e_sigma, e_upper, cut, share, dip, strides, smooth, out,
 ):
     """Posterior summaries of each star on the grid (one row of ``out`` per star).
@@ -669,64 +723,70 @@ def fit_stars(
     ----------
     mag, weight : ndarray, shape (n, n_b)
         Magnitudes and weights 1/σ² (0 marks an unusable band).
-    model : ndarray, shape (n_r, n_t, n_e, n_b)
-        Predicted magnitudes up to the free offset (float32 or float64; the
-        sums are float64).
+    model : ndarray, shape (n_c, n_t, n_e, n_b)
+        The grid (module docstring): n_c = 1 with R_V fixed, 4 (a cubic
+        in R_V) with R_V free; float32 or float64 (the sums are float64).
     valid : ndarray of bool, shape (n_t, n_b)
-    teff, ebv, rv : ndarray
-        The axes (T_eff in K on a uniform ln T grid; E(B−V) and R_V uniform),
-        each of a length 1 + a multiple of its first stride.
-    qt, qe, qr : ndarray
-        Trapezoid weights of the axes (in ln T, E(B−V), R_V): the flat prior.
+    teff, ebv : ndarray
+        The axes (T_eff in K on a uniform ln T grid; E(B−V) uniform), each
+        of a length 1 + a multiple of its first stride.
+    rv : ndarray
+        R_V: one value (fixed) or the range (low, high) of the cubic (free).
+    qt, qe : ndarray
+        Trapezoid weights of the axes (in ln T and E(B−V)): the flat prior.
     av_step, n_av : float, int
-        The A_V axis of the A_V marginal at the finest E(B−V) step: 0,
-        av_step, ... (n_av nodes).
+        The A_V axis of the A_V marginal at the finest E(B−V) step (R_V
+        free): 0, av_step, ... (n_av nodes).
     deltas : (ndarray, ndarray)
         :func:`block_bounds` of ``model``: the coarse blocks' and the blocks'.
-    bt, be, br : int
-        Block sizes along T, E(B−V) and R_V (the coarse blocks': × :data:`SPLIT`).
+    bt, be : int
+        Block sizes along T and E(B−V) (the coarse blocks': × :data:`SPLIT`).
     t_mean, t_sigma, e_mean, e_sigma, e_upper : ndarray, shape (n,)
         Gaussian priors (NaN: none) and upper bounds (inf: none).
     cut : float
         Pruning margin in χ² units.
     share, dip : float
         The bimodality test (:func:`_bimodal`).
-    strides : ndarray of int, shape (3,)
-        The first sweep uses every ``strides[k]``-th node along T, E(B−V) and R_V.
+    strides : ndarray of int, shape (2,)
+        The first sweep uses every ``strides[k]``-th node along T and E(B−V).
     smooth : float
-        Resolution test: while a marginal (E(B−V), T, R_V) changes between
+        Resolution test: while a marginal (E(B−V), T) changes between
         neighbouring sub-grid nodes by more than ``smooth`` × its peak, the
-        sweep is repeated at half the strides.
+        sweep is repeated at half the stride (R_V fixed: both; free: along
+        the rough axis).
     out : ndarray, shape (n, N_OUT)
         Filled in place; NaN where there is no fit.
 
     Notes
     -----
     Pruning bound: χ² = dᵀCd with C = W − wwᵀ/Σw positive semi-definite, so
-    √χ² is a seminorm of d and, for any node θ in a block with centre c,
-    √χ²(θ) ≥ √χ²(c) − ‖v‖ with v = P(θ) − P(c) (triangle inequality).
-    ‖v‖² = min over μ of Σ_b w_b (v_b − μ)² (the offset is free) ≤
-    Σ_b w_b (v_b − s)² for any shift s(θ): with s the mean of v over the
-    bands the locus covers at θ (so that a change common to all bands,
+    √χ² is a seminorm of d and, for any node θ in a block with centre c at
+    the same R_V, √χ²(θ) ≥ √χ²(c) − ‖v‖ with v = P(θ) − P(c) (triangle
+    inequality). ‖v‖² = min over μ of Σ_b w_b (v_b − μ)² (the offset is
+    free) ≤ Σ_b w_b (v_b − s)² for any shift s(θ): with s the mean of v
+    over the bands the locus covers (so that a change common to all bands,
     much of a change of E(B−V), costs nothing), ‖v‖² ≤ Σ_b w_b δ_b², δ_b²
-    the block's largest (v_b − s)² (:func:`block_deltas`, once per grid;
-    rigorous for any star's weights and bands). The prior penalties are
-    bounded by their smallest value over the block's axes. Coarse blocks
-    whose bound exceeds the best centre + ``cut`` are skipped whole; in
-    the others each block gets its own bound, and the best centre found
-    on either level sets the cut.
+    the block's largest (v_b − s)² over its nodes and the R_V range
+    (:func:`block_deltas`, once per grid; for any star's weights and
+    bands). With R_V free √χ²(c) is bounded below over the range by
+    :func:`_rv_floor`. The prior penalties are bounded by
+    their smallest value over the block's axes. Coarse blocks whose bound
+    exceeds the best centre + ``cut`` are skipped whole; in the others
+    each block gets its own bound, and the best centre found on either
+    level sets the cut.
 
     Resolution: a Gaussian marginal of width σ sampled every Δ changes
     between neighbours by at most ≈ (Δ/σ) e^(−½) of its peak, so
     ``smooth`` = 0.35 keeps Δ ≲ 0.58σ; a ridge sampled too coarsely makes
-    the marginals jagged and fails the same test. The roughness at the
-    last sweep is reported (``ROUGH``): at stride 1 a ridge thinner than a
-    step across it leaves the marginals jagged (each node of the other
-    axis samples it at another offset), unbiased on average but noisy.
+    the marginals jagged and fails the same test. At stride 1 a ridge
+    thinner than a step across it leaves the marginals jagged (each node of
+    the other axis samples it at another offset), unbiased on average but
+    noisy.
     """
     n, n_b = mag.shape
-    n_r, n_t, n_e = model.shape[0], model.shape[1], model.shape[2]
-    n_rb, n_tb, n_eb = deltas[1].shape[0], deltas[1].shape[1], deltas[1].shape[2]
+    n_t, n_e = model.shape[0], model.shape[1]
+    n_tb, n_eb = deltas[1].shape[0], deltas[1].shape[1]
+    free = model.shape[3] > 1
     h_e = ebv[1] - ebv[0]
     h_t = math.log(teff[1] / teff[0])
     ln_t0 = math.log(teff[0])
@@ -770,39 +830,33 @@ def fit_stars(
         # pass 1: a lower bound in every coarse block and the best centre, then the same in the
         # (fine) blocks of each coarse block that may matter
         coarse, fine = deltas
-        c_lower = np.empty(coarse.shape[:3])
-        best = _bounds(m, w, idx, s0, model, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT,
-                       c_lower, 0, 0, 0, max(c_lower.shape[1], c_lower.shape[2]), c_lower.shape[0])  # fmt: skip
-        lower = np.full((n_rb, n_tb, n_eb), np.inf)
+        c_lower = np.empty(coarse.shape[:2])
+        best = _bounds(m, w, idx, s0, model, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT, c_lower, 0, 0,
+                       max(c_lower.shape[0], c_lower.shape[1]))  # fmt: skip
+        lower = np.full((n_tb, n_eb), np.inf)
         c_limit = best + cut
-        for crb in range(c_lower.shape[0]):
-            for ctb in range(c_lower.shape[1]):
-                for ceb in range(c_lower.shape[2]):
-                    if c_lower[crb, ctb, ceb] <= c_limit:
-                        found = _bounds(m, w, idx, s0, model, pen_t, pen_e, fine, bt, be, lower,
-                                        crb, ctb, ceb, SPLIT, 1)  # fmt: skip
-                        best = min(best, found)
+        for ctb in range(c_lower.shape[0]):
+            for ceb in range(c_lower.shape[1]):
+                if c_lower[ctb, ceb] <= c_limit:
+                    best = min(best, _bounds(m, w, idx, s0, model, pen_t, pen_e, fine, bt, be, lower, ctb, ceb, SPLIT))
         limit = best + cut  # inf when no centre was allowed: then nothing is skipped
-        # pass 2: sweeps of the kept blocks, each axis's stride halved until it resolves the posterior
-        g_re = np.zeros((n_r, n_e))
+        # pass 2: sweeps of the kept blocks, strides halved until they resolve the posterior
         g_t = np.zeros(n_t)
         g_e = np.zeros(n_e)
-        g_r = np.zeros(n_r)
-        res = np.array([np.inf, -1.0, -1.0, -1.0, np.inf])  # χ²_min, the mode's indices, its χ² + penalty
+        res = np.array([np.inf, -1.0, np.inf])  # χ²_min, the mode's T index, its χ² + penalty
         ref = best if best < np.inf else np.nan
-        st, se, sr = strides[0], strides[1], strides[2]
-        old = np.zeros(3, np.int64)  # the strides of the sweep before (zeros: none); its nodes stay in the sums
-        if n_r > 1:
-            g_u = np.zeros((n_r - 1, 3))
-            av_mom = np.zeros(3)
-            hist = np.zeros(min(int(math.ceil((n_av - 1) / se)) + 1, n_av))
+        st, se = strides[0], strides[1]
+        old = np.zeros(2, np.int64)  # the strides of the sweep before (zeros: none); its nodes stay in the sums
+        if free:
+            r_hist = np.zeros(R_NODES)
+            mom = np.zeros(5)
+            av_hist = np.zeros(min(int(math.ceil((n_av - 1) / se)) + 1, n_av))
             while True:
                 ref = _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old,
-                                rv, ebv, ref, g_e, g_t, g_u, hist, av_step * se, av_mom, res)  # fmt: skip
+                                rv, ebv, ref, g_e, g_t, r_hist, av_hist, av_step * se, mom, res)  # fmt: skip
                 rough_e = _roughness(g_e, se)
                 rough_t = _roughness(g_t, st)
-                rough = max(rough_e, rough_t)
-                if not (st > 1 or se > 1) or (res[1] >= 0 and rough <= smooth):
+                if not (st > 1 or se > 1) or (res[1] >= 0 and max(rough_e, rough_t) <= smooth):
                     break
                 st_new = max(st // 2, 1) if res[1] < 0 or rough_t > smooth else st
                 se_new = max(se // 2, 1) if res[1] < 0 or rough_e > smooth else se
@@ -813,75 +867,35 @@ def fit_stars(
                 g_e *= st_new / st
                 g_t *= se_new / se
                 both = (st_new * se_new) / (st * se)
-                g_u *= both
-                av_mom *= both
-                hist = _refine_histogram(hist, se // se_new, min(int(math.ceil((n_av - 1) / se_new)) + 1, n_av), both)
+                r_hist *= both
+                mom *= both
+                av_hist = _refine_histogram(av_hist, se // se_new,
+                                            min(int(math.ceil((n_av - 1) / se_new)) + 1, n_av), both)  # fmt: skip
                 old[0], old[1] = st, se
                 st, se = st_new, se_new
-            n_a = hist.size
             if res[1] < 0:
                 continue
-            _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
+            _finish(row, res, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
             if not row[FITTED] == 1.0:
                 continue
-            _rv_stats(rv, g_u, row, RV)
-            h_a = av_step * se
-            qa = np.full(n_a, h_a)
-            qa[0] = qa[-1] = 0.5 * h_a
-            for j in range(n_a):
-                hist[j] /= qa[j]
-            _stats(0.0, h_a, hist, qa, row, AV)
-            row[AV] = av_mom[1] / av_mom[0]
-            row[AV + 1] = math.sqrt(max(av_mom[2] / av_mom[0] - row[AV] ** 2, 0.0))
+            _histogram_stats(r_hist, rv[0], (rv[1] - rv[0]) / (R_NODES - 1), mom[1] / mom[0], mom[2] / mom[0],
+                             row, RV)  # fmt: skip
+            _histogram_stats(av_hist, 0.0, av_step * se, mom[3] / mom[0], mom[4] / mom[0], row, AV)
             continue
         while True:
-            ref = _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, br, qt, st, se, sr, old, ref,
-                         g_re, g_t, qe, qr, res)  # fmt: skip
-            g_e[:] = 0.0
-            g_r[:] = 0.0
-            for r in range(0, n_r, sr):
-                for e in range(0, n_e, se):
-                    g_e[e] += qr[r] * sr * g_re[r, e]
-                    g_r[r] += qe[e] * se * g_re[r, e]
-            rough = max(_roughness(g_e, se), _roughness(g_t, st), _roughness(g_r, sr))
-            coarse = st > 1 or se > 1 or sr > 1
-            if not coarse or (res[1] >= 0 and rough <= smooth):
+            ref = _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref,
+                         g_e, g_t, res)  # fmt: skip
+            rough = max(_roughness(g_e, se), _roughness(g_t, st))
+            if not (st > 1 or se > 1) or (res[1] >= 0 and rough <= smooth):
                 break  # (a sweep that found no node is repeated finer: the kept blocks may lie between its nodes)
-            st_new, se_new, sr_new = max(st // 2, 1), max(se // 2, 1), max(sr // 2, 1)
-            g_re *= st_new / st  # reweight the nodes so far for the new strides (g_re holds their T weights)
-            g_t *= (se_new * sr_new) / (se * sr)
-            old[0], old[1], old[2] = st, se, sr
-            st, se, sr = st_new, se_new, sr_new
+            st_new, se_new = max(st // 2, 1), max(se // 2, 1)
+            g_e *= st_new / st  # reweight the nodes so far for the new strides
+            g_t *= se_new / se
+            old[0], old[1] = st, se
+            st, se = st_new, se_new
         if res[1] < 0:
             continue
-        _finish(row, res, rough, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
-        if not row[FITTED] == 1.0:
-            continue
-        # A_V = R_V E(B−V): each (R_V, E) node's mass shared between the two nearest A_V nodes
-        h_a = av_step * se
-        n_a = min(int(math.ceil((n_av - 1) / se)) + 1, n_av)
-        hist = np.zeros(n_a)
-        s1 = 0.0
-        s2 = 0.0
-        z = 0.0
-        for r in range(0, n_r, sr):
-            for e in range(0, n_e, se):
-                mass = qr[r] * sr * qe[e] * se * g_re[r, e]
-                a = rv[r] * ebv[e]
-                z += mass
-                s1 += mass * a
-                s2 += mass * a * a
-                pos = a / h_a
-                j = min(int(pos), n_a - 2)
-                frac = min(max(pos - j, 0.0), 1.0)
-                hist[j] += mass * (1.0 - frac)
-                hist[j + 1] += mass * frac
-        qa = np.full(n_a, h_a)
-        qa[0] = qa[-1] = 0.5 * h_a
-        for j in range(n_a):
-            hist[j] /= qa[j]
-        _stats(0.0, h_a, hist, qa, row, AV)
-        # the exact A_V moments (the histogram smooths them by one A_V step)
-        row[AV] = s1 / z
-        row[AV + 1] = math.sqrt(max(s2 / z - (s1 / z) ** 2, 0.0))
-
+        _finish(row, res, g_e, g_t, se, st, qe, qt, h_e, h_t, ln_t0, teff, share, dip)
+        if row[FITTED] == 1.0:
+            for k in range(7):  # A_V = R_V E(B−V), R_V fixed
+                row[AV + k] = rv[0] * row[EBV + k]

@@ -133,8 +133,7 @@ def test_columns_recovery_and_summary(work, catalog, fitted):
 def test_rv_free_adds_rv_columns(work, catalog):
     """With --rv-free: rv_fit, rv_fit_err after T_eff; R_V inside its range; E(B-V) still within 3 sigma.
 
-    Self-consistency of the fit with the published table (Pecaut & Mamajek 2013); a narrow range keeps the
-    grid small (R_V nodes 3.0 and 3.2 at the default step of 0.2).
+    Self-consistency of the fit with the published table (Pecaut & Mamajek 2013) over a narrow R_V range.
     """
     frame = stars(12, seed=5)
     src, out = work / "free.csv", work / "free.parquet"
