@@ -5,11 +5,11 @@ cached on disk (``cache=True``); :func:`fit_stars` runs over the stars of
 one chunk in parallel threads (``prange``), one star at a time, with
 scratch arrays the size of the grid's axes (never of the whole grid).
 
-The grid is Q[k, t, e, b] at ln T_eff node t and E(B−V) node e. With R_V
+The grid is Q[t, e, b, k] at ln T_eff node t and E(B−V) node e. With R_V
 fixed it holds one term (k = 0): the predicted magnitude of band b up to
 the free offset μ. With R_V free it holds the four coefficients of a cubic
 in x, R_V = r_c + r_h x over the range (x in [−1, 1]):
-P_b(x) = Σ_k Q[k, t, e, b] x^k. For one star with magnitudes m_b and
+P_b(x) = Σ_k Q[t, e, b, k] x^k. For one star with magnitudes m_b and
 weights w_b = 1/σ_b² (0 for an unusable band) the χ² minimised over μ is
 
     χ² = dᵀ C d = Σ w d² − (Σ w d)² / Σ w,   d_b = m_b − P_b,   C = W − w wᵀ / Σ w
@@ -19,7 +19,7 @@ likelihood). With R_V free, χ² at a (T, E(B−V)) node is a polynomial of
 degree 6 in x whose coefficients are ten bilinear forms uᵀ C v of the
 vectors m − Q_0, Q_1, Q_2, Q_3 (:func:`_rv_poly`), all summed in one pass
 over the bands; the R_V integral of exp(−χ²/2) is that of its second-order
-expansion about its smallest value on the range, a Gaussian in x cut to
+expansion about the vertex of its quadratic part, a Gaussian in x cut to
 [−1, 1] (Laplace's method [1]_; :func:`_rv_node`), or a Simpson sum over
 the range where the polynomial is not close enough to that Gaussian.
 
@@ -92,7 +92,7 @@ def block_deltas(model, valid, bt, be):
 
     Parameters
     ----------
-    model : ndarray, shape (n_c, n_t, n_e, n_b)
+    model : ndarray, shape (n_t, n_e, n_b, n_c)
     valid : ndarray of bool, shape (n_t, n_b)
         Whether the locus covers band b at T node t (else ``model`` there is ignored).
     bt, be : int
@@ -723,7 +723,7 @@ def fit_stars(
     ----------
     mag, weight : ndarray, shape (n, n_b)
         Magnitudes and weights 1/σ² (0 marks an unusable band).
-    model : ndarray, shape (n_c, n_t, n_e, n_b)
+    model : ndarray, shape (n_t, n_e, n_b, n_c)
         The grid (module docstring): n_c = 1 with R_V fixed, 4 (a cubic
         in R_V) with R_V free; float32 or float64 (the sums are float64).
     valid : ndarray of bool, shape (n_t, n_b)

@@ -265,7 +265,7 @@ def _curves(curve, r_v_range):
 
 
 class ReddeningFitGrid:
-    """The model grid of the fit: predicted magnitudes over (R_V, T_eff, E(B−V), band), built once.
+    """The model grid of the fit: predicted magnitudes over (T_eff, E(B−V), band; a cubic in R_V), built once.
 
     Parameters
     ----------
@@ -381,7 +381,7 @@ class ReddeningFitGrid:
         self._block = _BLOCK
         self._deltas = kernels.block_bounds(self.model, self.valid, *_BLOCK)
         most = _STRIDE_FREE if self.r_v_free else _STRIDE
-        self._strides = np.array([_first_stride(self.teff.size, most), _first_stride(self.ebv.size, most)])
+        self._strides = np.array([_first_stride(self.teff.size, most), _first_stride(self.ebv.size, most)], np.int64)
 
     @property
     def r_v_free(self):
