@@ -445,6 +445,30 @@ def test_truncated_gaussian_integral_matches_quadrature(c0, c1, y):
     np.testing.assert_allclose(m2, np.trapezoid(f * u * u, u) / z, rtol=1e-4, atol=1e-9)
 
 
+@pytest.mark.parametrize(
+    "coef",
+    [(0.0, 0.0, 0.5, 3.0, 4.0, 0.0, 1.0), (5.0, -2.0, 1.0, 0.5, 2.0, -0.3, 0.2), (0.0, 8.0, 0.0, -6.0, 0.0, 0.0, 0.0)],
+)
+def test_r_v_integral_away_from_a_gaussian_matches_quadrature(coef):
+    """Where chi2(x) is far from its second-order expansion the node integral (Simpson's rule) is still right.
+
+    Source: the integral of exp(-chi2/2) over [-1, 1] and its first two moments for polynomials whose
+    terms of degree 3 and more are large (so Laplace's method is not used), against the trapezoid
+    rule on 200,001 points (mathematical identity, no source). Tolerance 1e-4 relative: Simpson's
+    rule on 64 intervals for these smooth integrands.
+    """
+    from redcorr._reddening_kernels import _rv_node
+
+    a = np.array([*coef, 0.0, 0.0])
+    base, mass, mean, m2 = _rv_node(a)
+    x = np.linspace(-1.0, 1.0, 200001)
+    f = np.exp(-0.5 * (np.polynomial.polynomial.polyval(x, coef) - base))
+    z = np.trapezoid(f, x)
+    np.testing.assert_allclose(mass, z, rtol=1e-4)
+    np.testing.assert_allclose(mean, np.trapezoid(f * x, x) / z, rtol=1e-4, atol=1e-6)
+    np.testing.assert_allclose(m2, np.trapezoid(f * x * x, x) / z, rtol=1e-4)
+
+
 def _law_grids(bands, locus, r_v, **grid):
     """The model of R_V-fixed grids at each of ``r_v`` (the law itself), shape (n_r, n_t, n_e, n_band)."""
     return np.stack([ReddeningFitGrid(bands, LOCUS_T, locus, get_curve("f99", r_v=r), **grid).model[..., 0]
