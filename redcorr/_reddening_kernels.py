@@ -5,11 +5,12 @@ cached on disk (``cache=True``); :func:`fit_stars` runs over the stars of
 one chunk in parallel threads (``prange``), one star at a time, with
 scratch arrays the size of the grid's axes (never of the whole grid).
 
-The grid is Q[t, e, b, k] at ln T_eff node t and E(B−V) node e. With R_V
-fixed it holds one term (k = 0): the predicted magnitude of band b up to
+The grid is Q[t, s, b, k] at ln T_eff node t and E(B−V) node e in slot
+s = slot[e] (:func:`sweep_order`: each sweep reads the nodes it visits in
+memory order). With R_V fixed it holds one term (k = 0): the predicted magnitude of band b up to
 the free offset μ. With R_V free it holds the four coefficients of a cubic
 in x, R_V = r_c + r_h x over the range (x in [−1, 1]):
-P_b(x) = Σ_k Q[t, e, b, k] x^k. For one star with magnitudes m_b and
+P_b(x) = Σ_k Q[t, slot[e], b, k] x^k. For one star with magnitudes m_b and
 weights w_b = 1/σ_b² (0 for an unusable band) the χ² minimised over μ is
 
     χ² = dᵀ C d = Σ w d² − (Σ w d)² / Σ w,   d_b = m_b − P_b,   C = W − w wᵀ / Σ w
@@ -50,7 +51,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["block_bounds", "block_deltas", "fit_stars", "N_OUT", "SPLIT"]
+__all__ = ["block_bounds", "block_deltas", "fit_stars", "sweep_order", "N_OUT", "SPLIT"]
 
 # Columns of fit_stars' output rows.
 STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
@@ -79,6 +80,30 @@ def _block_span(k, size, n):
     return lo, hi, (lo + hi - 1) // 2
 
 
+def sweep_order(n, stride):
+    """The order in which the grid stores the n nodes of an axis swept first at ``stride`` (a power of 2).
+
+    The first sweep visits the nodes k·stride, each finer sweep the nodes
+    half-way between those before (:func:`fit_stars`); stored in that
+    order (each group in increasing order), every sweep reads its nodes of
+    a row in sequence, which the processor's prefetching follows (the
+    nodes of a grid row in plain order at stride 8 use a quarter of each
+    memory line the R_V-free sweep loads).
+
+    Returns
+    -------
+    ndarray of int, shape (n,)
+        The node in each slot; its inverse (``np.argsort``) is each node's slot.
+    """
+    node = np.arange(n)
+    level = np.zeros(n, np.int64)  # 0: the first sweep's nodes, j: those added at stride / 2^j
+    step = stride
+    while step > 1:
+        step //= 2
+        level[(node % step == 0) & (level == 0) & (node % stride != 0)] = int(math.log2(stride // step))
+    return np.lexsort((node, level))
+
+
 @njit(cache=True)
 def block_deltas(model, valid, bt, be):
     """Largest squared change of each band's model within each block of ``bt`` × ``be`` nodes, from its centre.
@@ -93,6 +118,7 @@ def block_deltas(model, valid, bt, be):
     Parameters
     ----------
     model : ndarray, shape (n_t, n_e, n_b, n_c)
+        The grid with its E(B−V) nodes in plain order (not in slots).
     valid : ndarray of bool, shape (n_t, n_b)
         Whether the locus covers band b at T node t (else ``model`` there is ignored).
     bt, be : int
@@ -195,22 +221,24 @@ def _bimodal(g, h, share, dip):
 
 
 @njit(cache=True, inline="always")
-def _rv_poly(m, w, idx, s0, model, t, e, a):
-    """χ² at node (t, e) as a polynomial in x (R_V free): ``a[j]`` the coefficient of x^j, j = 0…6.
+def _rv_poly(m, w, idx, s0, model, t, s):
+    """χ² at the node in row t, slot s as a polynomial in x (R_V free): a tuple ``a``, a[j] the coefficient of x^j.
 
     With v_0 = m − Q_0 and v_k = Q_k, d(x) = v_0 − x v_1 − x² v_2 − x³ v_3
-    and χ²(x) = Σ_kl c_k c_l G_kl, c = (1, −x, −x², −x³), G_kl = v_kᵀ C v_l.
-    Also ``a[7]``, ``a[8]`` = G_11, G_22 (for :func:`_rv_floor`).
+    and χ²(x) = Σ_kl c_k c_l G_kl, c = (1, −x, −x², −x³), G_kl = v_kᵀ C v_l:
+    a[0…6], then a[7], a[8] = G_11, G_22 (for :func:`_rv_floor`). A tuple,
+    not an array: the sweeps' hot loop then keeps no array references to
+    count.
     """
     s_0 = s_1 = s_2 = s_3 = 0.0
     s00 = s01 = s02 = s03 = s11 = s12 = s13 = s22 = s23 = s33 = 0.0
     every = idx.size == model.shape[2]  # every band used: idx[k] = k
     for k in range(idx.size):
         b = k if every else idx[k]
-        v0 = m[k] - model[t, e, b, 0]
-        v1 = model[t, e, b, 1]
-        v2 = model[t, e, b, 2]
-        v3 = model[t, e, b, 3]
+        v0 = m[k] - model[t, s, b, 0]
+        v1 = model[t, s, b, 1]
+        v2 = model[t, s, b, 2]
+        v3 = model[t, s, b, 3]
         w0 = w[k] * v0
         w1 = w[k] * v1
         w2 = w[k] * v2
@@ -231,27 +259,40 @@ def _rv_poly(m, w, idx, s0, model, t, e, a):
     r = 1.0 / s0
     g11 = s11 - s_1 * s_1 * r
     g22 = s22 - s_2 * s_2 * r
-    a[0] = s00 - s_0 * s_0 * r
-    a[1] = -2.0 * (s01 - s_0 * s_1 * r)
-    a[2] = g11 - 2.0 * (s02 - s_0 * s_2 * r)
-    a[3] = 2.0 * ((s12 - s_1 * s_2 * r) - (s03 - s_0 * s_3 * r))
-    a[4] = g22 + 2.0 * (s13 - s_1 * s_3 * r)
-    a[5] = 2.0 * (s23 - s_2 * s_3 * r)
-    a[6] = s33 - s_3 * s_3 * r
-    a[7] = g11
-    a[8] = g22
+    return (
+        s00 - s_0 * s_0 * r,
+        -2.0 * (s01 - s_0 * s_1 * r),
+        g11 - 2.0 * (s02 - s_0 * s_2 * r),
+        2.0 * ((s12 - s_1 * s_2 * r) - (s03 - s_0 * s_3 * r)),
+        g22 + 2.0 * (s13 - s_1 * s_3 * r),
+        2.0 * (s23 - s_2 * s_3 * r),
+        s33 - s_3 * s_3 * r,
+        g11,
+        g22,
+    )
 
 
 @njit(cache=True, inline="always")
 def _poly(a, x):
-    """Value, first and second derivative at x of Σ_j a[j] x^j, j = 0…6 (Horner)."""
+    """Value, first and second derivative at x of Σ_j a[j] x^j, j = 0…6 (Horner; ``a`` a tuple, hence unrolled)."""
     p = a[6]
-    d1 = 0.0
-    d2 = 0.0
-    for j in range(5, -1, -1):
-        d2 = d2 * x + d1
-        d1 = d1 * x + p
-        p = p * x + a[j]
+    d1 = p
+    p = p * x + a[5]
+    d2 = d1
+    d1 = d1 * x + p
+    p = p * x + a[4]
+    d2 = d2 * x + d1
+    d1 = d1 * x + p
+    p = p * x + a[3]
+    d2 = d2 * x + d1
+    d1 = d1 * x + p
+    p = p * x + a[2]
+    d2 = d2 * x + d1
+    d1 = d1 * x + p
+    p = p * x + a[1]
+    d2 = d2 * x + d1
+    d1 = d1 * x + p
+    p = p * x + a[0]
     return p, d1, 2.0 * d2
 
 
@@ -279,8 +320,15 @@ def _rv_floor(a):
     return gap * gap if gap > 0.0 else 0.0
 
 
+@njit(cache=True, inline="always")
+def _rv_excluded(a, room):
+    """Whether :func:`_rv_floor` exceeds ``room``; its square roots only where G_00 − 2 x G_01 + x² G_11
+    at the range's end toward its vertex (an upper bound of the floor) does not settle it."""
+    return a[0] - abs(a[1]) + a[7] > room and _rv_floor(a) > room
+
+
 @njit(cache=True)
-def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e, split):
+def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e, split):
     """Lower bounds of χ² + prior penalty in blocks (sizes bt, be; deltas from :func:`block_bounds`).
 
     The blocks are those of indices k·split to (k + 1)·split − 1 along T and
@@ -294,7 +342,6 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e,
     n_t, n_e = model.shape[0], model.shape[1]
     n_tb, n_eb = deltas.shape[0], deltas.shape[1]
     free = model.shape[3] > 1
-    a = np.empty(9)
     best = np.inf
     for tb in range(k_t * split, min((k_t + 1) * split, n_tb)):
         t0, t1, tc = _block_span(tb, bt, n_t)
@@ -316,14 +363,14 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e,
             for k in range(nb):
                 rad += w[k] * deltas[tb, eb, idx[k]]
             if free:  # χ² at the vertex of the quadratic part (a value reached), and a lower bound
-                _rv_poly(m, w, idx, s0, model, tc, ec, a)
+                a = _rv_poly(m, w, idx, s0, model, tc, slot[ec])
                 c = _poly(a, _rv_vertex(a))[0]
                 low = _rv_floor(a)
             else:
                 s1 = 0.0
                 s2 = 0.0
                 for k in range(nb):
-                    d = m[k] - model[tc, ec, idx[k], 0]
+                    d = m[k] - model[tc, slot[ec], idx[k], 0]
                     s1 += w[k] * d
                     s2 += w[k] * d * d
                 c = low = max(s2 - s1 * s1 / s0, 0.0)
@@ -334,7 +381,15 @@ def _bounds(m, w, idx, s0, model, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e,
 
 
 @njit(cache=True)
-def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref, g_e, g_t, res):
+def _scale(x, factor):
+    """x *= factor in place, element by element: an array that ``*=`` rebinds inside a loop gets its
+    reference counted at every pass of the loop."""
+    for j in range(x.size):
+        x[j] *= factor
+
+
+@njit(cache=True)
+def _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref, g_e, g_t, res):
     """Accumulate the posterior (R_V fixed) over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se) of the kept blocks.
 
     ``g_e`` and ``g_t`` receive the marginal densities of E(B−V) and ln T
@@ -344,7 +399,8 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st,
     a skipped block are. The nodes of an earlier sweep at the strides
     ``old`` (zeros: none), already in the sums, are not visited again.
     ``res`` holds χ²_min, the mode's T index (−1: no node) and its
-    χ² + penalty, and is updated. Returns ``ref``.
+    χ² + penalty, and is updated. Returns ``ref``. The nodes are visited row
+    by row (the kept blocks of a row in turn), each row's in slot order.
     """
     nb = idx.size
     every = nb == model.shape[2]  # every band used: idx[k] = k
@@ -354,30 +410,31 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st,
     st_o, se_o = old[0], old[1]
     for tb in range(n_tb):
         t0, t1, _ = _block_span(tb, bt, n_t)
-        for eb in range(n_eb):
-            if not lower[tb, eb] <= limit:
+        for t in range((t0 + st - 1) // st * st, t1, st):
+            p_t = pen_t[t]
+            if p_t == np.inf:
                 continue
-            e0, e1, _ = _block_span(eb, be, n_e)
-            for t in range((t0 + st - 1) // st * st, t1, st):
-                p_t = pen_t[t]
-                if p_t == np.inf:
+            t_old = st_o > 0 and t % st_o == 0
+            q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
+            row_sum = 0.0
+            for eb in range(n_eb):
+                if not lower[tb, eb] <= limit:
                     continue
-                t_old = st_o > 0 and t % st_o == 0
-                q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
-                row_sum = 0.0
+                e0, e1, _ = _block_span(eb, be, n_e)
                 for e in range((e0 + se - 1) // se * se, e1, se):
                     if pen_e[e] == np.inf or (t_old and e % se_o == 0):
                         continue
+                    s = slot[e]
                     s1 = 0.0
                     s2 = 0.0
                     if every:
                         for k in range(nb):
-                            d = m[k] - model[t, e, k, 0]
+                            d = m[k] - model[t, s, k, 0]
                             s1 += w[k] * d
                             s2 += w[k] * d * d
                     else:
                         for k in range(nb):
-                            d = m[k] - model[t, e, idx[k], 0]
+                            d = m[k] - model[t, s, idx[k], 0]
                             s1 += w[k] * d
                             s2 += w[k] * d * d
                     c = max(s2 - s1 * s1 / s0, 0.0)
@@ -392,20 +449,20 @@ def _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st,
                         ref = tot
                     if tot < ref - _RESCALE:
                         scale = math.exp(-0.5 * (ref - tot))
-                        g_e *= scale
-                        g_t *= scale
+                        _scale(g_e, scale)
+                        _scale(g_t, scale)
                         row_sum *= scale
                         ref = tot
                     f = math.exp(-0.5 * (tot - ref))
                     g_e[e] += f * q_t
                     row_sum += f * qe[e] * se
-                g_t[t] += row_sum
+            g_t[t] += row_sum
     res[0], res[1], res[2] = chi_min, map_t, tot_min
     return ref
 
 
 @njit(cache=True)
-def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, r_range, ebv,
+def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, r_range, ebv,
               ref, g_e, g_t, r_hist, av_hist, av_h, mom, res):  # fmt: skip
     """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral (:func:`_rv_node`).
 
@@ -422,30 +479,29 @@ def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt,
     r_c = 0.5 * (r_range[0] + r_range[1])
     r_h = 0.5 * (r_range[1] - r_range[0])
     h_r = (r_range[1] - r_range[0]) / (r_hist.size - 1)
-    a = np.empty(9)
     chi_min, map_t, tot_min = res[0], int(res[1]), res[2]
     st_o, se_o = old[0], old[1]
     for tb in range(n_tb):
         t0, t1, _ = _block_span(tb, bt, n_t)
-        for eb in range(n_eb):
-            if not lower[tb, eb] <= limit:
+        for t in range((t0 + st - 1) // st * st, t1, st):
+            p_t = pen_t[t]
+            if p_t == np.inf:
                 continue
-            e0, e1, _ = _block_span(eb, be, n_e)
-            for t in range((t0 + st - 1) // st * st, t1, st):
-                p_t = pen_t[t]
-                if p_t == np.inf:
+            t_old = st_o > 0 and t % st_o == 0
+            if t_old and se_o == se:
+                continue
+            q_t = qt[t] * st
+            row_sum = 0.0
+            for eb in range(n_eb):
+                if not lower[tb, eb] <= limit:
                     continue
-                t_old = st_o > 0 and t % st_o == 0
-                if t_old and se_o == se:
-                    continue
-                q_t = qt[t] * st
-                row_sum = 0.0
+                e0, e1, _ = _block_span(eb, be, n_e)
                 for e in range((e0 + se - 1) // se * se, e1, se):
                     pen = p_t + pen_e[e]
                     if pen == np.inf or (t_old and e % se_o == 0):
                         continue
-                    _rv_poly(m, w, idx, s0, model, t, e, a)
-                    if _rv_floor(a) + pen > limit:  # (as a skipped block's nodes)
+                    a = _rv_poly(m, w, idx, s0, model, t, slot[e])
+                    if _rv_excluded(a, limit - pen):  # (as a skipped block's nodes)
                         continue
                     base, mass, mx, mx2 = _rv_node(a)
                     chi_min = min(chi_min, base)
@@ -459,11 +515,11 @@ def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt,
                         ref = tot
                     if tot < ref - _RESCALE:
                         scale = math.exp(-0.5 * (ref - tot))
-                        g_e *= scale
-                        g_t *= scale
-                        r_hist *= scale
-                        av_hist *= scale
-                        mom *= scale
+                        _scale(g_e, scale)
+                        _scale(g_t, scale)
+                        _scale(r_hist, scale)
+                        _scale(av_hist, scale)
+                        _scale(mom, scale)
                         row_sum *= scale
                         ref = tot
                     f = math.exp(-0.5 * (tot - ref)) * mass
@@ -481,7 +537,7 @@ def _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt,
                     mom[4] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
                     _spread(r_hist, r_range[0], h_r, r_mean, r_var, wq)
                     _spread(av_hist, 0.0, av_h, ebv_e * r_mean, ebv_e * ebv_e * r_var, wq)
-                g_t[t] += row_sum
+            g_t[t] += row_sum
     res[0], res[1], res[2] = chi_min, map_t, tot_min
     return ref
 
@@ -714,7 +770,7 @@ def _roughness(g, step):
 
 @njit(cache=True, parallel=True)
 def fit_stars(
-    mag, weight, model, valid, teff, ebv, rv, qt, qe, av_step, n_av, deltas, bt, be,
+    mag, weight, model, slot, valid, teff, ebv, rv, qt, qe, av_step, n_av, deltas, bt, be,
     t_mean, t_sigma, e_mean, e_sigma, e_upper, cut, share, dip, strides, smooth, out,
 ):
     """Posterior summaries of each star on the grid (one row of ``out`` per star).
@@ -724,8 +780,11 @@ def fit_stars(
     mag, weight : ndarray, shape (n, n_b)
         Magnitudes and weights 1/σ² (0 marks an unusable band).
     model : ndarray, shape (n_t, n_e, n_b, n_c)
-        The grid (module docstring): n_c = 1 with R_V fixed, 4 (a cubic
-        in R_V) with R_V free; float32 or float64 (the sums are float64).
+        The grid (module docstring), E(B−V) node e in slot ``slot[e]``:
+        n_c = 1 with R_V fixed, 4 (a cubic in R_V) with R_V free; float32
+        or float64 (the sums are float64).
+    slot : ndarray of int, shape (n_e,)
+        The inverse of :func:`sweep_order` for the first stride along E(B−V).
     valid : ndarray of bool, shape (n_t, n_b)
     teff, ebv : ndarray
         The axes (T_eff in K on a uniform ln T grid; E(B−V) uniform), each
@@ -738,7 +797,7 @@ def fit_stars(
         The A_V axis of the A_V marginal at the finest E(B−V) step (R_V
         free): 0, av_step, ... (n_av nodes).
     deltas : (ndarray, ndarray)
-        :func:`block_bounds` of ``model``: the coarse blocks' and the blocks'.
+        :func:`block_bounds` of the grid (in node order): the coarse blocks' and the blocks'.
     bt, be : int
         Block sizes along T and E(B−V) (the coarse blocks': × :data:`SPLIT`).
     t_mean, t_sigma, e_mean, e_sigma, e_upper : ndarray, shape (n,)
@@ -831,14 +890,15 @@ def fit_stars(
         # (fine) blocks of each coarse block that may matter
         coarse, fine = deltas
         c_lower = np.empty(coarse.shape[:2])
-        best = _bounds(m, w, idx, s0, model, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT, c_lower, 0, 0,
+        best = _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT, c_lower, 0, 0,
                        max(c_lower.shape[0], c_lower.shape[1]))  # fmt: skip
         lower = np.full((n_tb, n_eb), np.inf)
         c_limit = best + cut
         for ctb in range(c_lower.shape[0]):
             for ceb in range(c_lower.shape[1]):
                 if c_lower[ctb, ceb] <= c_limit:
-                    best = min(best, _bounds(m, w, idx, s0, model, pen_t, pen_e, fine, bt, be, lower, ctb, ceb, SPLIT))
+                    fine_best = _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, fine, bt, be, lower, ctb, ceb, SPLIT)
+                    best = min(best, fine_best)
         limit = best + cut  # inf when no centre was allowed: then nothing is skipped
         # pass 2: sweeps of the kept blocks, strides halved until they resolve the posterior
         g_t = np.zeros(n_t)
@@ -852,8 +912,8 @@ def fit_stars(
             mom = np.zeros(5)
             av_hist = np.zeros(min(int(math.ceil((n_av - 1) / se)) + 1, n_av))
             while True:
-                ref = _sweep_rv(m, w, idx, s0, model, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old,
-                                rv, ebv, ref, g_e, g_t, r_hist, av_hist, av_step * se, mom, res)  # fmt: skip
+                ref = _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se,
+                                old, rv, ebv, ref, g_e, g_t, r_hist, av_hist, av_step * se, mom, res)  # fmt: skip
                 rough_e = _roughness(g_e, se)
                 rough_t = _roughness(g_t, st)
                 if not (st > 1 or se > 1) or (res[1] >= 0 and max(rough_e, rough_t) <= smooth):
@@ -883,7 +943,7 @@ def fit_stars(
             _histogram_stats(av_hist, 0.0, av_step * se, mom[3] / mom[0], mom[4] / mom[0], row, AV)
             continue
         while True:
-            ref = _sweep(m, w, idx, s0, model, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref,
+            ref = _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref,
                          g_e, g_t, res)  # fmt: skip
             rough = max(_roughness(g_e, se), _roughness(g_t, st))
             if not (st > 1 or se > 1) or (res[1] >= 0 and rough <= smooth):

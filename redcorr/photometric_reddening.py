@@ -373,15 +373,29 @@ class ReddeningFitGrid:
         if r_v_nodes.size > 1:  # the cubic's coefficients in x through the four nodes
             model = np.tensordot(np.linalg.inv(np.vander(_RV_X, 4, increasing=True)), model, axes=1)
         # float32: 1e-6 mag at 20 mag, far below any error, and half the memory traffic of the fit's sweeps
-        self.model = np.ascontiguousarray(np.moveaxis(model, 0, -1), dtype=np.float32)  # (T, E, band, term)
+        model = np.ascontiguousarray(np.moveaxis(model, 0, -1), dtype=np.float32)  # (T, E, band, term)
         self.law = curves[0].name
         from redcorr import _reddening_kernels as kernels  # noqa: PLC0415 - numba loads on first use
 
         self._kernels = kernels
         self._block = _BLOCK
-        self._deltas = kernels.block_bounds(self.model, self.valid, *_BLOCK)
+        self._deltas = kernels.block_bounds(model, self.valid, *_BLOCK)
         most = _STRIDE_FREE if self.r_v_free else _STRIDE
         self._strides = np.array([_first_stride(self.teff.size, most), _first_stride(self.ebv.size, most)], np.int64)
+        order = kernels.sweep_order(self.ebv.size, self._strides[1])
+        self._slot = np.argsort(order)
+        self._stored = np.ascontiguousarray(model[:, order])  # E(B−V) nodes in the sweeps' order
+
+    @property
+    def model(self):
+        """ndarray, shape (n_T, n_E, n_band, n_term): the grid in the axes' order (a copy).
+
+        With R_V fixed (one term) the predicted magnitude of each band up to
+        the free offset; with R_V free the four coefficients of the cubic in
+        x (module docstring, "R_V free"). Stored with its E(B−V) nodes in the
+        order the fit visits them.
+        """
+        return self._stored[:, self._slot]
 
     @property
     def r_v_free(self):
@@ -453,7 +467,7 @@ class ReddeningFitGrid:
                 usable = np.isfinite(mm) & np.isfinite(ee) & (ee > 0)
                 weight = np.where(usable, 1.0 / (np.where(usable, ee, 1.0) ** 2 + self.floor**2), 0.0)
             kernels.fit_stars(
-                np.where(usable, mm, 0.0), weight, self.model, self.valid, self.teff, self.ebv, self.r_v,
+                np.where(usable, mm, 0.0), weight, self._stored, self._slot, self.valid, self.teff, self.ebv, self.r_v,
                 qt, qe, av, n_av, self._deltas, *self._block,
                 t_mean[sl], t_sigma[sl], e_mean[sl], e_sigma[sl], e_up[sl],
                 PRUNE_CHI2, BIMODAL_SHARE, BIMODAL_DIP, self._strides, SMOOTH, out[sl],
