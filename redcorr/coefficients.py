@@ -11,6 +11,7 @@ colours of the blackbodies (:func:`redcorr.photometry.flat_fnu_mag`).
 E(B−V) is the curve's own, A_V / R_V (see :mod:`redcorr.extinction`).
 """
 
+import functools
 import warnings
 
 import numpy as np
@@ -115,10 +116,19 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
     ratio0 = np.einsum("btn,bn->bt", w, r) / den
     r_min = r.min(-1)
     e = 10.0 ** (-0.4 * avs[None, :, None] * (r - r_min[:, None])[:, None, :])  # (B, A, n)
-    num = np.matmul(w, e.transpose(0, 2, 1))  # (B, T, A)
-    a_b = avs * r_min[:, None, None] - 2.5 * np.log10(num / den[..., None])
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ratio = np.where(avs > 0, a_b / np.where(avs > 0, avs, 1.0), ratio0[..., None])
+    # A_b = A_V r_min − 2.5 log10(num / den), then A_b / A_V, in place in num's (B, T, A) array: the
+    # cube can be tens of MB (the per-star fit's grids), and each temporary of that size costs its
+    # allocation and first touch
+    ratio = np.matmul(w, e.transpose(0, 2, 1))  # num, (B, T, A)
+    ratio /= den[..., None]
+    with np.errstate(divide="ignore"):
+        np.log10(ratio, out=ratio)
+    ratio *= 2.5
+    np.subtract(avs * r_min[:, None, None], ratio, out=ratio)
+    k0 = 1 if avs[0] == 0 else 0  # (A_V increases from >= 0: only the first can be 0)
+    ratio[..., k0:] /= avs[k0:]
+    if k0:
+        ratio[..., 0] = ratio0
     # Unreddened AB magnitude up to one constant shared by all bands.
     mag0 = flat_fnu_mag(nodes[:, None, :], planck, weights[:, None, :], log_scale=log_shift)
     meta = {
@@ -171,8 +181,11 @@ class CoefficientGrid:
             raise InputError(f"grid shapes do not match: ratio {self.ratio.shape}, expected {expect}")
         self.meta = dict(meta or {})
         self._log_t = np.log(self.temperatures)
-        # (T·A, B): one contiguous row of band ratios per grid node, for fast gathers.
-        self._ratio_flat = np.ascontiguousarray(np.moveaxis(self.ratio, 0, -1)).reshape(-1, len(self.bands))
+
+    @functools.cached_property
+    def _ratio_flat(self):
+        """(T·A, B): one contiguous row of band ratios per grid node, for fast gathers (made on first lookup)."""
+        return np.ascontiguousarray(np.moveaxis(self.ratio, 0, -1)).reshape(-1, len(self.bands))
 
     def inside(self, a_v, temperature):
         """bool ndarray: whether (a_v, temperature) lies inside the grid (NaN → False)."""
