@@ -105,7 +105,7 @@ def sweep_order(n, stride):
 
 
 @njit(cache=True)
-def block_deltas(model, valid, bt, be):
+def block_deltas(model, slot, valid, bt, be):
     """Largest squared change of each band's model within each block of ``bt`` × ``be`` nodes, from its centre.
 
     A block is centred on its middle node. The change at x is
@@ -118,7 +118,8 @@ def block_deltas(model, valid, bt, be):
     Parameters
     ----------
     model : ndarray, shape (n_t, n_e, n_b, n_c)
-        The grid with its E(B−V) nodes in plain order (not in slots).
+        The grid, E(B−V) node e in slot ``slot[e]``.
+    slot : ndarray of int, shape (n_e,)
     valid : ndarray of bool, shape (n_t, n_b)
         Whether the locus covers band b at T node t (else ``model`` there is ignored).
     bt, be : int
@@ -144,20 +145,20 @@ def block_deltas(model, valid, bt, be):
                         n_valid = 0
                         for b in range(n_b):
                             if valid[t, b] and valid[tc, b]:
-                                shift += model[t, e, b, k] - model[tc, ec, b, k]
+                                shift += model[t, slot[e], b, k] - model[tc, slot[ec], b, k]
                                 n_valid += 1
                         shift = shift / n_valid if n_valid > 0 else 0.0
                         for b in range(n_b):
-                            size[b] += abs(model[t, e, b, k] - model[tc, ec, b, k] - shift)
+                            size[b] += abs(model[t, slot[e], b, k] - model[tc, slot[ec], b, k] - shift)
                     for b in range(n_b):
                         if valid[t, b]:
                             out[tb, eb, b] = max(out[tb, eb, b], size[b] * size[b])
     return out
 
 
-def block_bounds(model, valid, bt, be):
+def block_bounds(model, slot, valid, bt, be):
     """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them."""
-    return block_deltas(model, valid, bt * SPLIT, be * SPLIT), block_deltas(model, valid, bt, be)
+    return block_deltas(model, slot, valid, bt * SPLIT, be * SPLIT), block_deltas(model, slot, valid, bt, be)
 
 
 @njit(cache=True)
@@ -380,6 +381,22 @@ def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t
     return best
 
 
+@njit(cache=True, inline="always")
+def _row_nodes(e0, se, se_o, t_old):
+    """The first node at or after e0 and the step of a sweep at stride se along E(B−V) within a row.
+
+    In a row an earlier sweep visited (``t_old``) at the stride se_o = 2 se
+    the nodes at multiples of se_o are in the sums already: only the odd
+    multiples of se are visited.
+    """
+    e_first = (e0 + se - 1) // se * se
+    if not t_old:
+        return e_first, se
+    if e_first % se_o == 0:
+        e_first += se
+    return e_first, se_o
+
+
 @njit(cache=True)
 def _scale(x, factor):
     """x *= factor in place, element by element: an array that ``*=`` rebinds inside a loop gets its
@@ -415,14 +432,17 @@ def _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, q
             if p_t == np.inf:
                 continue
             t_old = st_o > 0 and t % st_o == 0
+            if t_old and se_o == se:  # (every node of the row is in the sums)
+                continue
             q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
             row_sum = 0.0
             for eb in range(n_eb):
                 if not lower[tb, eb] <= limit:
                     continue
                 e0, e1, _ = _block_span(eb, be, n_e)
-                for e in range((e0 + se - 1) // se * se, e1, se):
-                    if pen_e[e] == np.inf or (t_old and e % se_o == 0):
+                e_first, step = _row_nodes(e0, se, se_o, t_old)
+                for e in range(e_first, e1, step):
+                    if pen_e[e] == np.inf:
                         continue
                     s = slot[e]
                     s1 = 0.0
@@ -478,7 +498,8 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
     n_tb, n_eb = lower.shape
     r_c = 0.5 * (r_range[0] + r_range[1])
     r_h = 0.5 * (r_range[1] - r_range[0])
-    h_r = (r_range[1] - r_range[0]) / (r_hist.size - 1)
+    per_r = (r_hist.size - 1) / (r_range[1] - r_range[0])  # R_V histogram nodes per unit R_V
+    per_av = 1.0 / av_h
     chi_min, map_t, tot_min = res[0], int(res[1]), res[2]
     st_o, se_o = old[0], old[1]
     for tb in range(n_tb):
@@ -496,12 +517,13 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
                 if not lower[tb, eb] <= limit:
                     continue
                 e0, e1, _ = _block_span(eb, be, n_e)
-                for e in range((e0 + se - 1) // se * se, e1, se):
+                e_first, step = _row_nodes(e0, se, se_o, t_old)
+                for e in range(e_first, e1, step):
                     pen = p_t + pen_e[e]
-                    if pen == np.inf or (t_old and e % se_o == 0):
+                    if pen == np.inf:
                         continue
                     a = _rv_poly(m, w, idx, s0, model, t, slot[e])
-                    if _rv_excluded(a, limit - pen):  # (as a skipped block's nodes)
+                    if _rv_excluded(a, min(limit, tot_min + cut) - pen):  # (as a skipped block's nodes)
                         continue
                     base, mass, mx, mx2 = _rv_node(a)
                     chi_min = min(chi_min, base)
@@ -535,8 +557,9 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
                     mom[2] += wq * (r_var + r_mean * r_mean)
                     mom[3] += wq * ebv_e * r_mean
                     mom[4] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
-                    _spread(r_hist, r_range[0], h_r, r_mean, r_var, wq)
-                    _spread(av_hist, 0.0, av_h, ebv_e * r_mean, ebv_e * ebv_e * r_var, wq)
+                    r_half = math.sqrt(3.0 * r_var)
+                    _spread(r_hist, (r_mean - r_range[0]) * per_r, r_half * per_r, wq)
+                    _spread(av_hist, ebv_e * r_mean * per_av, ebv_e * r_half * per_av, wq)
             g_t[t] += row_sum
     res[0], res[1], res[2] = chi_min, map_t, tot_min
     return ref
@@ -545,12 +568,13 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
 _SQRT2 = math.sqrt(2.0)
 _SQRT2PI = math.sqrt(2.0 * math.pi)
 _Y_LINEAR = 1e-3  # below this curvature (χ² units over an interval) the exponent is taken linear in u
+_TAIL_DIRECT = 25.0  # up to this x, exp(x²/2) Φc(x) from erfc directly (no underflow: erfc(25/√2) ~ 1e−138)
 
 
 @njit(cache=True)
 def _tail(x):
     """exp(x²/2) Φc(x) for x >= 0 (Φc the upper tail of the unit normal), without overflow."""
-    if x < 25.0:
+    if x < _TAIL_DIRECT:
         return 0.5 * math.exp(0.5 * x * x) * math.erfc(x / _SQRT2)
     r = 1.0 / (x * x)  # asymptotic series (Abramowitz & Stegun 1964, eq. 7.1.23): rel. error < 1e-9 here
     return (1.0 - r * (1.0 - r * (3.0 - 15.0 * r))) / (x * _SQRT2PI)
@@ -649,6 +673,31 @@ def _rv_simpson(a):
 
 
 @njit(cache=True)
+def _cut_below(c, v, sd):
+    """(base, mass, mean, m2) as :func:`_rv_node` gives them for exp(−½ (c + (x − v)²/sd²)) over x >= −1.
+
+    A normal cut at one end (Johnson, Kotz & Balakrishnan 1994, Sect. 10.1;
+    from memory): with α = (−1 − v)/sd and λ = φ(α)/Φc(α), the mean is
+    v + sd λ and the variance sd² (1 + α λ − λ²). For α > 0 (the vertex below
+    −1) base is χ² at −1 and Φc and φ are both taken × exp(α²/2)
+    (:func:`_tail`); the caller keeps α below :data:`_TAIL_DIRECT`, where
+    that is computed from erfc directly.
+    """
+    al = (-1.0 - v) / sd
+    if al > 0.0:
+        base = c + al * al
+        z = _tail(al)
+        lam = 1.0 / (_SQRT2PI * z)
+    else:
+        base = c
+        z = 0.5 * math.erfc(al / _SQRT2)
+        lam = math.exp(-0.5 * al * al) / (_SQRT2PI * z)
+    mean = v + sd * lam
+    var = sd * sd * max(1.0 + al * lam - lam * lam, 0.0)
+    return base, sd * _SQRT2PI * z, mean, var + mean * mean
+
+
+@njit(cache=True)
 def _rv_node(a):
     """The R_V integral at one node: (base, mass, mean, m2) of exp(−½ χ²(x)) over x in [−1, 1].
 
@@ -657,7 +706,8 @@ def _rv_node(a):
     Laplace's method: χ² expanded to second order about the vertex of its
     quadratic part (kept in the range), i.e. a Newton step from there
     toward its smallest value, a Gaussian cut to the range (:func:`_segment`
-    in u = (x + 1)/2; not cut when it lies :data:`_FAR` σ inside both ends).
+    in u = (x + 1)/2; not cut at an end it lies :data:`_FAR` σ inside of,
+    :func:`_cut_below` where that holds for one end only).
     Used where the terms of degree 3 to 6 about that point stay below
     :data:`_LAPLACE_TOL` (χ² units) within 3 σ (at most the range's width):
     bounded by Σ_j ρ^j Σ_i≥j C(i, j) |a_i| (|x| <= 1, ρ the reach);
@@ -674,9 +724,18 @@ def _rv_node(a):
     if dev > _LAPLACE_TOL:
         return _rv_simpson(a)
     if big_h > 0.0:
-        v = x - g / big_h
-        if v - _FAR * sd > -1.0 and v + _FAR * sd < 1.0:
-            return f - 0.5 * g * g / big_h, sd * _SQRT2PI, v, v * v + sd * sd
+        inv_h = 1.0 / big_h
+        v = x - g * inv_h
+        c = f - 0.5 * g * g * inv_h  # the expansion's smallest value, at v
+        low_far = v - _FAR * sd > -1.0
+        high_far = v + _FAR * sd < 1.0
+        if low_far and high_far:
+            return c, sd * _SQRT2PI, v, v * v + sd * sd
+        if high_far and -1.0 - v < _TAIL_DIRECT * sd:
+            return _cut_below(c, v, sd)
+        if low_far and v - 1.0 < _TAIL_DIRECT * sd:  # the mirror image x -> −x
+            base, mass, mean, m2 = _cut_below(c, -v, sd)
+            return base, mass, -mean, m2
     c0 = f - g * (1.0 + x) + 0.5 * big_h * (1.0 + x) ** 2
     c1 = f + g * (1.0 - x) + 0.5 * big_h * (1.0 - x) ** 2
     base, mass, mu, m2 = _segment(c0, c1, 2.0 * big_h)
@@ -684,19 +743,19 @@ def _rv_node(a):
 
 
 @njit(cache=True, inline="always")
-def _spread(hist, x0, h, mean, var, mass):
-    """Add ``mass`` with its ``mean`` and variance to a histogram at x0, x0 + h, ... (three points, linear shares).
+def _spread(hist, mid, half, mass):
+    """Add ``mass`` to a histogram as three points (linear shares between nodes), in units of its step.
 
-    The points are mean − √3 sd, mean, mean + √3 sd with weights 1/6, 2/3,
-    1/6 (Gauss–Hermite: the mean, variance and kurtosis of a Gaussian kept),
-    each shared between the two nearest nodes; points beyond the ends go to
-    the end nodes.
+    The points are mid − half, mid, mid + half (the node index as a real
+    number) with weights 1/6, 2/3, 1/6: with mid a Gaussian's mean and half
+    √3 times its sd, the Gauss–Hermite points that keep its mean, variance
+    and kurtosis. Each is shared between the two nearest nodes; points
+    beyond the ends go to the end nodes.
     """
     n = hist.size
-    sd = math.sqrt(3.0 * var)
     for p in range(3):
         share = mass * (2.0 / 3.0 if p == 1 else 1.0 / 6.0)
-        pos = min(max((mean + (p - 1) * sd - x0) / h, 0.0), n - 1.0)
+        pos = min(max(mid + (p - 1) * half, 0.0), n - 1.0)
         j = min(int(pos), n - 2)
         frac = pos - j
         hist[j] += share * (1.0 - frac)
@@ -797,7 +856,7 @@ def fit_stars(
         The A_V axis of the A_V marginal at the finest E(B−V) step (R_V
         free): 0, av_step, ... (n_av nodes).
     deltas : (ndarray, ndarray)
-        :func:`block_bounds` of the grid (in node order): the coarse blocks' and the blocks'.
+        :func:`block_bounds` of the grid: the coarse blocks' and the blocks'.
     bt, be : int
         Block sizes along T and E(B−V) (the coarse blocks': × :data:`SPLIT`).
     t_mean, t_sigma, e_mean, e_sigma, e_upper : ndarray, shape (n,)

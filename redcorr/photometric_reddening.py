@@ -366,25 +366,44 @@ class ReddeningFitGrid:
         self.valid = np.isfinite(intrinsic)
         intrinsic = np.where(self.valid, intrinsic, 0.0)
 
-        model = np.empty((r_v_nodes.size, self.teff.size, self.ebv.size, n_band))
-        for r, (r_v, crv) in enumerate(zip(r_v_nodes, curves, strict=True)):
-            grid = coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate)
-            model[r] = intrinsic[:, None, :] + np.moveaxis(grid.ratio * (r_v * self.ebv), 0, -1)
-        if r_v_nodes.size > 1:  # the cubic's coefficients in x through the four nodes
-            model = np.tensordot(np.linalg.inv(np.vander(_RV_X, 4, increasing=True)), model, axes=1)
-        # float32: 1e-6 mag at 20 mag, far below any error, and half the memory traffic of the fit's sweeps
-        model = np.ascontiguousarray(np.moveaxis(model, 0, -1), dtype=np.float32)  # (T, E, band, term)
-        self.law = curves[0].name
         from redcorr import _reddening_kernels as kernels  # noqa: PLC0415 - numba loads on first use
 
         self._kernels = kernels
         self._block = _BLOCK
-        self._deltas = kernels.block_bounds(model, self.valid, *_BLOCK)
         most = _STRIDE_FREE if self.r_v_free else _STRIDE
         self._strides = np.array([_first_stride(self.teff.size, most), _first_stride(self.ebv.size, most)], np.int64)
         order = kernels.sweep_order(self.ebv.size, self._strides[1])
         self._slot = np.argsort(order)
-        self._stored = np.ascontiguousarray(model[:, order])  # E(B−V) nodes in the sweeps' order
+        self._stored = self._magnitudes(r_v_nodes, curves, intrinsic, order, extrapolate)
+        self._deltas = kernels.block_bounds(self._stored, self._slot, self.valid, *_BLOCK)
+        self.law = curves[0].name
+
+    def _magnitudes(self, r_v_nodes, curves, intrinsic, order, extrapolate):
+        """The grid, float32 (T, E(B−V) in ``order``, band, term): magnitudes (R_V fixed) or the cubic's terms.
+
+        float32: 1e-6 mag at 20 mag, far below any error, and half the
+        memory traffic of the fit's sweeps. Built an array of (T, E(B−V),
+        band) at a time: the whole in float64 would be four times the
+        result, and a temporary of that size costs its allocation and
+        first touch.
+        """
+        shape = (self.teff.size, self.ebv.size, len(self.bands))
+        values = []  # the magnitudes at each R_V of the law
+        for r_v, crv in zip(r_v_nodes, curves, strict=True):
+            grid = coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate)
+            v = np.multiply(np.moveaxis(grid.ratio, 0, -1), (r_v * self.ebv)[:, None])
+            v += intrinsic[:, None, :]
+            values.append(v)
+        # the cubic's coefficients in x through the four R_V (one term, the magnitudes, with R_V fixed)
+        weights = np.linalg.inv(np.vander(_RV_X, 4, increasing=True)) if len(values) > 1 else np.ones((1, 1))
+        stored = np.empty(shape + (len(values),), np.float32)
+        term, part = np.empty(shape), np.empty(shape)
+        for k in range(len(values)):
+            np.multiply(values[0], weights[k, 0], out=term)
+            for r in range(1, len(values)):
+                term += np.multiply(values[r], weights[k, r], out=part)
+            stored[..., k] = term[:, order]
+        return stored
 
     @property
     def model(self):
