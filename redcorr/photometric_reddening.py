@@ -81,10 +81,11 @@ these sums; the R_V and A_V percentiles are read from histograms that
 receive each node's mass as three points (Gauss–Hermite: a Gaussian's
 mean, variance and kurtosis kept). Against a plain sum over the grid with the law at R_V
 every 0.1 (tests/test_fit_core.py) the means agree within 0.03 posterior
-std and the stds within 1.5 %. The fit costs ≈ 5× the R_V-fixed one
-(benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file; 7–8×
-with R_V on nodes 0.8 apart, the model linear between them): each node
-sums fourteen products per band instead of two and integrates over R_V.
+std and the stds within 1.5 %. The fit costs ≈ 3.5–4× the R_V-fixed one
+(benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file, its
+grid build included; 7–8× with R_V on nodes 0.8 apart, the model linear
+between them): each node sums fourteen products per band instead of two
+and integrates over R_V, and the grid is four times larger.
 
 The prior is flat in ln T_eff (the locus' own parameter: every part of
 the locus gets the same weight per unit ln T), flat in E(B−V) ≥ 0 up to
