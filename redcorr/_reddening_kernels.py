@@ -274,26 +274,20 @@ def _rv_poly(m, w, idx, s0, model, t, s):
 
 
 @njit(cache=True, inline="always")
+def _horner(p, d1, d2, x, c):
+    """One step of Horner's rule for a polynomial (p), its derivative (d1) and half its second (d2)."""
+    return p * x + c, d1 * x + p, d2 * x + d1
+
+
+@njit(cache=True, inline="always")
 def _poly(a, x):
-    """Value, first and second derivative at x of Σ_j a[j] x^j, j = 0…6 (Horner; ``a`` a tuple, hence unrolled)."""
-    p = a[6]
-    d1 = p
-    p = p * x + a[5]
-    d2 = d1
-    d1 = d1 * x + p
-    p = p * x + a[4]
-    d2 = d2 * x + d1
-    d1 = d1 * x + p
-    p = p * x + a[3]
-    d2 = d2 * x + d1
-    d1 = d1 * x + p
-    p = p * x + a[2]
-    d2 = d2 * x + d1
-    d1 = d1 * x + p
-    p = p * x + a[1]
-    d2 = d2 * x + d1
-    d1 = d1 * x + p
-    p = p * x + a[0]
+    """Value, first and second derivative at x of Σ_j a[j] x^j, j = 0…6 (``a`` a tuple: the steps written out)."""
+    p, d1, d2 = _horner(a[6], 0.0, 0.0, x, a[5])
+    p, d1, d2 = _horner(p, d1, d2, x, a[4])
+    p, d1, d2 = _horner(p, d1, d2, x, a[3])
+    p, d1, d2 = _horner(p, d1, d2, x, a[2])
+    p, d1, d2 = _horner(p, d1, d2, x, a[1])
+    p, d1, d2 = _horner(p, d1, d2, x, a[0])
     return p, d1, 2.0 * d2
 
 
