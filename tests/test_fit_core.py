@@ -459,14 +459,38 @@ def test_r_v_integral_away_from_a_gaussian_matches_quadrature(coef):
     """
     from redcorr._reddening_kernels import _rv_node
 
-    a = np.array([*coef, 0.0, 0.0])
-    base, mass, mean, m2 = _rv_node(a)
+    base, mass, mean, m2 = _rv_node((*coef, 0.0, 0.0))
     x = np.linspace(-1.0, 1.0, 200001)
     f = np.exp(-0.5 * (np.polynomial.polynomial.polyval(x, coef) - base))
     z = np.trapezoid(f, x)
     np.testing.assert_allclose(mass, z, rtol=1e-4)
     np.testing.assert_allclose(mean, np.trapezoid(f * x, x) / z, rtol=1e-4, atol=1e-6)
     np.testing.assert_allclose(m2, np.trapezoid(f * x * x, x) / z, rtol=1e-4)
+
+
+@pytest.mark.parametrize("v", [-0.95, -1.2, -3.0, 0.97, 1.5, 4.0])
+def test_r_v_integral_cut_at_one_end_matches_quadrature(v):
+    """A Gaussian in x that only one end of the range cuts: the node integral against quadrature.
+
+    Source: chi2(x) = 1 + (x - v)^2 / 0.1^2, its vertex v near or beyond one end of [-1, 1] and the
+    other end more than 6 sigma away (the one-ended closed form; v = 4.0, 30 sigma beyond, the
+    general one), the integral of exp(-chi2/2) over [-1, 1] and its first two moments against the
+    trapezoid rule on 200,001 points (mathematical identity, no source). Tolerance 1e-6 relative:
+    the far end's tail left out is < 1e-9.
+    """
+    from redcorr._reddening_kernels import _rv_node
+
+    sd = 0.1
+    coef = (1.0 + v * v / sd**2, -2.0 * v / sd**2, 1.0 / sd**2)
+    base, mass, mean, m2 = _rv_node((*coef, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0))
+    x = np.linspace(-1.0, 1.0, 200001)
+    chi2 = np.polynomial.polynomial.polyval(x, coef)
+    np.testing.assert_allclose(base, chi2.min(), rtol=1e-9)
+    f = np.exp(-0.5 * (chi2 - base))
+    z = np.trapezoid(f, x)
+    np.testing.assert_allclose(mass, z, rtol=1e-6)
+    np.testing.assert_allclose(mean, np.trapezoid(f * x, x) / z, rtol=1e-6)
+    np.testing.assert_allclose(m2, np.trapezoid(f * x * x, x) / z, rtol=1e-6)
 
 
 def _law_grids(bands, locus, r_v, **grid):
