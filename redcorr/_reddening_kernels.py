@@ -51,7 +51,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["block_bounds", "block_deltas", "fit_stars", "sweep_order", "N_OUT", "SPLIT"]
+__all__ = ["block_bounds", "block_deltas", "fit_stars", "store_grid", "sweep_order", "N_OUT", "SPLIT"]
 
 # Columns of fit_stars' output rows.
 STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
@@ -102,6 +102,44 @@ def sweep_order(n, stride):
         step //= 2
         level[(node % step == 0) & (level == 0) & (node % stride != 0)] = int(math.log2(stride // step))
     return np.lexsort((node, level))
+
+
+@njit(cache=True)
+def store_grid(ratios, scales, intrinsic, weights, order, out):
+    """Fill the grid ``out`` from the law's A_b/A_V at each R_V node, in one pass (no temporaries).
+
+    out[t, s, b, k] = Σ_r weights[k, r] (intrinsic[t, b] + ratios[r][b, t, e] scales[r, e]),
+    e = order[s]: the magnitudes at each R_V node (A_V = scales[r, e]) and,
+    with several nodes, the coefficients of the polynomial through them.
+
+    Parameters
+    ----------
+    ratios : tuple of ndarray, each shape (n_b, n_t, n_e)
+        A_b/A_V at each R_V node (:attr:`redcorr.coefficients.CoefficientGrid.ratio`).
+    scales : ndarray, shape (n_r, n_e)
+        A_V at each R_V node and E(B−V) node.
+    intrinsic : ndarray, shape (n_t, n_b)
+    weights : ndarray, shape (n_c, n_r)
+        Each term's weights of the nodes' magnitudes (the identity with one node).
+    order : ndarray of int, shape (n_e,)
+        The E(B−V) node stored in each slot (:func:`sweep_order`).
+    out : ndarray, shape (n_t, n_e, n_b, n_c)
+        Filled in place (float32 or float64; the sums are float64).
+    """
+    n_t, n_e, n_b, n_c = out.shape
+    n_r = scales.shape[0]
+    mags = np.empty(n_r)
+    for t in range(n_t):
+        for s in range(n_e):
+            e = order[s]
+            for b in range(n_b):
+                for r in range(n_r):
+                    mags[r] = ratios[r][b, t, e] * scales[r, e] + intrinsic[t, b]
+                for k in range(n_c):
+                    term = mags[0] * weights[k, 0]
+                    for r in range(1, n_r):
+                        term += mags[r] * weights[k, r]
+                    out[t, s, b, k] = term
 
 
 @njit(cache=True)

@@ -383,28 +383,19 @@ class ReddeningFitGrid:
         """The grid, float32 (T, E(B−V) in ``order``, band, term): magnitudes (R_V fixed) or the cubic's terms.
 
         float32: 1e-6 mag at 20 mag, far below any error, and half the
-        memory traffic of the fit's sweeps. Built a (band, T, E(B−V)) array
-        at a time, in the coefficient grids' own arrays: the whole in
-        float64 would be four times the result, and each temporary of that
-        size costs its allocation and first touch.
+        memory traffic of the fit's sweeps. Filled in one pass from the
+        coefficient grids' own arrays (:func:`redcorr._reddening_kernels.store_grid`):
+        temporaries of the grid's size, in numpy, cost their allocation and
+        first touch and took most of the build.
         """
-        values = []  # the magnitudes at each R_V of the law, (band, T, E(B−V)): each grid's own cube, reused
-        for r_v, crv in zip(r_v_nodes, curves, strict=True):
-            v = coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate).ratio
-            v *= r_v * self.ebv
-            v += intrinsic.T[:, :, None]
-            values.append(v)
+        ratios = tuple(
+            coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate).ratio
+            for r_v, crv in zip(r_v_nodes, curves, strict=True)
+        )
         # the cubic's coefficients in x through the four R_V (one term, the magnitudes, with R_V fixed)
-        weights = np.linalg.inv(np.vander(_RV_X, 4, increasing=True)) if len(values) > 1 else np.ones((1, 1))
-        shape = (self.teff.size, self.ebv.size, len(self.bands))
-        stored = np.empty(shape + (len(values),), np.float32)
-        term, part, ordered = np.empty_like(values[0]), np.empty_like(values[0]), np.empty(shape)
-        for k in range(len(values)):
-            np.multiply(values[0], weights[k, 0], out=term)
-            for r in range(1, len(values)):
-                term += np.multiply(values[r], weights[k, r], out=part)
-            np.take(np.moveaxis(term, 0, -1), order, axis=1, out=ordered, mode="clip")
-            stored[..., k] = ordered
+        weights = np.linalg.inv(np.vander(_RV_X, 4, increasing=True)) if len(ratios) > 1 else np.ones((1, 1))
+        stored = np.empty((self.teff.size, self.ebv.size, len(self.bands), len(ratios)), np.float32)
+        self._kernels.store_grid(ratios, r_v_nodes[:, None] * self.ebv, intrinsic, weights, order, stored)
         return stored
 
     @property
