@@ -386,7 +386,7 @@ class ReddeningFitGrid:
         memory traffic of the fit's sweeps. Filled in one pass from the
         coefficient grids' own arrays (:func:`redcorr._reddening_kernels.store_grid`):
         temporaries of the grid's size, in numpy, cost their allocation and
-        first touch and took most of the build.
+        first touch and took much of the build.
         """
         ratios = tuple(
             coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate).ratio
