@@ -418,19 +418,75 @@ def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t
 
 
 @njit(cache=True, inline="always")
-def _row_nodes(e0, se, se_o, t_old):
-    """The first node at or after e0 and the step of a sweep at stride se along E(B−V) within a row.
+def _rebase(ref, tot):
+    """The sweeps' reference χ² after a node at ``tot``, and the factor to rescale their sums by (1: none).
 
-    In a row an earlier sweep visited (``t_old``) at the stride se_o = 2 se
-    the nodes at multiples of se_o are in the sums already: only the odd
-    multiples of se are visited.
+    The sums are kept relative to exp(−ref/2): ``ref`` NaN (no node yet)
+    becomes ``tot``, and a node more than :data:`_RESCALE` below it becomes
+    the new reference (the sums × exp(−(ref − tot)/2)), so that no weight
+    overflows.
     """
-    e_first = (e0 + se - 1) // se * se
-    if not t_old:
-        return e_first, se
-    if e_first % se_o == 0:
-        e_first += se
-    return e_first, se_o
+    if not ref == ref:
+        return tot, 1.0
+    if tot < ref - _RESCALE:
+        return tot, math.exp(-0.5 * (ref - tot))
+    return ref, 1.0
+
+
+@njit(cache=True)
+def _sweep_rows(pen_t, n_tb, bt, st, old, se, rows):
+    """The rows a sweep at strides (st, se) visits: ``rows[j]`` = (t, its block row, whether visited before).
+
+    The rows t ≡ 0 (mod st) the prior allows, block row by block row. A row
+    an earlier sweep visited (``old``: its strides, zeros for none) at the
+    same E(B−V) stride holds all its nodes in the sums already and is left
+    out. Returns the number of rows.
+    """
+    n_t = pen_t.size
+    st_o, se_o = old[0], old[1]
+    n = 0
+    for tb in range(n_tb):
+        t0, t1, _ = _block_span(tb, bt, n_t)
+        for t in range((t0 + st - 1) // st * st, t1, st):
+            t_old = st_o > 0 and t % st_o == 0
+            if pen_t[t] == np.inf or (t_old and se_o == se):
+                continue
+            rows[n, 0], rows[n, 1], rows[n, 2] = t, tb, t_old
+            n += 1
+    return n
+
+
+@njit(cache=True)
+def _row_spans(lower, tb, limit, be, n_e, se, se_o, t_old, spans):
+    """The nodes a sweep at E(B−V) stride se visits in one row: ``spans[j]`` = (first, end, step) for ``range``.
+
+    The nodes at multiples of se in the row's kept blocks (in block row
+    ``tb``, those whose bound ``lower`` is <= ``limit``), neighbouring kept
+    blocks in one span. In a row an
+    earlier sweep visited (``t_old``) at the stride se_o = 2 se the nodes at
+    multiples of se_o are in the sums already: only the odd multiples of se
+    are visited. Returns the number of spans.
+    """
+    n = 0
+    eb = 0
+    n_eb = lower.shape[1]
+    while eb < n_eb:
+        if not lower[tb, eb] <= limit:
+            eb += 1
+            continue
+        e0 = _block_span(eb, be, n_e)[0]
+        while eb < n_eb and lower[tb, eb] <= limit:
+            eb += 1
+        e1 = min(eb * be, n_e)
+        first = (e0 + se - 1) // se * se
+        step = se
+        if t_old:
+            if first % se_o == 0:
+                first += se
+            step = se_o
+        spans[n, 0], spans[n, 1], spans[n, 2] = first, e1, step
+        n += 1
+    return n
 
 
 @njit(cache=True)
@@ -445,7 +501,8 @@ def _scale(x, factor):
 
 
 @njit(cache=True)
-def _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref, g_e, g_t, res):
+def _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref, g_e, g_t, res,
+           rows, spans):  # fmt: skip
     """Accumulate the posterior (R_V fixed) over the nodes t ≡ 0 (mod st), e ≡ 0 (mod se) of the kept blocks.
 
     ``g_e`` and ``g_t`` receive the marginal densities of E(B−V) and ln T
@@ -456,73 +513,59 @@ def _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, q
     ``old`` (zeros: none), already in the sums, are not visited again.
     ``res`` holds χ²_min, the mode's T index (−1: no node) and its
     χ² + penalty, and is updated. Returns ``ref``. The nodes are visited row
-    by row (the kept blocks of a row in turn), each row's in slot order.
+    by row (:func:`_sweep_rows`; ``rows`` and ``spans`` are scratch arrays
+    of shape (n_t, 3) and (number of block columns, 3)), each row's kept
+    blocks in turn (:func:`_row_spans`), in slot order.
     """
     nb = idx.size
     every = nb == model.shape[2]  # every band used: idx[k] = k
-    n_t, n_e = model.shape[0], model.shape[1]
-    n_tb, n_eb = lower.shape
     chi_min, map_t, tot_min = res[0], int(res[1]), res[2]
-    st_o, se_o = old[0], old[1]
-    for tb in range(n_tb):
-        t0, t1, _ = _block_span(tb, bt, n_t)
-        for t in range((t0 + st - 1) // st * st, t1, st):
-            p_t = pen_t[t]
-            if p_t == np.inf:
-                continue
-            t_old = st_o > 0 and t % st_o == 0
-            if t_old and se_o == se:  # (every node of the row is in the sums)
-                continue
-            q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
-            row_sum = 0.0
-            for eb in range(n_eb):
-                if not lower[tb, eb] <= limit:
+    for j in range(_sweep_rows(pen_t, lower.shape[0], bt, st, old, se, rows)):
+        t, tb, t_old = rows[j, 0], rows[j, 1], rows[j, 2]
+        p_t = pen_t[t]
+        q_t = qt[t] * st  # (strides are powers of 2: the products are exact)
+        row_sum = 0.0
+        for sp in range(_row_spans(lower, tb, limit, be, model.shape[1], se, old[1], t_old, spans)):
+            for e in range(spans[sp, 0], spans[sp, 1], spans[sp, 2]):
+                if pen_e[e] == np.inf:
                     continue
-                e0, e1, _ = _block_span(eb, be, n_e)
-                e_first, step = _row_nodes(e0, se, se_o, t_old)
-                for e in range(e_first, e1, step):
-                    if pen_e[e] == np.inf:
-                        continue
-                    s = slot[e]
-                    s1 = 0.0
-                    s2 = 0.0
-                    if every:
-                        for k in range(nb):
-                            d = m[k] - model[t, s, k, 0]
-                            s1 += w[k] * d
-                            s2 += w[k] * d * d
-                    else:
-                        for k in range(nb):
-                            d = m[k] - model[t, s, idx[k], 0]
-                            s1 += w[k] * d
-                            s2 += w[k] * d * d
-                    c = max(s2 - s1 * s1 / s0, 0.0)
-                    tot = c + p_t + pen_e[e]
-                    if tot > limit:  # weighs < e^(−cut/2) of the best node, as a skipped block's
-                        continue
-                    chi_min = min(chi_min, c)
-                    if tot < tot_min:
-                        tot_min = tot
-                        map_t = t
-                    if not ref == ref:
-                        ref = tot
-                    if tot < ref - _RESCALE:
-                        scale = math.exp(-0.5 * (ref - tot))
-                        _scale(g_e, scale)
-                        _scale(g_t, scale)
-                        row_sum *= scale
-                        ref = tot
-                    f = math.exp(-0.5 * (tot - ref))
-                    g_e[e] += f * q_t
-                    row_sum += f * qe[e] * se
-            g_t[t] += row_sum
+                s = slot[e]
+                s1 = 0.0
+                s2 = 0.0
+                if every:
+                    for k in range(nb):
+                        d = m[k] - model[t, s, k, 0]
+                        s1 += w[k] * d
+                        s2 += w[k] * d * d
+                else:
+                    for k in range(nb):
+                        d = m[k] - model[t, s, idx[k], 0]
+                        s1 += w[k] * d
+                        s2 += w[k] * d * d
+                c = max(s2 - s1 * s1 / s0, 0.0)
+                tot = c + p_t + pen_e[e]
+                if tot > limit:  # weighs < e^(−cut/2) of the best node, as a skipped block's
+                    continue
+                chi_min = min(chi_min, c)
+                if tot < tot_min:
+                    tot_min = tot
+                    map_t = t
+                ref, scale = _rebase(ref, tot)
+                if scale != 1.0:
+                    _scale(g_e, scale)
+                    _scale(g_t, scale)
+                    row_sum *= scale
+                f = math.exp(-0.5 * (tot - ref))
+                g_e[e] += f * q_t
+                row_sum += f * qe[e] * se
+        g_t[t] += row_sum
     res[0], res[1], res[2] = chi_min, map_t, tot_min
     return ref
 
 
 @njit(cache=True)
 def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, r_range, ebv,
-              ref, g_e, g_t, r_hist, av_hist, av_h, mom, res):  # fmt: skip
+              ref, g_e, g_t, r_hist, av_hist, av_h, mom, res, rows, spans):  # fmt: skip
     """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral (:func:`_rv_node`).
 
     ``g_e``, ``g_t`` receive the marginal densities of E(B−V) and ln T,
@@ -533,73 +576,57 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
     more than ``cut``, is left out. ``old``, ``res`` and the returned
     ``ref`` as in :func:`_sweep`.
     """
-    n_t, n_e = model.shape[0], model.shape[1]
-    n_tb, n_eb = lower.shape
     r_c = 0.5 * (r_range[0] + r_range[1])
     r_h = 0.5 * (r_range[1] - r_range[0])
     per_r = (r_hist.size - 1) / (r_range[1] - r_range[0])  # R_V histogram nodes per unit R_V
     per_av = 1.0 / av_h
     chi_min, map_t, tot_min = res[0], int(res[1]), res[2]
-    st_o, se_o = old[0], old[1]
-    for tb in range(n_tb):
-        t0, t1, _ = _block_span(tb, bt, n_t)
-        for t in range((t0 + st - 1) // st * st, t1, st):
-            p_t = pen_t[t]
-            if p_t == np.inf:
-                continue
-            t_old = st_o > 0 and t % st_o == 0
-            if t_old and se_o == se:
-                continue
-            q_t = qt[t] * st
-            row_sum = 0.0
-            for eb in range(n_eb):
-                if not lower[tb, eb] <= limit:
+    for j in range(_sweep_rows(pen_t, lower.shape[0], bt, st, old, se, rows)):
+        t, tb, t_old = rows[j, 0], rows[j, 1], rows[j, 2]
+        p_t = pen_t[t]
+        q_t = qt[t] * st
+        row_sum = 0.0
+        for sp in range(_row_spans(lower, tb, limit, be, model.shape[1], se, old[1], t_old, spans)):
+            for e in range(spans[sp, 0], spans[sp, 1], spans[sp, 2]):
+                pen = p_t + pen_e[e]
+                if pen == np.inf:
                     continue
-                e0, e1, _ = _block_span(eb, be, n_e)
-                e_first, step = _row_nodes(e0, se, se_o, t_old)
-                for e in range(e_first, e1, step):
-                    pen = p_t + pen_e[e]
-                    if pen == np.inf:
-                        continue
-                    a = _rv_poly(m, w, idx, s0, model, t, slot[e])
-                    if _rv_excluded(a, min(limit, tot_min + cut) - pen):  # (as a skipped block's nodes)
-                        continue
-                    base, mass, mx, mx2 = _rv_node(a)
-                    chi_min = min(chi_min, base)
-                    tot = base + pen
-                    if tot < tot_min:
-                        tot_min = tot
-                        map_t = t
-                    if tot > limit or tot > tot_min + cut:
-                        continue
-                    if not ref == ref:
-                        ref = tot
-                    if tot < ref - _RESCALE:
-                        scale = math.exp(-0.5 * (ref - tot))
-                        _scale(g_e, scale)
-                        _scale(g_t, scale)
-                        _scale(r_hist, scale)
-                        _scale(av_hist, scale)
-                        _scale(mom, scale)
-                        row_sum *= scale
-                        ref = tot
-                    f = math.exp(-0.5 * (tot - ref)) * mass
-                    q_e = qe[e] * se
-                    g_e[e] += f * q_t
-                    row_sum += f * q_e
-                    wq = f * q_t * q_e
-                    r_mean = r_c + r_h * mx
-                    r_var = r_h * r_h * max(mx2 - mx * mx, 0.0)
-                    ebv_e = ebv[e]
-                    mom[0] += wq
-                    mom[1] += wq * r_mean
-                    mom[2] += wq * (r_var + r_mean * r_mean)
-                    mom[3] += wq * ebv_e * r_mean
-                    mom[4] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
-                    r_half = math.sqrt(3.0 * r_var)
-                    _spread(r_hist, (r_mean - r_range[0]) * per_r, r_half * per_r, wq)
-                    _spread(av_hist, ebv_e * r_mean * per_av, ebv_e * r_half * per_av, wq)
-            g_t[t] += row_sum
+                a = _rv_poly(m, w, idx, s0, model, t, slot[e])
+                if _rv_excluded(a, min(limit, tot_min + cut) - pen):  # (as a skipped block's nodes)
+                    continue
+                base, mass, mx, mx2 = _rv_node(a)
+                chi_min = min(chi_min, base)
+                tot = base + pen
+                if tot < tot_min:
+                    tot_min = tot
+                    map_t = t
+                if tot > limit or tot > tot_min + cut:
+                    continue
+                ref, scale = _rebase(ref, tot)
+                if scale != 1.0:
+                    _scale(g_e, scale)
+                    _scale(g_t, scale)
+                    _scale(r_hist, scale)
+                    _scale(av_hist, scale)
+                    _scale(mom, scale)
+                    row_sum *= scale
+                f = math.exp(-0.5 * (tot - ref)) * mass
+                q_e = qe[e] * se
+                g_e[e] += f * q_t
+                row_sum += f * q_e
+                wq = f * q_t * q_e
+                r_mean = r_c + r_h * mx
+                r_var = r_h * r_h * max(mx2 - mx * mx, 0.0)
+                ebv_e = ebv[e]
+                mom[0] += wq
+                mom[1] += wq * r_mean
+                mom[2] += wq * (r_var + r_mean * r_mean)
+                mom[3] += wq * ebv_e * r_mean
+                mom[4] += wq * ebv_e * ebv_e * (r_var + r_mean * r_mean)
+                r_half = math.sqrt(3.0 * r_var)
+                _spread(r_hist, (r_mean - r_range[0]) * per_r, r_half * per_r, wq)
+                _spread(av_hist, ebv_e * r_mean * per_av, ebv_e * r_half * per_av, wq)
+        g_t[t] += row_sum
     res[0], res[1], res[2] = chi_min, map_t, tot_min
     return ref
 
@@ -1005,13 +1032,16 @@ def fit_stars(
         ref = best if best < np.inf else np.nan
         st, se = strides[0], strides[1]
         old = np.zeros(2, np.int64)  # the strides of the sweep before (zeros: none); its nodes stay in the sums
+        rows = np.empty((n_t, 3), np.int64)  # scratch of the sweeps: the rows they visit, and a row's spans of nodes
+        spans = np.empty((n_eb, 3), np.int64)
         if free:
             r_hist = np.zeros(R_NODES)
             mom = np.zeros(5)
             av_hist = np.zeros(min(int(math.ceil((n_av - 1) / se)) + 1, n_av))
             while True:
                 ref = _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se,
-                                old, rv, ebv, ref, g_e, g_t, r_hist, av_hist, av_step * se, mom, res)  # fmt: skip
+                                old, rv, ebv, ref, g_e, g_t, r_hist, av_hist, av_step * se, mom, res, rows,
+                                spans)  # fmt: skip
                 rough_e = _roughness(g_e, se)
                 rough_t = _roughness(g_t, st)
                 if not (st > 1 or se > 1) or (res[1] >= 0 and max(rough_e, rough_t) <= smooth):
@@ -1042,7 +1072,7 @@ def fit_stars(
             continue
         while True:
             ref = _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, qe, st, se, old, ref,
-                         g_e, g_t, res)  # fmt: skip
+                         g_e, g_t, res, rows, spans)  # fmt: skip
             rough = max(_roughness(g_e, se), _roughness(g_t, st))
             if not (st > 1 or se > 1) or (res[1] >= 0 and rough <= smooth):
                 break  # (a sweep that found no node is repeated finer: the kept blocks may lie between its nodes)
