@@ -462,10 +462,10 @@ def _row_spans(lower, tb, limit, be, n_e, se, se_o, t_old, spans):
 
     The nodes at multiples of se in the row's kept blocks (in block row
     ``tb``, those whose bound ``lower`` is <= ``limit``), neighbouring kept
-    blocks in one span. In a row an
-    earlier sweep visited (``t_old``) at the stride se_o = 2 se the nodes at
-    multiples of se_o are in the sums already: only the odd multiples of se
-    are visited. Returns the number of spans.
+    blocks in one span. In a row an earlier sweep visited (``t_old``) at the
+    stride se_o = 2 se the nodes at multiples of se_o are in the sums
+    already: only the odd multiples of se are visited. Returns the number
+    of spans.
     """
     n = 0
     eb = 0
