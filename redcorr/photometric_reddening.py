@@ -78,10 +78,12 @@ than 0.02 within 3 σ of the vertex (a bound from the coefficients), the
 integral is Simpson's rule over the range on 64 intervals instead. The
 marginals of E(B−V) and T_eff and the means and stds of R_V and A_V are
 these sums; the R_V and A_V percentiles are read from histograms that
-receive each node's mass as three points (Gauss–Hermite: a Gaussian's
-mean, variance and kurtosis kept). Against a plain sum over the grid with the law at R_V
-every 0.1 (tests/test_fit_core.py) the means agree within 0.03 posterior
-std and the stds within 1.5 %. The fit costs ≈ 3.5–4× the R_V-fixed one
+receive, for each E(B−V) node, a normal with the mean and variance of
+R_V over that node's T_eff nodes (A_V = E(B−V) R_V, the same normal
+scaled). Against a plain sum over the grid with the law at R_V every 0.1
+(tests/test_fit_core.py) the means agree within 0.03 posterior std, the
+stds within 1.5 % and the R_V 16/50/84 % points typically within 0.03
+std. The fit costs ≈ 3.5–4× the R_V-fixed one
 (benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file, its
 grid build included; 7–8× with R_V on nodes 0.8 apart, the model linear
 between them): each node sums fourteen products per band instead of two
@@ -102,8 +104,7 @@ steps allows), and again at half that spacing while a
 marginal is not smooth (down to the grid's own steps; with R_V free, only
 along the axis whose marginal is not smooth); a finer sweep adds only the
 nodes the coarser ones did not visit, the sums so far reweighted for the
-finer spacing (the same sums as a new sweep; the A_V histogram keeps the
-coarser sweeps' nodes on their coarser A_V step). Blocks of the grid that
+finer spacing (the same sums as a new sweep). Blocks of the grid that
 cannot matter are skipped with a rigorous bound
 (:func:`redcorr._reddening_kernels.fit_stars`).
 A posterior ridge thinner than a step across it (small errors, strongly

@@ -639,7 +639,7 @@ def test_posterior_matches_a_direct_sum_with_the_law(bands, locus, grid_free):
     in R_V, Laplace's method and reuse of coarser sweeps). Tolerance on the means 0.1 posterior std,
     on the stds 10 %, on the 16/50/84 % points of E(B-V) and R_V 0.15 std + half the direct sum's
     step (its percentiles are read linearly between its nodes; the fit's R_V ones from a histogram of
-    three points per node): the fit's trapezoid sums at strides of up to 0.58 std (module docstring)
+    one normal per E(B-V) node): the fit's trapezoid sums at strides of up to 0.58 std (module docstring)
     against the direct sum. Measured: means within 0.03 std, stds within 1.5 %, E(B-V) points within
     0.04 std, R_V points within 0.035 (one star with an R_V std of 0.06, below the direct sum's step).
     """
