@@ -107,9 +107,9 @@ def sweep_order(n, stride):
     return np.lexsort((node, level))
 
 
-@njit(cache=True)
-def store_grid(ratios, scales, intrinsic, weights, order, out):
-    """Fill the grid ``out`` from the law's A_b/A_V at each R_V node, in one pass (no temporaries).
+@njit(cache=True, parallel=True)
+def store_grid(ratios, scales, intrinsic, weights, order, dtype):
+    """The grid from the law's A_b/A_V at each R_V node, filled in one pass (no temporaries).
 
     out[t, s, b, k] = Σ_r weights[k, r] (intrinsic[t, b] + ratios[r][b, t, e] scales[r, e]),
     e = order[s]: the magnitudes at each R_V node (A_V = scales[r, e]) and,
@@ -126,13 +126,27 @@ def store_grid(ratios, scales, intrinsic, weights, order, out):
         Each term's weights of the nodes' magnitudes (the identity with one node).
     order : ndarray of int, shape (n_e,)
         The E(B−V) node stored in each slot (:func:`sweep_order`).
-    out : ndarray, shape (n_t, n_e, n_b, n_c)
-        Filled in place (float32 or float64; the sums are float64).
+    dtype : numpy.float32 or numpy.float64
+        Of the grid (the sums are float64).
+
+    Returns
+    -------
+    ndarray, shape (n_t, n_e, n_b, n_c)
+
+    Notes
+    -----
+    The grid is allocated here, not by numpy: numpy asks the operating
+    system for transparent huge pages for arrays this large, and where
+    the kernel then compacts memory on first touch (Linux with THP
+    ``defrag = madvise``) that took 0.1–0.15 s for a 36 MB grid in a
+    long-running process, five times the fill itself (measured in
+    benchmarks/bench_fit.py's rounds).
     """
-    n_t, n_e, n_b, n_c = out.shape
-    n_r = scales.shape[0]
-    mags = np.empty(n_r)
-    for t in range(n_t):
+    n_b, n_t, n_e = ratios[0].shape
+    n_c, n_r = weights.shape
+    out = np.empty((n_t, n_e, n_b, n_c), dtype)
+    for t in prange(n_t):  # (rows on numba's threads)
+        mags = np.empty(n_r)
         for s in range(n_e):
             e = order[s]
             for b in range(n_b):
@@ -143,6 +157,7 @@ def store_grid(ratios, scales, intrinsic, weights, order, out):
                     for r in range(1, n_r):
                         term += mags[r] * weights[k, r]
                     out[t, s, b, k] = term
+    return out
 
 
 @njit(cache=True)

@@ -300,8 +300,8 @@ class ReddeningFitGrid:
     two locus nodes of which one lacks a band has no model for that band,
     and a star with a magnitude in that band gives those nodes no weight.
     Memory: the grid holds n_T · n_E · n_band float32 (4.5 MB for 6 bands
-    and the defaults over 2300–50000 K) with R_V fixed, four times that
-    with R_V free.
+    and the defaults over 2300–50000 K) with R_V fixed, four terms of
+    float64 (eight times that) with R_V free.
 
     From a :class:`redcorr.intrinsic.ColourLocus` ``locus``:
     ``sub = locus.subset([b.name for b in bands])`` then
@@ -381,13 +381,16 @@ class ReddeningFitGrid:
         self.law = curves[0].name
 
     def _magnitudes(self, r_v_nodes, curves, intrinsic, order, extrapolate):
-        """The grid, float32 (T, E(B−V) in ``order``, band, term): magnitudes (R_V fixed) or the cubic's terms.
+        """The grid (T, E(B−V) in ``order``, band, term): magnitudes (R_V fixed) or the cubic's terms.
 
-        float32: 1e-6 mag at 20 mag, far below any error, and half the
-        memory traffic of the fit's sweeps. Filled in one pass from the
-        coefficient grids' own arrays (:func:`redcorr._reddening_kernels.store_grid`):
-        temporaries of the grid's size, in numpy, cost their allocation and
-        first touch and took much of the build.
+        R_V fixed: float32, 1e-6 mag at 20 mag, far below any error, and
+        half the memory of float64 at the same speed. R_V free: float64,
+        whose sweeps then skip a conversion per term read (~10 % of that
+        fit's time; measured, interleaved runs). Allocated and filled in one
+        pass from the coefficient grids' own arrays
+        (:func:`redcorr._reddening_kernels.store_grid`): temporaries of the
+        grid's size, in numpy, cost their allocation and first touch and
+        took much of the build.
         """
         ratios = tuple(
             coefficient_grid(crv, self.bands, self.teff, r_v * self.ebv, extrapolate=extrapolate).ratio
@@ -395,9 +398,8 @@ class ReddeningFitGrid:
         )
         # the cubic's coefficients in x through the four R_V (one term, the magnitudes, with R_V fixed)
         weights = np.linalg.inv(np.vander(_RV_X, 4, increasing=True)) if len(ratios) > 1 else np.ones((1, 1))
-        stored = np.empty((self.teff.size, self.ebv.size, len(self.bands), len(ratios)), np.float32)
-        self._kernels.store_grid(ratios, r_v_nodes[:, None] * self.ebv, intrinsic, weights, order, stored)
-        return stored
+        dtype = np.float64 if len(ratios) > 1 else np.float32
+        return self._kernels.store_grid(ratios, r_v_nodes[:, None] * self.ebv, intrinsic, weights, order, dtype)
 
     @property
     def model(self):

@@ -532,8 +532,8 @@ def test_r_v_integral_at_a_node_matches_quadrature(bands, locus, grid_free):
     from redcorr._reddening_kernels import _rv_floor, _rv_node, _rv_poly
 
     mags, err = _stars(bands, locus, 6, 3)
-    model32 = grid_free.model
-    model = model32.astype(float)
+    stored = grid_free.model  # (in the grid's own dtype, as the kernel reads it)
+    model = stored.astype(float)
     x = np.linspace(-1.0, 1.0, 4001)
     powers = x[:, None] ** np.arange(4)
     idx = np.arange(6)
@@ -551,7 +551,7 @@ def test_r_v_integral_at_a_node_matches_quadrature(bands, locus, grid_free):
             z = np.trapezoid(f, x)
             mean = np.trapezoid(f * x, x) / z
             std = np.sqrt(np.trapezoid(f * (x - mean) ** 2, x) / z)
-            a = _rv_poly(m, w, idx, w.sum(), model32, t, k)
+            a = _rv_poly(m, w, idx, w.sum(), stored, t, k)
             assert _rv_floor(a) <= chi2.min() + 1e-6
             base, mass, mu, m2 = _rv_node(a)
             assert abs(np.log(mass) - 0.5 * (base - chi2.min()) - np.log(z)) < 0.003
