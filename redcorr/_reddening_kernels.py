@@ -390,7 +390,8 @@ def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t
     E(B−V) (k = k_t, k_e); ``lower`` receives their bounds (inf: every node
     excluded). With R_V free the bound holds over the whole R_V range
     (:func:`_rv_floor` at the centre) and the value found at a centre is χ²
-    at the vertex of its quadratic part (:func:`_rv_vertex`). Returns the
+    at the vertex of its quadratic part (:func:`_rv_vertex`; not evaluated
+    where the bound shows it cannot beat the best so far). Returns the
     smallest χ² + penalty found at their centres.
     """
     nb = idx.size
@@ -417,10 +418,10 @@ def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t
             rad = 0.0
             for k in range(nb):
                 rad += w[k] * deltas[tb, eb, idx[k]]
-            if free:  # χ² at the vertex of the quadratic part (a value reached), and a lower bound
+            if free:  # a lower bound, and χ² at the vertex of the quadratic part (a value reached)
                 a = _rv_poly(m, w, idx, s0, model, tc, slot[ec])
-                c = _poly(a, _rv_vertex(a))[0]
                 low = _rv_floor(a)
+                c = _poly(a, _rv_vertex(a))[0] if low + pen_t[tc] + pen_e[ec] < best else np.inf  # (c >= low)
             else:
                 s1 = 0.0
                 s2 = 0.0
