@@ -373,13 +373,27 @@ def _rv_floor(a):
 
 @njit(cache=True, inline="always")
 def _rv_excluded(a, room):
-    """Whether :func:`_rv_floor` exceeds ``room`` (the node cannot matter).
+    """Whether :func:`_rv_floor` exceeds ``room`` (the node cannot matter), without a division.
 
-    Its square roots are taken only where G_00 − 2 x G_01 + x² G_11 at the
-    range's end toward its vertex, an upper bound of the floor, does not
-    settle it.
+    With q the smallest G_00 − 2 x G_01 + x² G_11 on the range and
+    S = ‖v_2‖ + ‖v_3‖, the floor (√q − S)² exceeds room >= 0 exactly where
+    q > (S + √room)²; for a vertex inside the range q = G_00 − G_01²/G_11,
+    compared multiplied through by G_11. The three square roots do not wait
+    on one another (the sweep's latency, not its arithmetic, is what
+    costs), and are taken only where the quadratic's value at the range's
+    end toward its vertex, an upper bound of q, does not settle it.
     """
-    return a[0] - abs(a[1]) + a[7] > room and _rv_floor(a) > room
+    a0, a1, g11 = a[0], a[1], a[7]
+    end = a0 - abs(a1) + g11  # q where the vertex lies outside the range, else an upper bound of it
+    if not end > room:
+        return False
+    if room < 0.0:
+        return True  # (the floor is >= 0)
+    reach = math.sqrt(max(a[8], 0.0)) + math.sqrt(max(a[6], 0.0)) + math.sqrt(room)
+    reach *= reach
+    if abs(a1) < 2.0 * g11:  # vertex inside: q = a0 − a1²/(4 g11) > reach
+        return 4.0 * g11 * (a0 - reach) > a1 * a1
+    return end > reach
 
 
 @njit(cache=True, fastmath={"contract"})

@@ -562,6 +562,35 @@ def test_r_v_integral_at_a_node_matches_quadrature(bands, locus, grid_free):
 
 
 # ------------------------------------------------------------------ the kernel's sums
+def test_node_exclusion_is_the_floor_test(bands, locus, grid_free):
+    """The sweeps' division-free exclusion test says exactly whether _rv_floor exceeds the room.
+
+    Source: algebra (module docstring of redcorr._reddening_kernels, _rv_excluded: (sqrt(q) - S)^2 >
+    room <=> q > (S + sqrt(room))^2 for room >= 0, q compared multiplied through by G_11), no
+    source. Checked at every 5th node of the grid for three synthetic stars (near and far from their
+    best nodes), against rooms below, around and above each node's floor; rooms within 1e-9 of the
+    floor (relative) are left out, where rounding may decide either way.
+    """
+    from redcorr._reddening_kernels import _rv_excluded, _rv_floor, _rv_poly
+
+    mags, err = _stars(bands, locus, 3, 5)
+    stored = grid_free.model
+    idx = np.arange(6)
+    checked = 0
+    for m, e in zip(mags, err, strict=True):
+        w = 1.0 / (e**2 + grid_free.floor**2)
+        for t in range(0, stored.shape[0], 5):
+            for k in range(0, stored.shape[1], 5):
+                a = _rv_poly(m, w, idx, w.sum(), stored, t, k)
+                floor = _rv_floor(a)
+                for room in (-1.0, 0.0, 0.5 * floor, 0.999 * floor, 1.001 * floor, 2.0 * floor + 1.0):
+                    if abs(room - floor) <= 1e-9 * max(floor, 1.0):
+                        continue
+                    assert _rv_excluded(a, room) == (floor > room), (t, k, room, floor)
+                    checked += 1
+    assert checked > 10000
+
+
 def _stars(bands, locus, n, seed):
     """n synthetic stars as in the coverage test (R_V free), with their magnitudes and errors."""
     rng = np.random.default_rng(seed)
