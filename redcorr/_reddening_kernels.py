@@ -597,8 +597,8 @@ def _sweep(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, bt, be, qt, q
 
 
 @njit(cache=True, fastmath={"contract"})
-def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, r_range, ebv,
-              ref, g_e, g_t, r_1, r_2, res, rows, spans):  # fmt: skip
+def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se, old, r_range, ref,
+              g_e, g_t, r_1, r_2, res, rows, spans):  # fmt: skip
     """:func:`_sweep` with R_V free: at each (T, E(B−V)) node the R_V integral (:func:`_rv_node`).
 
     ``g_e``, ``g_t`` receive the marginal densities of E(B−V) and ln T,
@@ -838,8 +838,8 @@ def _spread(hist, mid, sd, mass):
     The normal is sampled at :data:`_NORMAL_Z` (every σ/2 to ±4σ), each
     point's share divided linearly between the two nearest nodes; points
     beyond the ends go to the end nodes. The mean is kept exactly (away
-    from the ends), the variance to 1 part in 10⁵ plus the linear sharing's
-    own (at most a quarter of a step squared).
+    from the ends), the variance to 4 parts in 10⁴ (the tails beyond 4σ)
+    plus the linear sharing's own (at most a quarter of a step squared).
     """
     n = hist.size
     for p in range(_NORMAL_Z.size):
@@ -1093,7 +1093,7 @@ def fit_stars(
             r_2 = np.zeros(n_e)
             while True:
                 ref = _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, be, qt, qe, st, se,
-                                old, rv, ebv, ref, g_e, g_t, r_1, r_2, res, rows, spans)  # fmt: skip
+                                old, rv, ref, g_e, g_t, r_1, r_2, res, rows, spans)  # fmt: skip
                 rough_e = _roughness(g_e, se)
                 rough_t = _roughness(g_t, st)
                 if not (st > 1 or se > 1) or (res[1] >= 0 and max(rough_e, rough_t) <= smooth):
