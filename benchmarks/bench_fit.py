@@ -146,7 +146,7 @@ def main():
     print(f"redcorr correct: {res['correct_s']:.2f} s")
     print(f"redcorr fit, R_V fixed: {res['fit_fixed_s']:.2f} s, ratio to correct {res['fixed_over_correct']:.1f}"
           " (target <= 20)")
-    print(f"redcorr fit, R_V free:  {res['fit_free_s']:.2f} s, ratio to fixed {res['free_over_fixed']:.1f}"
+    print(f"redcorr fit, R_V free:  {res['fit_free_s']:.2f} s, ratio to fixed {res['free_over_fixed']:.2f}"
           " (target <= 3)")
     print(f"of which the grid (once per run): fixed {grid_s['fixed']:.2f} s, free {grid_s['free']:.2f} s")
     print(json.dumps(res))
