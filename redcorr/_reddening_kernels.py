@@ -212,9 +212,38 @@ def block_deltas(model, slot, valid, bt, be):
     return out
 
 
+@njit(cache=True)
+def block_centres(model, slot, bt, be):
+    """The grid's terms at each block's centre, block by block (the nodes the bounds start from).
+
+    Returns
+    -------
+    ndarray, shape (n_tb, n_eb, n_b, n_c)
+        ``model[tc, slot[ec]]`` of the block (tb, eb) (centres as in
+        :func:`block_deltas`). The bounds of one star read every block's
+        centre: here they lie side by side (0.6 MB for the R_V-free grid's
+        blocks, against nodes spread over its 36 MB), and the R_V-free fit
+        took ~4 % less time.
+    """
+    n_t, n_e, n_b, n_c = model.shape
+    n_tb, n_eb = -(-n_t // bt), -(-n_e // be)
+    out = np.empty((n_tb, n_eb, n_b, n_c), model.dtype)
+    for tb in range(n_tb):
+        tc = _block_span(tb, bt, n_t)[2]
+        for eb in range(n_eb):
+            out[tb, eb] = model[tc, slot[_block_span(eb, be, n_e)[2]]]
+    return out
+
+
 def block_bounds(model, slot, valid, bt, be):
-    """The ``deltas`` of :func:`fit_stars`: :func:`block_deltas` at the block sizes × :data:`SPLIT`, and at them."""
-    return block_deltas(model, slot, valid, bt * SPLIT, be * SPLIT), block_deltas(model, slot, valid, bt, be)
+    """The ``blocks`` of :func:`fit_stars`: (deltas, centres) of the blocks × :data:`SPLIT`, and of the blocks.
+
+    Each level pairs :func:`block_deltas` with :func:`block_centres` at its
+    block sizes: the coarse level's are :data:`SPLIT` times ``bt``, ``be``.
+    """
+    return tuple(
+        (block_deltas(model, slot, valid, bt * k, be * k), block_centres(model, slot, bt * k, be * k)) for k in (SPLIT, 1)
+    )
 
 
 @njit(cache=True)
@@ -397,8 +426,8 @@ def _rv_excluded(a, room):
 
 
 @njit(cache=True, fastmath={"contract"})
-def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t, k_e, split):
-    """Lower bounds of χ² + prior penalty in blocks (sizes bt, be; deltas from :func:`block_bounds`).
+def _bounds(m, w, idx, s0, deltas, centres, pen_t, pen_e, bt, be, lower, k_t, k_e, split):
+    """Lower bounds of χ² + prior penalty in blocks (sizes bt, be; deltas, centres: a level of :func:`block_bounds`).
 
     The blocks are those of indices k·split to (k + 1)·split − 1 along T and
     E(B−V) (k = k_t, k_e); ``lower`` receives their bounds (inf: every node
@@ -409,9 +438,9 @@ def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t
     smallest χ² + penalty found at their centres.
     """
     nb = idx.size
-    n_t, n_e = model.shape[0], model.shape[1]
+    n_t, n_e = pen_t.size, pen_e.size
     n_tb, n_eb = deltas.shape[0], deltas.shape[1]
-    free = model.shape[3] > 1
+    free = centres.shape[3] > 1
     best = np.inf
     for tb in range(k_t * split, min((k_t + 1) * split, n_tb)):
         t0, t1, tc = _block_span(tb, bt, n_t)
@@ -433,14 +462,14 @@ def _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, deltas, bt, be, lower, k_t
             for k in range(nb):
                 rad += w[k] * deltas[tb, eb, idx[k]]
             if free:  # a lower bound, and χ² at the vertex of the quadratic part (a value reached)
-                a = _rv_poly(m, w, idx, s0, model, tc, slot[ec])
+                a = _rv_poly(m, w, idx, s0, centres, tb, eb)
                 low = _rv_floor(a)
                 c = _poly(a, _rv_vertex(a))[0] if low + pen_t[tc] + pen_e[ec] < best else np.inf  # (c >= low)
             else:
                 s1 = 0.0
                 s2 = 0.0
                 for k in range(nb):
-                    d = m[k] - model[tc, slot[ec], idx[k], 0]
+                    d = m[k] - centres[tb, eb, idx[k], 0]
                     s1 += w[k] * d
                     s2 += w[k] * d * d
                 c = low = max(s2 - s1 * s1 / s0, 0.0)
@@ -605,8 +634,10 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
     ``r_1`` and ``r_2`` the same density of E(B−V) times the conditional
     mean of R_V and of R_V² (for :func:`_column_marginals`), all relative
     to exp(−ref/2). A node whose smallest χ² + penalty exceeds ``limit``,
-    or the best so far by more than ``cut``, is left out. ``old``, ``res``
-    and the returned ``ref`` as in :func:`_sweep`.
+    or the best so far by more than ``cut``, is left out, and so are the
+    blocks whose bound does (taken row by row, as the best improves: the
+    R_V-free fit ~2 % faster). ``old``, ``res`` and the returned ``ref`` as
+    in :func:`_sweep`.
     """
     r_c = 0.5 * (r_range[0] + r_range[1])
     r_h = 0.5 * (r_range[1] - r_range[0])
@@ -616,7 +647,8 @@ def _sweep_rv(m, w, idx, s0, model, slot, pen_t, pen_e, lower, limit, cut, bt, b
         p_t = pen_t[t]
         q_t = qt[t] * st
         row_sum = 0.0
-        for sp in range(_row_spans(lower, tb, limit, be, model.shape[1], se, old[1], t_old, spans)):
+        kept = min(limit, tot_min + cut)  # (a block whose bound exceeds it holds no node that counts)
+        for sp in range(_row_spans(lower, tb, kept, be, model.shape[1], se, old[1], t_old, spans)):
             for e in range(spans[sp, 0], spans[sp, 1], spans[sp, 2]):
                 pen = p_t + pen_e[e]
                 if pen == np.inf:
@@ -949,7 +981,7 @@ def _roughness(g, step):
 
 @njit(cache=True, parallel=True)
 def fit_stars(
-    mag, weight, model, slot, valid, teff, ebv, rv, qt, qe, av_step, n_av, deltas, bt, be,
+    mag, weight, model, slot, valid, teff, ebv, rv, qt, qe, av_step, n_av, blocks, bt, be,
     t_mean, t_sigma, e_mean, e_sigma, e_upper, cut, share, dip, strides, smooth, out,
 ):
     """Posterior summaries of each star on the grid (one row of ``out`` per star).
@@ -975,8 +1007,9 @@ def fit_stars(
     av_step, n_av : float, int
         The A_V axis of the A_V marginal at the finest E(B−V) step (R_V
         free): 0, av_step, ... (n_av nodes).
-    deltas : (ndarray, ndarray)
-        :func:`block_bounds` of the grid: the coarse blocks' and the blocks'.
+    blocks : tuple
+        :func:`block_bounds` of the grid: the coarse blocks' and the blocks'
+        (deltas, centres).
     bt, be : int
         Block sizes along T and E(B−V) (the coarse blocks': × :data:`SPLIT`).
     t_mean, t_sigma, e_mean, e_sigma, e_upper : ndarray, shape (n,)
@@ -1023,7 +1056,8 @@ def fit_stars(
     """
     n, n_b = mag.shape
     n_t, n_e = model.shape[0], model.shape[1]
-    n_tb, n_eb = deltas[1].shape[0], deltas[1].shape[1]
+    (c_deltas, c_centres), (deltas, centres) = blocks  # (outside the threads' loop: numba passes it arrays only)
+    n_tb, n_eb = deltas.shape[0], deltas.shape[1]
     free = model.shape[3] > 1
     h_e = ebv[1] - ebv[0]
     h_t = math.log(teff[1] / teff[0])
@@ -1067,16 +1101,15 @@ def fit_stars(
                 pen_e[e] = z * z
         # pass 1: a lower bound in every coarse block and the best centre, then the same in the
         # (fine) blocks of each coarse block that may matter
-        coarse, fine = deltas
-        c_lower = np.empty(coarse.shape[:2])
-        best = _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, coarse, bt * SPLIT, be * SPLIT, c_lower, 0, 0,
+        c_lower = np.empty(c_deltas.shape[:2])
+        best = _bounds(m, w, idx, s0, c_deltas, c_centres, pen_t, pen_e, bt * SPLIT, be * SPLIT, c_lower, 0, 0,
                        max(c_lower.shape[0], c_lower.shape[1]))  # fmt: skip
         lower = np.full((n_tb, n_eb), np.inf)
         c_limit = best + cut
         for ctb in range(c_lower.shape[0]):
             for ceb in range(c_lower.shape[1]):
                 if c_lower[ctb, ceb] <= c_limit:
-                    fine_best = _bounds(m, w, idx, s0, model, slot, pen_t, pen_e, fine, bt, be, lower, ctb, ceb, SPLIT)
+                    fine_best = _bounds(m, w, idx, s0, deltas, centres, pen_t, pen_e, bt, be, lower, ctb, ceb, SPLIT)
                     best = min(best, fine_best)
         limit = best + cut  # inf when no centre was allowed: then nothing is skipped
         # pass 2: sweeps of the kept blocks, strides halved until they resolve the posterior

@@ -378,7 +378,7 @@ class ReddeningFitGrid:
         order = kernels.sweep_order(self.ebv.size, self._strides[1])
         self._slot = np.argsort(order)
         self._stored = self._magnitudes(r_v_nodes, curves, intrinsic, order, extrapolate)
-        self._deltas = kernels.block_bounds(self._stored, self._slot, self.valid, *_BLOCK)
+        self._blocks = kernels.block_bounds(self._stored, self._slot, self.valid, *_BLOCK)
         self.law = curves[0].name
 
     def _magnitudes(self, r_v_nodes, curves, intrinsic, order, extrapolate):
@@ -484,7 +484,7 @@ class ReddeningFitGrid:
                 weight = np.where(usable, 1.0 / (np.where(usable, ee, 1.0) ** 2 + self.floor**2), 0.0)
             kernels.fit_stars(
                 np.where(usable, mm, 0.0), weight, self._stored, self._slot, self.valid, self.teff, self.ebv, self.r_v,
-                qt, qe, av, n_av, self._deltas, *self._block,
+                qt, qe, av, n_av, self._blocks, *self._block,
                 t_mean[sl], t_sigma[sl], e_mean[sl], e_sigma[sl], e_up[sl],
                 PRUNE_CHI2, BIMODAL_SHARE, BIMODAL_DIP, self._strides, SMOOTH, out[sl],
             )  # fmt: skip

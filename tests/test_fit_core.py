@@ -617,7 +617,7 @@ def test_pruning_blocks_do_not_change_the_posterior(r_v_free, bands, locus, grid
     grid = grid_free if r_v_free else grid_fixed
     other = copy.copy(grid)
     other._block = (4, 4)
-    other._deltas = kernels.block_bounds(grid._stored, grid._slot, grid.valid, 4, 4)
+    other._blocks = kernels.block_bounds(grid._stored, grid._slot, grid.valid, 4, 4)
     assert grid._block == (8, 8)
     mags, err = _stars(bands, locus, 40, 7)
     a, b = quiet_fit(grid, mags, err), quiet_fit(other, mags, err)
