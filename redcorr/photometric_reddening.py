@@ -411,7 +411,7 @@ class ReddeningFitGrid:
         x (module docstring, "R_V free"). Stored with its E(B−V) nodes in the
         order the fit visits them.
         """
-        return self._stored[:, self._slot]
+        return np.take(self._stored, self._slot, axis=1)
 
     @property
     def r_v_free(self):
