@@ -83,12 +83,12 @@ R_V over that node's T_eff nodes (A_V = E(B−V) R_V, the same normal
 scaled). Against a plain sum over the grid with the law at R_V every 0.1
 (tests/test_fit_core.py) the means agree within 0.03 posterior std, the
 stds within 1.5 % and the R_V 16/50/84 % points typically within 0.03
-std. The fit costs ≈ 3× the R_V-fixed one (2.9–3.1;
+std. The fit costs ≈ 2.6× the R_V-fixed one (2.5–2.7;
 benchmarks/bench_fit.py: dwarf stars in B…Ks, through the file, its
 grid build included; 7–8× with R_V on nodes 0.8 apart, the model linear
 between them): each node sums fourteen products per band instead of two
-and integrates over R_V, and the grid is eight times larger (four terms,
-float64).
+(four terms at a time, as vectors) and integrates over R_V, and the grid
+is eight times larger (four terms, float64).
 
 The prior is flat in ln T_eff (the locus' own parameter: every part of
 the locus gets the same weight per unit ln T), flat in E(B−V) ≥ 0 up to
