@@ -84,8 +84,8 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
     Each band is put once on its quadrature grid (:func:`redcorr.extinction.band_quadrature`),
     the grids are padded to a common length, and the whole
     (band, temperature, A_V) cube is one batched matrix product with
-    wavelength as the contracted, last axis:
-    N[b,t,a] = Σ_j W[b,t,j] E[b,a,j], W = q B_λ(T), E = 10^(−0.4 A_V (r − r_min)).
+    wavelength as the contracted axis:
+    N[b,t,a] = Σ_j W[b,t,j] E[b,j,a], W = q B_λ(T), E = 10^(−0.4 A_V (r − r_min)).
     The A_V = 0 column holds the limit of :func:`redcorr.extinction.band_ratio`.
     """
     if isinstance(bands, Band):
@@ -115,11 +115,12 @@ def coefficient_grid(curve, bands, temperatures=None, a_v=None, extrapolate=Fals
     den = w.sum(-1)  # (B, T)
     ratio0 = np.einsum("btn,bn->bt", w, r) / den
     r_min = r.min(-1)
-    e = 10.0 ** (-0.4 * avs[None, :, None] * (r - r_min[:, None])[:, None, :])  # (B, A, n)
+    # 10^(−0.4 A_V (r − r_min)) through exp (a third of the time of **), (B, n, A) as matmul takes it
+    e = np.exp((-0.4 * np.log(10.0)) * (r - r_min[:, None])[:, :, None] * avs)
     # A_b = A_V r_min − 2.5 log10(num / den), then A_b / A_V, in place in num's (B, T, A) array: the
     # cube can be tens of MB (the per-star fit's grids), and each temporary of that size costs its
     # allocation and first touch
-    ratio = np.matmul(w, e.transpose(0, 2, 1))  # num, (B, T, A)
+    ratio = np.matmul(w, e)  # num, (B, T, A)
     ratio /= den[..., None]
     with np.errstate(divide="ignore"):
         np.log10(ratio, out=ratio)
