@@ -126,8 +126,10 @@ bit  value  name              meaning
 0    1      no_fit            no posterior: fewer than 2 usable bands, or the priors
                               and the locus' cover leave no grid node (outputs NaN)
 1    2      few_bands         fewer than 2 usable bands (finite magnitude, error > 0)
-2    4      teff_edge         the posterior's mode lies at the first or last T_eff
-                              node, or the T_eff prior's mean lies outside the locus
+2    4      teff_edge         the posterior's mode lies at an end of the T_eff range
+                              where the locus has every band the star uses
+                              (:meth:`ReddeningFitGrid.teff_cover`), or the T_eff
+                              prior's mean lies outside it
 3    8      bimodal           the E(B−V) marginal splits into two parts each holding
                               ≥ 10 % of the mass, with a dip between them below half
                               the lower peak
@@ -295,6 +297,12 @@ class ReddeningFitGrid:
     extrapolate : bool
         Let the curve extrapolate beyond its wavelengths (with a warning).
 
+    Attributes
+    ----------
+    band_teff : ndarray, shape (n_band, 2)
+        Each band's first and last locus T_eff (K): a star's fit ranges over
+        the part all its bands share (:meth:`teff_cover`).
+
     Notes
     -----
     The locus is interpolated linearly in ln T_eff; a T_eff node between
@@ -350,6 +358,7 @@ class ReddeningFitGrid:
                 f"floor={shown(np.asarray(floor))} must be one value or one per band, each finite and >= 0"
             )
         self.floor = fl
+        self.band_teff = np.array([teff[np.isfinite(col)][[0, -1]] for col in mags.T])
         ebv_max = check_positive("ebv_max", ebv_max)
         ebv_step = check_positive("ebv_step", ebv_step)
         ln_teff_step = check_positive("ln_teff_step", ln_teff_step)
@@ -418,6 +427,44 @@ class ReddeningFitGrid:
         """bool: whether R_V is an unknown (``r_v`` is then the range)."""
         return self.r_v.size > 1
 
+    def _checked(self, mags, errors):
+        """``mags`` and ``errors`` as float arrays of shape (n, n_band), and which bands each star can use."""
+        n_band = len(self.bands)
+        m = _float_array("mags", mags, 2)
+        err = _float_array("errors", errors, 2)
+        if m.shape[1:] != (n_band,) or err.shape != m.shape:
+            raise InputError(
+                f"mags {m.shape} and errors {err.shape} must both have shape (n_stars, {n_band}) for the grid's bands"
+            )
+        with np.errstate(invalid="ignore"):
+            usable = np.isfinite(m) & np.isfinite(err) & (err > 0)
+        return m, err, usable
+
+    def teff_cover(self, mags, errors):
+        """The T_eff range over which the locus gives every band each star can use (its fit's T_eff range).
+
+        Parameters
+        ----------
+        mags, errors : array_like, shape (n, n_band)
+            As for :meth:`fit` (a band with a NaN magnitude or an error
+            that is NaN or <= 0 is not used).
+
+        Returns
+        -------
+        low, high : ndarray, shape (n,)
+            K: from the hottest of the used bands' first locus nodes to the
+            coolest of their last; NaN where that is empty (or no band is
+            used). A gap inside a band's nodes is not seen here.
+        """
+        return self._cover(self._checked(mags, errors)[2])
+
+    def _cover(self, usable):
+        """:meth:`teff_cover` from the stars' usable bands (bool, shape (n, n_band))."""
+        low = np.where(usable, self.band_teff[:, 0], -np.inf).max(axis=1)
+        high = np.where(usable, self.band_teff[:, 1], np.inf).min(axis=1)
+        ok = usable.any(axis=1) & (low <= high)
+        return np.where(ok, low, np.nan), np.where(ok, high, np.nan)
+
     def fit(self, mags, errors, *, teff_prior=None, ebv_upper=None, ebv_prior=None, chunk_rows=CHUNK_ROWS,
             warn=True):
         """Posterior summaries of each star's E(B−V), A_V, T_eff (and R_V).
@@ -452,13 +499,7 @@ class ReddeningFitGrid:
             Once, with the number of stars carrying each flag that could
             mislead (all flags but ``few_bands``, which implies ``no_fit``).
         """
-        n_band = len(self.bands)
-        m = _float_array("mags", mags, 2)
-        err = _float_array("errors", errors, 2)
-        if m.shape[1:] != (n_band,) or err.shape != m.shape:
-            raise InputError(
-                f"mags {m.shape} and errors {err.shape} must both have shape (n_stars, {n_band}) for the grid's bands"
-            )
+        m, err, usable = self._checked(mags, errors)
         n = m.shape[0]
         chunk_rows = int(chunk_rows)
         if chunk_rows < 1:
@@ -478,17 +519,15 @@ class ReddeningFitGrid:
         qe = _trapezoid_weights(self.ebv)
         for lo in range(0, n, chunk_rows):
             sl = slice(lo, min(lo + chunk_rows, n))
-            mm, ee = m[sl], err[sl]
-            with np.errstate(invalid="ignore", divide="ignore"):
-                usable = np.isfinite(mm) & np.isfinite(ee) & (ee > 0)
-                weight = np.where(usable, 1.0 / (np.where(usable, ee, 1.0) ** 2 + self.floor**2), 0.0)
+            use = usable[sl]
+            weight = np.where(use, 1.0 / (np.where(use, err[sl], 1.0) ** 2 + self.floor**2), 0.0)
             kernels.fit_stars(
-                np.where(usable, mm, 0.0), weight, self._stored, self._slot, self.valid, self.teff, self.ebv, self.r_v,
+                np.where(use, m[sl], 0.0), weight, self._stored, self._slot, self.valid, self.teff, self.ebv, self.r_v,
                 qt, qe, av, n_av, self._blocks, *self._block,
                 t_mean[sl], t_sigma[sl], e_mean[sl], e_sigma[sl], e_up[sl],
                 PRUNE_CHI2, BIMODAL_SHARE, BIMODAL_DIP, self._strides, SMOOTH, out[sl],
             )  # fmt: skip
-        result = ReddeningFit(self, out, t_mean)
+        result = ReddeningFit(self, out, t_mean, self._cover(usable))
         if warn:
             warn_flagged(result.counts() | {"any": int(np.count_nonzero(result.flags))}, n, stacklevel=2)
         return result
@@ -534,7 +573,7 @@ class ReddeningFit:
         Bit mask (:data:`FIT_FLAGS`).
     """
 
-    def __init__(self, grid, out, teff_prior_mean):
+    def __init__(self, grid, out, teff_prior_mean, teff_cover):
         from redcorr._reddening_kernels import AV, BIMODAL, CHI2, EBV, FITTED, LNT_STD, MAP_T, NBANDS, RV, STATS, TEFF
 
         def block(k):
@@ -548,9 +587,12 @@ class ReddeningFit:
         flags = np.zeros(out.shape[0], dtype=np.int64)
         flags[~fitted] |= FIT_FLAGS["no_fit"]
         flags[self.n_bands < 2] |= FIT_FLAGS["few_bands"]
-        edge_t = np.isin(out[:, MAP_T], (0, grid.teff.size - 1))
-        outside = (teff_prior_mean < grid.teff[0]) | (teff_prior_mean > grid.teff[-1])
-        flags[edge_t | outside] |= FIT_FLAGS["teff_edge"]
+        low, high = teff_cover
+        mode = out[:, MAP_T]  # a node index, or NaN/−1 (no fit)
+        t_mode = np.where(mode >= 0, grid.teff[np.clip(np.nan_to_num(mode), 0, grid.teff.size - 1).astype(int)], np.nan)
+        step = grid.teff[1] / grid.teff[0]  # (a node is at an end if the next one beyond it lies outside)
+        edge = (t_mode / step < low) | (t_mode * step > high) | (teff_prior_mean < low) | (teff_prior_mean > high)
+        flags[edge] |= FIT_FLAGS["teff_edge"]
         flags[out[:, BIMODAL] == 1.0] |= FIT_FLAGS["bimodal"]  # exact 0.0/1.0, as above
         n_unknown = 3 if grid.r_v_free else 2
         dof = self.n_bands - 1 - n_unknown

@@ -279,6 +279,23 @@ def test_teff_prior_narrows_and_flags_prior_beyond_table(work, catalog, fitted):
     assert "warning" in err and "teff_edge" in err, err
 
 
+def test_strict_refuses_teff_prior_outside_the_bands_rows(work):
+    """--strict: a T_eff prior of 1000 K is refused in one line naming the column, value, line and range.
+
+    1000 K lies inside the packaged table (250-44,900 K) but below its rows with B magnitudes (from M9V,
+    2380 K; Pecaut & Mamajek 2013, Table 5, as packaged), one of the bands used.
+    """
+    frame = stars(4, seed=8)
+    frame.loc[2, "teff_obs"] = 1000.0
+    src = work / "cool_prior.csv"
+    frame.to_csv(src, index=False)
+    status, _, err = run(["fit", src, work / "cool_prior.parquet", *BAND_ARGS, "--teff-col", "teff_obs",
+                          "--teff-err-col", "e_teff_obs", "--strict"])
+    line = error_line(status, err)
+    assert "teff_obs" in line and "1000.0" in line and "line 4" in line and "2380-" in line, line
+    assert not (work / "cool_prior.parquet").exists()
+
+
 # ------------------------------------------------------------------------------------------- 6. map priors
 MAP_EBV = 0.05
 

@@ -2,7 +2,8 @@
 
 The locus used here is invented and smooth: the synthetic AB magnitudes of blackbodies
 (redcorr.photometry.synthetic_ab) at 40 temperatures, 3000-30000 K, through Bessell U, B, V, I and
-2MASS J, Ks (speclite's curves). The published dwarf table is another helper's work.
+2MASS J, Ks (speclite's curves). The fit with the published dwarf table: tests/test_fit_table.py and
+tests/test_cli_fit.py.
 
 Grids in the tests: E(B-V) steps of 0.005 mag up to 1.5 (the flat prior of the coverage test's
 truths), ln T_eff steps of 0.01, R_V free over 2.3-5.5 (the model a cubic in R_V, integrated over it

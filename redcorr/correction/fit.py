@@ -286,8 +286,8 @@ class CatalogFit(TableJob):
                 lab: {"magnitude": m, "error": e}
                 for lab, m, e in zip(self.labels, self.mag_cols, self.err_cols, strict=True)
             },
-            "colours": {"table": self.locus.name, "citation": self.locus.citation,
-                        "teff_K": [float(self.grid.teff[0]), float(self.grid.teff[-1])]},
+            "colours": {"table": self.locus.name, "citation": self.locus.citation,  # teff_K: where it has every band
+                        "teff_K": [float(self.grid.band_teff[:, 0].max()), float(self.grid.band_teff[:, 1].min())]},
             "floor_mag": [float(f) for f in self.grid.floor],
             "ebv_max": float(self.grid.ebv[-1]),
             "teff_prior": [plan.t_col, plan.t_err_col] if plan.t_col else None,
@@ -325,6 +325,13 @@ class CatalogFit(TableJob):
             teff, teff_err = self._numeric(table, plan.t_col, read), self._numeric(table, plan.t_err_col, read)
             self._refuse(teff_err <= 0, plan.t_err_col, teff_err, "an error > 0 K is needed")
             priors["teff_prior"] = (teff, np.where(teff_err > 0, teff_err, np.nan))  # no prior from such a row
+            if self.strict:  # (else flagged teff_edge by the fit)
+                low, high = self.grid.teff_cover(mags, errs)
+                outside = (teff_err > 0) & ((teff < low) | (teff > high))
+                if np.any(outside):
+                    k = int(np.flatnonzero(outside)[0])
+                    self._refuse(outside, plan.t_col, teff, f"the colour table has the row's bands for "
+                                 f"{low[k]:.0f}-{high[k]:.0f} K only")
         flags = np.zeros(n, np.int64)
         if plan.red_kind == "map":
             no_prior = self._map_prior(table, read, priors)
