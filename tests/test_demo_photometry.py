@@ -105,3 +105,24 @@ def test_demo_photometry_matches_the_fit_model_within_its_noise(stars):
     assert abs(z.mean()) < 0.1
     assert 0.85 < np.sqrt(np.mean(z**2)) < 1.15
     assert np.max(np.abs(z)) < 5.5
+
+
+def test_demo_fit_section_shows_stars_in_front_of_the_cloud(demo_sections):
+    """The fit section of ``redcorr demo``: stars in front of the cloud keep a small E(B-V), unlike the map.
+
+    Self-consistency with the invented truth in the file (demo/make_photometry.py): each shown star's
+    fit lies within 3 of its errors of the truth (the noise and the 0.015-mag scatter the errors leave
+    out); a star in front of the cloud (< 400 pc) has under a fifth of the 2D map's whole column there.
+    """
+    [out] = [text for title, text in demo_sections.items() if "from its own photometry" in title]
+    rows = [line.split() for line in out.splitlines() if line.startswith("BF-")]
+    # columns: star, where ("in front" / "behind": two words or one), E(B-V) ± err, T_eff ± err, true, map
+    front = [r for r in rows if r[1:3] == ["in", "front"]]
+    behind = [r for r in rows if r[1] == "behind"]
+    assert len(front) >= 1 and len(behind) >= 1, out
+    for row in front + behind:
+        fit, err, true, column = float(row[-8]), float(row[-6]), float(row[-2]), float(row[-1])
+        assert abs(fit - true) < 3.0 * err, row
+        if row in front:
+            assert fit < 0.2 * column, row
+    assert "shrinks to 0." in out  # the 3D map's prior narrows the errors (a median ratio below 1)
