@@ -54,8 +54,8 @@ def test_table_rows_behind_known_reddening_are_recovered(table, bands, grid, ebv
     """The model meets the magnitudes (chi2_min < 0.5), and E(B-V) and T_eff have the truth within 1 std.
 
     Without noise the likelihood peaks at the truth, up to the model's steps (grid nodes every 0.005
-    in E(B-V) and 0.01 in ln T_eff, between which the table's colours change by < 0.01 mag, against
-    errors of 0.022 mag with the floor: chi2 < 0.5). The posterior is wide along the degeneracy of
+    in E(B-V) and 0.01 in ln T_eff, against errors of 0.022 mag with the floor: chi2 < 0.5; measured
+    at most 0.11). The posterior is wide along the degeneracy of
     temperature and reddening and not symmetric, so its median is not the truth; measured: largest
     0.8 std off (F0V), hence 1 std.
     """
