@@ -59,7 +59,7 @@ from numba import njit, prange, types
 from numba.core import cgutils
 from numba.extending import intrinsic
 
-__all__ = ["block_bounds", "block_deltas", "fit_stars", "store_grid", "sweep_order", "N_OUT", "SPLIT"]
+__all__ = ["block_bounds", "block_centres", "block_deltas", "fit_stars", "store_grid", "sweep_order", "N_OUT", "SPLIT"]
 
 # Columns of fit_stars' output rows.
 STATS = ("mean", "std", "p2.5", "p16", "p50", "p84", "p97.5")
@@ -340,8 +340,7 @@ def _rv_sums(typingctx, m, w, idx, model, t, s):
     .. [1] numba documentation, "High-level extension API",
        ``numba.extending.intrinsic`` (version 0.68).
     """
-    vectors = (m, w, idx)
-    if not (all(isinstance(a, types.Array) and a.ndim == 1 for a in vectors) and isinstance(model, types.Array)
+    if not (all(isinstance(a, types.Array) and a.ndim == 1 for a in (m, w, idx)) and isinstance(model, types.Array)
             and model.ndim == 4 and model.layout == "C" and model.dtype in (types.float32, types.float64)):  # fmt: skip
         return None  # (the four terms of a band must lie side by side)
     sig = types.UniTuple(types.float64, 14)(m, w, idx, model, t, s)

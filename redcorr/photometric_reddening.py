@@ -588,8 +588,7 @@ class ReddeningFit:
         flags[~fitted] |= FIT_FLAGS["no_fit"]
         flags[self.n_bands < 2] |= FIT_FLAGS["few_bands"]
         low, high = teff_cover
-        mode = out[:, MAP_T]  # a node index, or NaN/−1 (no fit)
-        t_mode = np.where(mode >= 0, grid.teff[np.clip(np.nan_to_num(mode), 0, grid.teff.size - 1).astype(int)], np.nan)
+        t_mode = np.where(fitted, grid.teff[np.where(fitted, out[:, MAP_T], 0).astype(int)], np.nan)  # (a node index)
         step = grid.teff[1] / grid.teff[0]  # (a node is at an end if the next one beyond it lies outside)
         edge = (t_mode / step < low) | (t_mode * step > high) | (teff_prior_mean < low) | (teff_prior_mean > high)
         flags[edge] |= FIT_FLAGS["teff_edge"]
